@@ -1,0 +1,288 @@
+/**
+ * The watchdog: the last word on every recommended twist.
+ *
+ * It latches a safe hold when any check fails, records machine-readable reasons (check,
+ * input, measured value, limit, time), keeps the recommended twist exactly zero while held,
+ * and releases only on an explicit reset after every condition has been clear for
+ * `release_clear_s`. It is a software monitor, not a safety-rated function (see SAFETY.md).
+ *
+ * Per-sample work allocates nothing: trip records are preallocated and reused.
+ */
+import type { WatchdogParams } from '../params/config.js';
+
+/** Check identifiers, as published in antiphon/msg/WatchdogTrip.check. */
+export const CHECKS = [
+  'force_raw',
+  'torque_raw',
+  'force_correction',
+  'torque_correction',
+  'joint_velocity',
+  'twist_linear',
+  'twist_angular',
+  'stale_input',
+  'non_finite',
+  'time_backwards',
+  'impact',
+] as const;
+export type CheckName = (typeof CHECKS)[number];
+export const CHECK = Object.fromEntries(CHECKS.map((c, k) => [c, k])) as { readonly [K in CheckName]: number };
+
+/** Input streams whose freshness is watched. */
+export const INPUTS = ['wrench', 'joint_states', 'tool_pose', 'zone_view'] as const;
+export type InputName = (typeof INPUTS)[number];
+export const INPUT = { wrench: 0, joint_states: 1, tool_pose: 2, zone_view: 3 } as const;
+
+export interface Trip {
+  check: number;
+  /** Input or channel, e.g. `wrench`, `joint_states[2]`. */
+  input: string;
+  value: number;
+  limit: number;
+  t_s: number;
+}
+
+const MAX_TRIPS = CHECKS.length * 2;
+const JOINT_LABELS = Array.from({ length: 64 }, (_, k) => `joint_states[${k}]`);
+
+/** What the watchdog looks at on each wrench sample. Filled by the arm step; never reallocated. */
+export interface WatchdogInputs {
+  t_s: number;
+  compensated: Float64Array;
+  correction: Float64Array;
+  impactFlag: boolean;
+  impactScore: number;
+  jointVelocity: Float64Array;
+  jointCount: number;
+  /** Whether the non-wrench inputs hold non-finite values (checked where they arrive). */
+  jointFinite: boolean;
+  poseFinite: boolean;
+  /** Last arrival time per input (s), NaN when never received. */
+  lastSeen: Float64Array;
+  /** Which inputs are required (1) or ignored (0), per INPUTS order. */
+  required: Uint8Array;
+}
+
+export class Watchdog {
+  private readonly p: WatchdogParams;
+  private readonly staleLimit: Float64Array;
+  private readonly tripPool: Trip[];
+  private tripCount = 0;
+  private readonly seen = new Uint8Array(CHECKS.length);
+  private lastT = Number.NEGATIVE_INFINITY;
+  private lastBadT = Number.NaN;
+  private firstT = Number.NaN;
+  /** True while the latched safe hold is in force. */
+  held = false;
+  /** Seconds every condition has been clear (0 while any fails). */
+  clearFor_s = 0;
+  /** True until every required input has arrived once; the twist is zero meanwhile (not latched). */
+  waitingForInputs = true;
+
+  constructor(p: WatchdogParams) {
+    this.p = p;
+    this.staleLimit = Float64Array.of(p.stale_after_s.wrench, p.stale_after_s.joint_states, p.stale_after_s.tool_pose, p.stale_after_s.zone_view);
+    this.tripPool = Array.from({ length: MAX_TRIPS }, () => ({ check: 0, input: '', value: 0, limit: 0, t_s: 0 }));
+  }
+
+  /** Current reasons (oldest first); the array is reused, copy it to keep it. */
+  get trips(): readonly Trip[] {
+    return this.tripPool.slice(0, this.tripCount);
+  }
+  tripAt(k: number): Trip {
+    return this.tripPool[k]!;
+  }
+  get tripsLength(): number {
+    return this.tripCount;
+  }
+
+  /** True when a reset would release the hold now. */
+  get readyToRelease(): boolean {
+    return this.held && this.clearFor_s >= this.p.release_clear_s;
+  }
+
+  private trip(check: number, input: string, value: number, limit: number, t: number): void {
+    this.held = true;
+    this.lastBadT = t;
+    if (this.seen[check] === 1) {
+      // Keep the first occurrence, but raise the recorded value to the worst seen.
+      for (let k = 0; k < this.tripCount; k++) {
+        const r = this.tripPool[k]!;
+        if (r.check === check && Math.abs(value) > Math.abs(r.value)) {
+          r.value = value;
+          r.input = input;
+        }
+      }
+      return;
+    }
+    this.seen[check] = 1;
+    if (this.tripCount >= MAX_TRIPS) return;
+    const r = this.tripPool[this.tripCount++]!;
+    r.check = check;
+    r.input = input;
+    r.value = value;
+    r.limit = limit;
+    r.t_s = t;
+  }
+
+  /** Check the inputs of one sample. Returns true when the twist must be zero. */
+  checkInputs(x: WatchdogInputs): boolean {
+    const t = x.t_s;
+    const p = this.p;
+    let bad = false;
+    if (!Number.isFinite(t)) {
+      this.trip(CHECK.non_finite, 'time', t, 0, this.lastT);
+      return true;
+    }
+    if (t < this.lastT) {
+      this.trip(CHECK.time_backwards, 'time', t - this.lastT, 0, t);
+      bad = true;
+    } else {
+      this.lastT = t;
+    }
+    // Non-finite values anywhere in the wrench or the other inputs.
+    let finite = true;
+    for (let k = 0; k < 6; k++) if (!Number.isFinite(x.compensated[k]!)) finite = false;
+    if (!finite) {
+      this.trip(CHECK.non_finite, 'wrench', Number.NaN, 0, t);
+      bad = true;
+    }
+    if (!x.jointFinite) {
+      this.trip(CHECK.non_finite, 'joint_states', Number.NaN, 0, t);
+      bad = true;
+    }
+    if (!x.poseFinite) {
+      this.trip(CHECK.non_finite, 'tool_pose', Number.NaN, 0, t);
+      bad = true;
+    }
+    if (finite) {
+      const w = x.compensated;
+      const c = x.correction;
+      const f = Math.hypot(w[0]!, w[1]!, w[2]!);
+      const tq = Math.hypot(w[3]!, w[4]!, w[5]!);
+      const fc = Math.hypot(c[0]!, c[1]!, c[2]!);
+      const tc = Math.hypot(c[3]!, c[4]!, c[5]!);
+      if (f > p.force_limit_n) { this.trip(CHECK.force_raw, 'wrench', f, p.force_limit_n, t); bad = true; }
+      if (tq > p.torque_limit_nm) { this.trip(CHECK.torque_raw, 'wrench', tq, p.torque_limit_nm, t); bad = true; }
+      if (fc > p.correction_force_limit_n) { this.trip(CHECK.force_correction, 'wrench', fc, p.correction_force_limit_n, t); bad = true; }
+      if (tc > p.correction_torque_limit_nm) { this.trip(CHECK.torque_correction, 'wrench', tc, p.correction_torque_limit_nm, t); bad = true; }
+      if (x.impactFlag && p.on_impact === 'hold') { this.trip(CHECK.impact, 'wrench', x.impactScore, 1, t); bad = true; }
+    }
+    for (let j = 0; j < x.jointCount; j++) {
+      const qd = Math.abs(x.jointVelocity[j]!);
+      if (qd > p.joint_velocity_limit_rad_s) {
+        this.trip(CHECK.joint_velocity, JOINT_LABELS[j] ?? 'joint_states', qd, p.joint_velocity_limit_rad_s, t);
+        bad = true;
+      }
+    }
+    // Freshness: an input never seen keeps the arm waiting (not latched); once seen, a gap trips.
+    let waiting = false;
+    for (let k = 0; k < INPUTS.length; k++) {
+      if (x.required[k] === 0) continue;
+      const last = x.lastSeen[k]!;
+      if (Number.isNaN(last)) {
+        waiting = true;
+        continue;
+      }
+      const age = t - last;
+      if (age > this.staleLimit[k]!) {
+        this.trip(CHECK.stale_input, INPUTS[k]!, age, this.staleLimit[k]!, t);
+        bad = true;
+      }
+    }
+    this.waitingForInputs = waiting;
+    this.updateClear(t, bad);
+    return this.held || waiting;
+  }
+
+  /**
+   * Check the recommended twist and clamp it: zero while held or waiting. A twist above its
+   * limit trips the hold (the policy saturates below the limits, so this catches faults).
+   */
+  checkOutput(t: number, twist: Float64Array): void {
+    const p = this.p;
+    const lin = Math.hypot(twist[0]!, twist[1]!, twist[2]!);
+    const ang = Math.hypot(twist[3]!, twist[4]!, twist[5]!);
+    let bad = false;
+    if (!(lin <= p.linear_speed_limit_m_s)) { this.trip(CHECK.twist_linear, 'recommended_twist', lin, p.linear_speed_limit_m_s, t); bad = true; }
+    if (!(ang <= p.angular_speed_limit_rad_s)) { this.trip(CHECK.twist_angular, 'recommended_twist', ang, p.angular_speed_limit_rad_s, t); bad = true; }
+    if (bad) this.updateClear(t, true);
+    if (this.held || this.waitingForInputs) twist.fill(0);
+  }
+
+  /** Ticks without a new wrench sample (live node timer): staleness and the clear timer. */
+  tick(t: number, lastSeen: Float64Array, required: Uint8Array): boolean {
+    let bad = false;
+    if (t < this.lastT) return this.held;
+    for (let k = 0; k < INPUTS.length; k++) {
+      if (required[k] === 0 || Number.isNaN(lastSeen[k]!)) continue;
+      const age = t - lastSeen[k]!;
+      if (age > this.staleLimit[k]!) {
+        this.trip(CHECK.stale_input, INPUTS[k]!, age, this.staleLimit[k]!, t);
+        bad = true;
+      }
+    }
+    this.updateClear(t, bad);
+    return this.held || this.waitingForInputs;
+  }
+
+  private updateClear(t: number, bad: boolean): void {
+    if (bad) {
+      this.lastBadT = t;
+      this.clearFor_s = 0;
+    } else {
+      if (Number.isNaN(this.firstT)) this.firstT = t;
+      this.clearFor_s = Math.max(0, t - (Number.isNaN(this.lastBadT) ? this.firstT : this.lastBadT));
+    }
+  }
+
+  /**
+   * Explicit reset. Releases the hold only when every condition has been clear for
+   * `release_clear_s`; otherwise the hold stays and the reason says how long is left.
+   */
+  requestReset(): { released: boolean; reason: string } {
+    if (!this.held) return { released: true, reason: 'not held' };
+    if (this.clearFor_s < this.p.release_clear_s) {
+      return { released: false, reason: `conditions clear for ${this.clearFor_s.toFixed(3)} s of the ${this.p.release_clear_s} s required` };
+    }
+    this.held = false;
+    this.tripCount = 0;
+    this.seen.fill(0);
+    return { released: true, reason: 'released' };
+  }
+
+  snapshot(): WatchdogSnapshot {
+    return {
+      held: this.held,
+      clearFor_s: this.clearFor_s,
+      waiting: this.waitingForInputs,
+      lastT: this.lastT,
+      lastBadT: this.lastBadT,
+      firstT: this.firstT,
+      seen: Array.from(this.seen),
+      trips: this.trips.map((r) => ({ ...r })),
+    };
+  }
+
+  restore(s: WatchdogSnapshot): void {
+    this.held = s.held;
+    this.clearFor_s = s.clearFor_s;
+    this.waitingForInputs = s.waiting;
+    this.lastT = s.lastT;
+    this.lastBadT = s.lastBadT;
+    this.firstT = s.firstT;
+    this.seen.set(s.seen);
+    this.tripCount = s.trips.length;
+    s.trips.forEach((r, k) => Object.assign(this.tripPool[k]!, r));
+  }
+}
+
+export interface WatchdogSnapshot {
+  held: boolean;
+  clearFor_s: number;
+  waiting: boolean;
+  lastT: number;
+  lastBadT: number;
+  firstT: number;
+  seen: number[];
+  trips: Trip[];
+}

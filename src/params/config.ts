@@ -1,0 +1,207 @@
+/**
+ * The typed configuration of one arm, built from resolved parameters, with the checks that
+ * span several keys (done once at load, never at the 1000th sample).
+ */
+import { InputError, type Problem } from '../util/errors.js';
+import { loadParamsFile, resolveForArm, type ParamsFile } from './load.js';
+import type { ArmName, ParamValue, ResolvedValue } from './spec.js';
+
+export type ZoneShape = 'box' | 'circle';
+export type Observer = 'left' | 'right' | 'both';
+
+export interface ZoneConfig {
+  readonly name: string;
+  readonly shape: ZoneShape;
+  readonly center_m: readonly [number, number];
+  readonly size_m: readonly [number, number];
+  readonly radius_m: number;
+  readonly observed_by: Observer;
+  readonly kind: string;
+}
+
+export interface WrenchFilterParams {
+  readonly sample_rate_hz: number;
+  readonly cutoff_hz: number;
+  readonly order: number;
+  readonly tare: { readonly window_s: number; readonly still_force_n: number; readonly still_torque_nm: number; readonly on_start: boolean };
+  readonly payload: { readonly enabled: boolean; readonly mass_kg: number; readonly com_m: readonly [number, number, number] };
+  readonly impact: { readonly force_n: number; readonly torque_nm: number; readonly release_ratio: number; readonly min_duration_s: number; readonly hold_s: number };
+}
+
+export interface WatchdogParams {
+  readonly force_limit_n: number;
+  readonly torque_limit_nm: number;
+  readonly correction_force_limit_n: number;
+  readonly correction_torque_limit_nm: number;
+  readonly joint_velocity_limit_rad_s: number;
+  readonly linear_speed_limit_m_s: number;
+  readonly angular_speed_limit_rad_s: number;
+  readonly stale_after_s: { readonly wrench: number; readonly joint_states: number; readonly tool_pose: number; readonly zone_view: number };
+  readonly on_impact: 'hold' | 'report';
+  readonly release_clear_s: number;
+}
+
+export interface RolesParams {
+  readonly scheduler: 'fixed' | 'alternating' | 'adaptive';
+  readonly fixed_role: 'speaker' | 'listener';
+  readonly period_s: number;
+  readonly phase: 0 | 1;
+  readonly adaptive: { readonly min_dwell_s: number; readonly hysteresis_m: number };
+}
+
+export interface BeliefParams {
+  readonly update_rate_hz: number;
+  readonly noise_force_n: number;
+  readonly forgetting: number;
+  readonly max_hidden_zones: number;
+}
+
+export interface PolicyParams {
+  readonly speed_m_s: number;
+  readonly goal_gain_1_s: number;
+  readonly repulsion_gain_m_s: number;
+  readonly repulsion_range_m: number;
+  readonly legibility_gain: number;
+  readonly confidence_floor: number;
+  readonly accel_limit_m_s2: number;
+  readonly update_rate_hz: number;
+}
+
+export interface TaskParams {
+  readonly object: { readonly length_m: number; readonly mass_kg: number; readonly grasp_offset_m: number };
+  readonly start_m: readonly [number, number];
+  readonly goal_m: readonly [number, number];
+  readonly goal_tolerance_m: number;
+  readonly time_limit_s: number;
+  /** Sorted by name: both arms enumerate hypotheses in the same order without messages. */
+  readonly zones: readonly ZoneConfig[];
+}
+
+export interface ArmConfig {
+  readonly arm: ArmName;
+  readonly wrench_filter: WrenchFilterParams;
+  readonly watchdog: WatchdogParams;
+  readonly roles: RolesParams;
+  readonly belief: BeliefParams;
+  readonly coupling: { readonly damping_n_s_m: number };
+  readonly policy: PolicyParams;
+  readonly task: TaskParams;
+}
+
+/** A resolved arm configuration together with where each value came from. */
+export interface LoadedArm {
+  readonly config: ArmConfig;
+  readonly values: ReadonlyMap<string, ResolvedValue>;
+}
+
+function nest(values: ReadonlyMap<string, ResolvedValue>): Record<string, unknown> {
+  const root: Record<string, unknown> = {};
+  for (const { key, value } of values.values()) {
+    const parts = key.split('.');
+    let obj = root;
+    for (let k = 0; k < parts.length - 1; k++) obj = (obj[parts[k]!] ??= {}) as Record<string, unknown>;
+    obj[parts[parts.length - 1]!] = value as ParamValue;
+  }
+  return root;
+}
+
+/** Build and cross-check one arm's configuration. `file` may be undefined (all defaults). */
+export function buildArmConfig(file: ParamsFile | undefined, arm: ArmName): LoadedArm {
+  const values = resolveForArm(file, arm);
+  const tree = nest(values) as Record<string, any>;
+  const zonesRec = (tree['task']?.zones ?? {}) as Record<string, Omit<ZoneConfig, 'name'>>;
+  const zones = Object.keys(zonesRec)
+    .sort()
+    .map((name) => ({ name, ...zonesRec[name]! }) as ZoneConfig);
+  const config = { arm, ...tree, task: { ...tree['task'], zones } } as unknown as ArmConfig;
+  crossCheck(config, values);
+  return { config, values };
+}
+
+/** Load a parameters file (or none) and build both arms. */
+export function loadCell(path: string | undefined): { file: ParamsFile | undefined; left: LoadedArm; right: LoadedArm } {
+  const file = path === undefined ? undefined : loadParamsFile(path);
+  const problems: Problem[] = [];
+  const build = (arm: ArmName): LoadedArm | undefined => {
+    try {
+      return buildArmConfig(file, arm);
+    } catch (err) {
+      if (err instanceof InputError) problems.push(...err.problems.map((p) => ({ ...p, message: `[${arm}] ${p.message}` })));
+      else throw err;
+      return undefined;
+    }
+  };
+  const left = build('left');
+  const right = build('right');
+  if (problems.length) throw new InputError(dedupe(problems));
+  // Both arms must agree on what is common knowledge: the task geometry and the clock.
+  const l = left!.config;
+  const r = right!.config;
+  if (JSON.stringify(l.task) !== JSON.stringify(r.task)) {
+    throw new InputError({ code: 'param.task_mismatch', message: 'left and right sections describe different tasks', where: { file: path }, hint: 'put task.* in the /** section so both arms share it' });
+  }
+  if (l.roles.scheduler === 'alternating' && r.roles.scheduler === 'alternating' && l.roles.phase === r.roles.phase) {
+    throw new InputError({ code: 'param.same_phase', message: 'both arms have the same roles.phase, so they would speak at the same time', where: { file: path, key: 'roles.phase' }, hint: 'set roles.phase: 0 for one arm and 1 for the other' });
+  }
+  return { file, left: left!, right: right! };
+}
+
+function dedupe(problems: Problem[]): Problem[] {
+  const seen = new Set<string>();
+  return problems.filter((p) => {
+    const k = JSON.stringify({ ...p, message: p.message.replace(/^\[(left|right)\] /, '') });
+    if (seen.has(k)) return false;
+    seen.add(k);
+    return true;
+  });
+}
+
+function crossCheck(c: ArmConfig, values: ReadonlyMap<string, ResolvedValue>): void {
+  const problems: Problem[] = [];
+  const where = (key: string) => {
+    const s = values.get(key)?.source;
+    return { key, ...(s?.file ? { file: s.file, line: s.line, column: s.column } : {}) };
+  };
+  const wf = c.wrench_filter;
+  if (wf.cutoff_hz >= 0.45 * wf.sample_rate_hz) {
+    problems.push({ code: 'param.cutoff_too_high', message: `wrench_filter.cutoff_hz = ${wf.cutoff_hz} Hz is too close to the Nyquist frequency of ${wf.sample_rate_hz} Hz`, where: where('wrench_filter.cutoff_hz'), hint: `below ${0.45 * wf.sample_rate_hz} Hz` });
+  }
+  for (const k of ['belief.update_rate_hz', 'policy.update_rate_hz'] as const) {
+    const rate = k === 'belief.update_rate_hz' ? c.belief.update_rate_hz : c.policy.update_rate_hz;
+    if (rate > wf.sample_rate_hz) problems.push({ code: 'param.rate_above_sample_rate', message: `${k} = ${rate} Hz exceeds wrench_filter.sample_rate_hz = ${wf.sample_rate_hz} Hz`, where: where(k), hint: 'at most the sample rate' });
+  }
+  if (c.policy.speed_m_s > c.watchdog.linear_speed_limit_m_s) {
+    problems.push({ code: 'param.speed_above_limit', message: `policy.speed_m_s = ${c.policy.speed_m_s} exceeds watchdog.linear_speed_limit_m_s = ${c.watchdog.linear_speed_limit_m_s}`, where: where('policy.speed_m_s'), hint: 'the policy must cruise below the watchdog limit' });
+  }
+  if (c.task.object.grasp_offset_m > c.task.object.length_m / 2) {
+    problems.push({ code: 'param.grasp_off_object', message: `task.object.grasp_offset_m = ${c.task.object.grasp_offset_m} lies beyond the object's end (length ${c.task.object.length_m} m)`, where: where('task.object.grasp_offset_m'), hint: `at most ${c.task.object.length_m / 2} m` });
+  }
+  const hidden = c.task.zones.filter((z) => z.observed_by !== 'both' && z.observed_by !== c.arm);
+  if (hidden.length > c.belief.max_hidden_zones) {
+    problems.push({ code: 'param.too_many_hypotheses', message: `${hidden.length} zones are seen only by the partner: 2^${hidden.length} hypotheses exceed the limit of 2^${c.belief.max_hidden_zones}`, where: where('belief.max_hidden_zones'), hint: 'at most 8 partner-only zones (256 hypotheses); merge zones or mark some observed by both' });
+  }
+  if (hidden.length > 0 && c.policy.repulsion_gain_m_s === 0) {
+    problems.push({ code: 'param.singular_speaker', message: 'policy.repulsion_gain_m_s = 0: the speaker\'s velocity would not depend on the zones it sees, so a listener could never infer them', where: where('policy.repulsion_gain_m_s'), hint: 'a positive gain' });
+  }
+  const half = c.task.object.length_m / 2;
+  for (const z of c.task.zones) {
+    for (const [label, p] of [['goal', c.task.goal_m], ['start', c.task.start_m]] as const) {
+      if (segmentHitsZone(p[0], p[1] - half, p[1] + half, z)) {
+        problems.push({ code: `param.zone_overlaps_${label}`, message: `zone '${z.name}' overlaps the object at the ${label} (${p[0]}, ${p[1]})`, where: where(`task.zones.${z.name}.center_m`), hint: `move the zone or the ${label} so the ${c.task.object.length_m} m object clears it` });
+      }
+    }
+  }
+  if (problems.length) throw new InputError(problems);
+}
+
+/** Does the segment x = const, y in [y0, y1] touch the zone? */
+export function segmentHitsZone(x: number, y0: number, y1: number, z: ZoneConfig): boolean {
+  const [cx, cy] = z.center_m;
+  if (z.shape === 'box') {
+    const hx = z.size_m[0] / 2;
+    const hy = z.size_m[1] / 2;
+    return Math.abs(x - cx) <= hx && y1 >= cy - hy && y0 <= cy + hy;
+  }
+  const yy = Math.min(Math.max(cy, y0), y1);
+  return Math.hypot(x - cx, yy - cy) <= z.radius_m;
+}

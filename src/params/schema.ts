@@ -1,0 +1,113 @@
+/**
+ * Every parameter of antiphon, in one list. Units are SI (REP 103). Safety limits carry a
+ * hard `ceiling`. Defaults describe the demo cell: two arms carrying a 1.2 m aluminium
+ * extrusion beam from a pick stand to a fixture, past keep-out zones.
+ */
+import type { ParamSpec } from './spec.js';
+
+const d = (key: string, unit: string, def: number | undefined, min: number, max: number, description: string, ceiling?: number): ParamSpec => ({
+  key, type: 'double', unit, default: def, min, max, description, ...(ceiling !== undefined ? { ceiling } : {}),
+});
+const i = (key: string, def: number, min: number, max: number, description: string): ParamSpec => ({
+  key, type: 'integer', unit: '1', default: def, min, max, description,
+});
+const b = (key: string, def: boolean, description: string): ParamSpec => ({ key, type: 'bool', unit: '', default: def, description });
+const e = (key: string, def: string | undefined, choices: readonly string[], description: string): ParamSpec => ({
+  key, type: 'string', unit: '', default: def, choices, description,
+});
+const v = (key: string, unit: string, def: number[] | undefined, length: number, min: number, max: number, description: string): ParamSpec => ({
+  key, type: 'double_array', unit, default: def, length, min, max, description,
+});
+
+export const SCHEMA: readonly ParamSpec[] = [
+  // ---- wrench filter -------------------------------------------------------------------
+  d('wrench_filter.sample_rate_hz', 'Hz', 1000, 50, 8000, 'Nominal force-torque sample rate; the filter is designed for it.'),
+  d('wrench_filter.cutoff_hz', 'Hz', 5, 0.1, 400, 'Butterworth cut-off between the correction band (below) and the impact band (above). Must be below 0.45 x sample rate.'),
+  i('wrench_filter.order', 4, 1, 8, 'Butterworth order (cascaded second-order sections).'),
+  d('wrench_filter.tare.window_s', 's', 0.5, 0.02, 10, 'Length of the still window averaged for bias removal.'),
+  d('wrench_filter.tare.still_force_n', 'N', 1.0, 0.01, 50, 'Largest peak-to-peak force on any axis within the window for it to count as still.'),
+  d('wrench_filter.tare.still_torque_nm', 'N*m', 0.1, 0.001, 10, 'Largest peak-to-peak torque on any axis within the window for it to count as still.'),
+  b('wrench_filter.tare.on_start', true, 'Tare on the first still window after start. While untared the recommended twist is zero.'),
+  b('wrench_filter.payload.enabled', false, 'Subtract the gravity wrench of a known payload (uses the tool orientation).'),
+  d('wrench_filter.payload.mass_kg', 'kg', 0, 0, 50, 'Payload mass hanging below the sensor (gripper, not the shared object).'),
+  v('wrench_filter.payload.com_m', 'm', [0, 0, 0], 3, -1, 1, 'Payload centre of mass in the sensor frame.'),
+  d('wrench_filter.impact.force_n', 'N', 15, 0.1, 1000, 'Impact-band force magnitude that scores 1.'),
+  d('wrench_filter.impact.torque_nm', 'N*m', 2, 0.01, 200, 'Impact-band torque magnitude that scores 1.'),
+  d('wrench_filter.impact.release_ratio', '1', 0.5, 0.05, 1, 'Hysteresis: the flag falls once the score stays below this fraction of 1.'),
+  d('wrench_filter.impact.min_duration_s', 's', 0.003, 0, 0.5, 'The score must stay at or above 1 this long before an impact is flagged.'),
+  d('wrench_filter.impact.hold_s', 's', 0.05, 0, 5, 'The score must stay below the release level this long before the flag falls.'),
+
+  // ---- watchdog --------------------------------------------------------------------------
+  d('watchdog.force_limit_n', 'N', 150, 1, 2000, 'Largest tared force magnitude before a safe hold.', 500),
+  d('watchdog.torque_limit_nm', 'N*m', 25, 0.1, 500, 'Largest tared torque magnitude before a safe hold.', 100),
+  d('watchdog.correction_force_limit_n', 'N', 60, 1, 2000, 'Largest correction-band force (internal squeeze or pull) before a safe hold.', 300),
+  d('watchdog.correction_torque_limit_nm', 'N*m', 15, 0.1, 500, 'Largest correction-band torque before a safe hold.', 100),
+  d('watchdog.joint_velocity_limit_rad_s', 'rad/s', 1.0, 0.01, 10, 'Largest measured joint speed (any joint) before a safe hold.', 3.2),
+  d('watchdog.linear_speed_limit_m_s', 'm/s', 0.25, 0.001, 5, 'Largest recommended tool linear speed. Default 0.25 m/s: the reduced speed of ISO 10218-1 (from memory); the cell risk assessment decides.', 1.0),
+  d('watchdog.angular_speed_limit_rad_s', 'rad/s', 0.5, 0.001, 10, 'Largest recommended tool angular speed.', 2.0),
+  d('watchdog.stale_after_s.wrench', 's', 0.02, 0.001, 5, 'Hold when no wrench sample arrived for this long.', 1.0),
+  d('watchdog.stale_after_s.joint_states', 's', 0.05, 0.001, 5, 'Hold when no joint state arrived for this long.', 2.0),
+  d('watchdog.stale_after_s.tool_pose', 's', 0.05, 0.001, 5, 'Hold when no tool pose arrived for this long.', 2.0),
+  d('watchdog.stale_after_s.zone_view', 's', 0.5, 0.01, 30, 'Hold when the area sensor has not reported for this long.', 10.0),
+  e('watchdog.on_impact', 'hold', ['hold', 'report'], 'On a flagged impact: latch a safe hold, or only report it.'),
+  d('watchdog.release_clear_s', 's', 1.0, 0.05, 600, 'Every condition must be clear this long before a reset releases the hold.'),
+
+  // ---- roles -------------------------------------------------------------------------------
+  e('roles.scheduler', 'alternating', ['fixed', 'alternating', 'adaptive'], 'How roles are assigned on the shared clock.'),
+  e('roles.fixed_role', 'speaker', ['speaker', 'listener'], 'The role held when the scheduler is fixed.'),
+  d('roles.period_s', 's', 0.5, 0.005, 600, 'Slot length of the alternating scheduler (and the adaptive fall-back).'),
+  i('roles.phase', 0, 0, 1, 'Alternating: this arm speaks in even slots (0) or odd slots (1). The partner takes the other.'),
+  d('roles.adaptive.min_dwell_s', 's', 0.4, 0, 60, 'Adaptive: the least time between two switches.'),
+  d('roles.adaptive.hysteresis_m', 'm', 0.05, 0, 5, 'Adaptive: a new nearest zone must be closer by this much to take the turn.'),
+
+  // ---- belief ------------------------------------------------------------------------------
+  d('belief.update_rate_hz', 'Hz', 100, 1, 8000, 'Rate of Bayes updates (the correction band is a few hertz wide).'),
+  d('belief.noise_force_n', 'N', 1.5, 0.001, 100, 'Standard deviation of the correction-band force around the coupling model, per axis.'),
+  d('belief.forgetting', '1', 0.002, 0, 0.5, 'Mixing toward the uniform belief at each update, for a world that changes.'),
+  i('belief.max_hidden_zones', 8, 0, 8, 'Most zones only the partner observes (exact enumeration: 2^n hypotheses, at most 256).'),
+
+  // ---- coupling ----------------------------------------------------------------------------
+  d('coupling.damping_n_s_m', 'N*s/m', 40, 0.1, 10000, 'Effective damping from the partner intent to the correction force: f = c (v_partner - v_own).'),
+
+  // ---- policy ------------------------------------------------------------------------------
+  d('policy.speed_m_s', 'm/s', 0.15, 0.001, 5, 'Nominal cruise speed of the carried object (saturation of the policy).', 1.0),
+  d('policy.goal_gain_1_s', '1/s', 1.0, 0.01, 100, 'Attraction to the goal: velocity per metre of remaining distance.'),
+  d('policy.repulsion_gain_m_s', 'm/s', 0.25, 0, 5, 'Push away from an occupied zone at its margin.'),
+  d('policy.repulsion_range_m', 'm', 0.25, 0.01, 5, 'Distance from a zone over which its push fades to zero.'),
+  d('policy.legibility_gain', '1', 0.8, 0, 10, 'Speaker: exaggerates the part of its velocity that tells its view from the alternatives.'),
+  d('policy.confidence_floor', '1', 0.3, 0, 1, 'Listener: speed scale at a uniform belief (1 at certainty).'),
+  d('policy.accel_limit_m_s2', 'm/s^2', 0.5, 0.001, 50, 'Largest change of the recommended linear velocity per second.', 10),
+  d('policy.update_rate_hz', 'Hz', 100, 1, 8000, 'Rate at which the recommended velocity is recomputed (held between).'),
+
+  // ---- task --------------------------------------------------------------------------------
+  d('task.object.length_m', 'm', 1.2, 0.05, 10, 'Length of the carried object (along the cell y axis, between the arms).'),
+  d('task.object.mass_kg', 'kg', 2.4, 0.001, 500, 'Mass of the carried object.'),
+  d('task.object.grasp_offset_m', 'm', 0.55, 0, 5, 'Grasp points at +offset (left) and -offset (right) along the object from its centre.'),
+  v('task.start_m', 'm', [0, 0], 2, -20, 20, 'Object centre at the pick stand (x, y in the cell frame).'),
+  v('task.goal_m', 'm', [1.6, 0], 2, -20, 20, 'Object centre at the fixture (x, y in the cell frame).'),
+  d('task.goal_tolerance_m', 'm', 0.02, 0.0005, 1, 'The object is at the goal within this distance.'),
+  d('task.time_limit_s', 's', 60, 1, 3600, 'Time allowed for the transfer (simulation and offline checks).'),
+  e('task.zones.*.shape', undefined, ['box', 'circle'], 'Keep-out zone shape.'),
+  v('task.zones.*.center_m', 'm', undefined, 2, -20, 20, 'Zone centre (x, y in the cell frame).'),
+  v('task.zones.*.size_m', 'm', [0.2, 0.2], 2, 0.001, 20, 'Box zone extent (x, y). Ignored for circles.'),
+  d('task.zones.*.radius_m', 'm', 0.1, 0.001, 20, 'Circle zone radius. Ignored for boxes.'),
+  e('task.zones.*.observed_by', undefined, ['left', 'right', 'both'], 'Which arm\'s area sensor sees the zone.'),
+  e('task.zones.*.kind', 'clamp_post', ['clamp_post', 'cable_tray', 'other'], 'What may stand there (for reports).'),
+];
+
+/** Specs by exact key or pattern key. */
+export const SPEC_BY_KEY: ReadonlyMap<string, ParamSpec> = new Map(SCHEMA.map((s) => [s.key, s]));
+
+/** The spec a concrete dotted key falls under (exact match first, then `*` patterns). */
+export function specFor(key: string): ParamSpec | undefined {
+  const exact = SPEC_BY_KEY.get(key);
+  if (exact) return exact;
+  const parts = key.split('.');
+  for (const s of SCHEMA) {
+    if (!s.key.includes('*')) continue;
+    const pp = s.key.split('.');
+    if (pp.length !== parts.length) continue;
+    if (pp.every((p, k) => p === '*' || p === parts[k])) return s;
+  }
+  return undefined;
+}
