@@ -1,6 +1,9 @@
 /** The list of subcommands. Add a command: write src/cli/<name>.ts exporting `register`, list it here. */
 import type { Command } from 'commander';
+import { register as analyze } from './analyze.js';
+import { register as checkConfig } from './check-config.js';
+import { register as classify } from './classify.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze];

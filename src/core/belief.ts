@@ -84,4 +84,23 @@ export class Belief {
       for (let b = 0; b < bits; b++) if ((k >>> b) & 1) out[b]! += pk;
     }
   }
+
+  /** Full state, for bit-identical continuation after restore(). */
+  snapshot(): Float64Array {
+    const s = new Float64Array(2 * this.n + 3);
+    s.set(this.logp, 0);
+    s.set(this.p, this.n);
+    s[2 * this.n] = this.entropy;
+    s[2 * this.n + 1] = this.mostLikely;
+    s[2 * this.n + 2] = this.updates;
+    return s;
+  }
+
+  restore(s: Float64Array): void {
+    this.logp.set(s.subarray(0, this.n));
+    this.p.set(s.subarray(this.n, 2 * this.n));
+    this.entropy = s[2 * this.n]!;
+    this.mostLikely = s[2 * this.n + 1]!;
+    this.updates = s[2 * this.n + 2]!;
+  }
 }

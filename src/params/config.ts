@@ -23,6 +23,8 @@ export interface WrenchFilterParams {
   readonly sample_rate_hz: number;
   readonly cutoff_hz: number;
   readonly order: number;
+  readonly correction_force_n: number;
+  readonly correction_torque_nm: number;
   readonly tare: { readonly window_s: number; readonly still_force_n: number; readonly still_torque_nm: number; readonly on_start: boolean };
   readonly payload: { readonly enabled: boolean; readonly mass_kg: number; readonly com_m: readonly [number, number, number] };
   readonly impact: { readonly force_n: number; readonly torque_nm: number; readonly release_ratio: number; readonly min_duration_s: number; readonly hold_s: number };

@@ -25,8 +25,8 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('wrench_filter.cutoff_hz', 'Hz', 5, 0.1, 400, 'Butterworth cut-off between the correction band (below) and the impact band (above). Must be below 0.45 x sample rate.'),
   i('wrench_filter.order', 4, 1, 8, 'Butterworth order (cascaded second-order sections).'),
   d('wrench_filter.tare.window_s', 's', 0.5, 0.02, 10, 'Length of the still window averaged for bias removal.'),
-  d('wrench_filter.tare.still_force_n', 'N', 1.0, 0.01, 50, 'Largest peak-to-peak force on any axis within the window for it to count as still.'),
-  d('wrench_filter.tare.still_torque_nm', 'N*m', 0.1, 0.001, 10, 'Largest peak-to-peak torque on any axis within the window for it to count as still.'),
+  d('wrench_filter.tare.still_force_n', 'N', 2.0, 0.01, 50, 'Largest peak-to-peak force on any axis within the window for it to count as still.'),
+  d('wrench_filter.tare.still_torque_nm', 'N*m', 0.2, 0.001, 10, 'Largest peak-to-peak torque on any axis within the window for it to count as still.'),
   b('wrench_filter.tare.on_start', true, 'Tare on the first still window after start. While untared the recommended twist is zero.'),
   b('wrench_filter.payload.enabled', false, 'Subtract the gravity wrench of a known payload (uses the tool orientation).'),
   d('wrench_filter.payload.mass_kg', 'kg', 0, 0, 50, 'Payload mass hanging below the sensor (gripper, not the shared object).'),
@@ -35,6 +35,8 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('wrench_filter.impact.torque_nm', 'N*m', 2, 0.01, 200, 'Impact-band torque magnitude that scores 1.'),
   d('wrench_filter.impact.release_ratio', '1', 0.5, 0.05, 1, 'Hysteresis: the flag falls once the score stays below this fraction of 1.'),
   d('wrench_filter.impact.min_duration_s', 's', 0.003, 0, 0.5, 'The score must stay at or above 1 this long before an impact is flagged.'),
+  d('wrench_filter.correction_force_n', 'N', 2.0, 0, 1000, 'Correction-band force above which a sample counts as a partner correction (labels and reports).'),
+  d('wrench_filter.correction_torque_nm', 'N*m', 0.3, 0, 200, 'Correction-band torque above which a sample counts as a partner correction (labels and reports).'),
   d('wrench_filter.impact.hold_s', 's', 0.05, 0, 5, 'The score must stay below the release level this long before the flag falls.'),
 
   // ---- watchdog --------------------------------------------------------------------------
