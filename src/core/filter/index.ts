@@ -1,0 +1,23 @@
+/** Wrench filter: Butterworth design, multi-channel SOS cascade, tare, payload and impact split. */
+export {
+  BUTTERWORTH_MAX_ORDER,
+  BUTTERWORTH_MAX_RATE_HZ,
+  BUTTERWORTH_MIN_ORDER,
+  BUTTERWORTH_MIN_RATE_HZ,
+  SosCascade,
+  analogPrototypePoles,
+  butterworthSos,
+  checkButterworthArgs,
+  sosResponse,
+  sosToTf,
+} from './butterworth.js';
+export type { ButterworthKeys } from './butterworth.js';
+export {
+  DEFAULT_WRENCH_FILTER,
+  STANDARD_GRAVITY,
+  WrenchFilter,
+  checkWrenchFilterConfig,
+  validateWrenchFilterConfig,
+  wrenchFilterConfig,
+} from './wrench-filter.js';
+export type { WrenchFilterConfig, WrenchFilterOverrides } from './wrench-filter.js';
