@@ -10,10 +10,12 @@
  *    since (zero before it has ever listened — both agents know that too);
  *  - the listener knows the speaker's policy and the value h_s (it is the listener's own past
  *    state, inferred exactly when there is no noise), so it inverts the speaker's action:
- *      x̂_s = −K_s,own⁺ (ũ_s + K_s,part c_l),
- *    where ũ_s is the action as the listener sees it (plus noise, if any), K⁺ the left
- *    pseudo-inverse (the speaker's gain on its own block must be full column rank) and c_l the
- *    listener's copy of h_s (its own state at the step the partner last inferred it);
+ *      x̂_s = −K_s,own⁺ (ũ_s + K_s,part h_s),
+ *    where ũ_s is the action as the listener sees it (plus noise, if any) and K⁺ the left
+ *    pseudo-inverse (the speaker's gain on its own block must be full column rank). With noise,
+ *    h_s is taken as common knowledge by default; the alternative, where the listener uses its
+ *    own copy c_l (its true state when the partner last inferred it), is `CommonKnowledge`
+ *    'reconstructed' — there inference errors compound from slot to slot (see simulateTeam);
  *  - the listener then acts with the full centralized row on (x̂_s, x_l): u_l = −K_l [x̂_s; x_l],
  *    and stores h_l = x̂_s (updated every listening step, so after the slot it holds the value
  *    inferred in the slot's last step); the speaker stores c_s = x_s, its copy of that value.
