@@ -64,6 +64,7 @@ export interface ArmStepSnapshot {
   watchdog: WatchdogSnapshot;
   roles: number[];
   belief: Float64Array;
+  replica: Float64Array;
   numbers: Float64Array;
   lastSeen: Float64Array;
   joint: Float64Array;
@@ -78,6 +79,11 @@ export class ArmStep {
   readonly watchdog: Watchdog;
   readonly roles: RoleScheduler;
   readonly belief: Belief;
+  /**
+   * Replica of the partner's belief about this arm's own zones, reproduced from this arm's
+   * own speaking actions (what the partner's listener update would conclude from them).
+   */
+  readonly replica: Belief;
   readonly out: ArmOutputs;
   readonly hypotheses: number;
 
@@ -102,18 +108,30 @@ export class ArmStep {
   private accVx = 0;
   private accVy = 0;
   private windowClean = true;
+  private windowRole = -1;
   // Policy state.
   private targetVx = 0;
   private targetVy = 0;
   private cmdVx = 0;
   private cmdVy = 0;
   private lastT = Number.NaN;
+  private lastRole = -1;
+  /**
+   * Common knowledge, committed at role switches on the shared clock:
+   * - committedHidden: partner-private zones this arm learned as listener (occupied mask),
+   *   committed when it turns speaker; the partner reproduces it from its replica.
+   * - committedOwn: this arm's zones the partner learned (from the replica), committed when
+   *   this arm turns listener; the partner's speaking uses exactly that knowledge.
+   */
+  private committedHidden = 0;
+  private committedOwn = 0;
 
   // Scratch, preallocated.
   private readonly loglik: Float64Array;
   private readonly v2 = new Float64Array(2);
   private readonly obj = new Float64Array(2);
   private readonly rawFinite = new Float64Array(6);
+  private readonly marg: Float64Array;
 
   constructor(config: ArmConfig, options: ArmStepOptions = {}) {
     this.config = config;
@@ -123,7 +141,9 @@ export class ArmStep {
     this.roles = new RoleScheduler(config.roles, config.arm, this.task);
     this.hypotheses = 1 << this.task.hidden.length;
     this.belief = new Belief(this.hypotheses);
-    this.loglik = new Float64Array(this.hypotheses);
+    this.replica = new Belief(1 << this.task.own.length);
+    this.loglik = new Float64Array(Math.max(this.hypotheses, this.replica.n));
+    this.marg = new Float64Array(Math.max(this.task.hidden.length, this.task.own.length, 1));
     this.jointCount = options.jointCount ?? 0;
     this.jointVel = new Float64Array(Math.max(64, this.jointCount));
     this.zoneState = new Uint8Array(this.task.n).fill(ZONE_UNKNOWN);
@@ -251,15 +271,24 @@ export class ArmStep {
     const px = this.obj[0]!;
     const py = this.obj[1]!;
     const role = this.roles.update(t, px, this.watchdog.held || f.impactFlag);
+    if (role !== this.lastRole) {
+      this.commitAtSwitch(role);
+      this.lastRole = role;
+    }
 
     // Belief: accumulate the correction force (cell frame) and this arm's own command.
     this.accumulate();
-    if (role !== LISTENER || f.impactFlag || this.watchdog.held || !f.tared || !finite) this.windowClean = false;
+    if (this.beliefCount === 0) this.windowRole = role;
+    if (role !== this.windowRole || f.impactFlag || this.watchdog.held || !f.tared || !finite) this.windowClean = false;
     out.beliefUpdated = false;
     if (++this.beliefCount >= this.beliefEvery) {
-      if (this.windowClean && this.task.hidden.length > 0) {
-        this.updateBelief(px, py);
-        out.beliefUpdated = true;
+      if (this.windowClean) {
+        if (role === LISTENER && this.task.hidden.length > 0) {
+          this.updateBelief(px, py);
+          out.beliefUpdated = true;
+        } else if (role === SPEAKER && this.task.own.length > 0) {
+          this.updateReplica(px, py);
+        }
       }
       this.beliefCount = 0;
       this.accFx = this.accFy = this.accVx = this.accVy = 0;
@@ -376,8 +405,9 @@ export class ArmStep {
     const fx = this.accFx / n, fy = this.accFy / n, vx = this.accVx / n, vy = this.accVy / n;
     const c = this.config.coupling.damping_n_s_m;
     const inv2s2 = 1 / (2 * this.config.belief.noise_force_n ** 2);
-    // The partner (speaker) knows the shared zones as this arm sees them and its own (our hidden) zones.
-    const known = this.observedMask(task.shared);
+    // The partner (speaker) knows the shared zones as this arm sees them, its own (our hidden)
+    // zones, and what it learned of ours in its last listening slot (reproduced here).
+    const known = this.observedMask(task.shared) | this.committedOwn;
     this.meanOver(known, task.hidden);
     const mx = this.v2[0]!, my = this.v2[1]!;
     for (let h = 0; h < this.hypotheses; h++) {
@@ -390,36 +420,79 @@ export class ArmStep {
     this.belief.marginals(task.hidden.length, this.out.hiddenOccupied);
   }
 
+  /**
+   * The partner's listener update, reproduced: it feels f = c (v_own - v_partner) + noise and
+   * compares with c (speaker policy(h) - v_partner), so its expected log-likelihood of our
+   * private hypothesis h is -c^2 |v_own - policy(h)|^2 / (2 sigma^2).
+   */
+  private updateReplica(px: number, py: number): void {
+    const task = this.task;
+    task.prepare(px, py);
+    const n = this.beliefEvery;
+    const vx = this.accVx / n, vy = this.accVy / n;
+    const c = this.config.coupling.damping_n_s_m;
+    const inv2s2 = 1 / (2 * this.config.belief.noise_force_n ** 2);
+    const known = this.observedMask(task.shared) | this.committedHidden;
+    this.meanOver(known, task.own);
+    const mx = this.v2[0]!, my = this.v2[1]!;
+    for (let h = 0; h < this.replica.n; h++) {
+      this.legible(known, h, task.own, mx, my);
+      const rx = c * (vx - this.v2[0]!);
+      const ry = c * (vy - this.v2[1]!);
+      this.loglik[h] = -(rx * rx + ry * ry) * inv2s2;
+    }
+    this.replica.update(this.loglik, this.config.belief.forgetting);
+  }
+
+  /** Commit what was learned into common knowledge when the role changes. */
+  private commitAtSwitch(role: Role): void {
+    const th = this.config.belief.commit_probability;
+    if (role === SPEAKER) {
+      // Turning speaker: what I inferred of the partner's zones while listening.
+      this.belief.marginals(this.task.hidden.length, this.marg);
+      this.committedHidden = 0;
+      for (let b = 0; b < this.task.hidden.length; b++) if (this.marg[b]! >= th) this.committedHidden |= 1 << this.task.hidden[b]!;
+    } else {
+      // Turning listener: what the partner inferred of my zones while I spoke.
+      this.replica.marginals(this.task.own.length, this.marg);
+      this.committedOwn = 0;
+      for (let b = 0; b < this.task.own.length; b++) if (this.marg[b]! >= th) this.committedOwn |= 1 << this.task.own[b]!;
+    }
+  }
+
   private updateTarget(role: Role, px: number, py: number): void {
     const task = this.task;
     task.prepare(px, py);
     const shared = this.observedMask(task.shared);
     const own = this.observedMask(task.own);
     if (role === SPEAKER) {
-      // Act on my own view only; exaggerate what tells it from the alternatives.
-      this.meanOver(shared, task.own);
+      // Act on my own view and common knowledge only; exaggerate what tells my view from
+      // the alternatives the partner still holds.
+      const known = shared | this.committedHidden;
+      this.meanOver(known, task.own);
       const mx = this.v2[0]!, my = this.v2[1]!;
       let hyp = 0;
       for (let b = 0; b < task.own.length; b++) if ((own >>> task.own[b]!) & 1) hyp |= 1 << b;
-      this.legible(shared, hyp, task.own, mx, my);
+      this.legible(known, hyp, task.own, mx, my);
       this.targetVx = this.v2[0]!;
       this.targetVy = this.v2[1]!;
       return;
     }
-    // Listener: the centralized policy in expectation over the belief, slowed when unsure.
-    let sx = 0, sy = 0;
+    // Listener: the centralized policy in expectation over the belief, slowed while the
+    // hypotheses it still holds disagree about what to do (uncertainty that matters here).
+    let sx = 0, sy = 0, sxx = 0;
     const p = this.belief.p;
     for (let h = 0; h < this.hypotheses; h++) {
       task.velocity(shared | own | TaskModel.expand(h, task.hidden), this.v2);
-      sx += p[h]! * this.v2[0]!;
-      sy += p[h]! * this.v2[1]!;
+      const ph = p[h]!;
+      sx += ph * this.v2[0]!;
+      sy += ph * this.v2[1]!;
+      sxx += ph * (this.v2[0]! * this.v2[0]! + this.v2[1]! * this.v2[1]!);
     }
-    let scale = 1;
-    if (this.hypotheses > 1) {
-      const floor = this.config.policy.confidence_floor;
-      const conf = Math.max(0, 1 - this.belief.entropy / Math.log(this.hypotheses));
-      scale = floor + (1 - floor) * conf;
-    }
+    const spread = Math.sqrt(Math.max(0, sxx - sx * sx - sy * sy));
+    const floor = this.config.policy.confidence_floor;
+    const conf = Math.max(0, 1 - spread / this.config.policy.speed_m_s);
+    const scale = floor + (1 - floor) * conf;
     this.targetVx = sx * scale;
     this.targetVy = sy * scale;
   }
@@ -430,8 +503,10 @@ export class ArmStep {
       watchdog: this.watchdog.snapshot(),
       roles: this.roles.snapshot(),
       belief: this.belief.snapshot(),
+      replica: this.replica.snapshot(),
       numbers: Float64Array.of(this.beliefCount, this.policyCount, this.accFx, this.accFy, this.accVx, this.accVy, this.windowClean ? 1 : 0,
-        this.targetVx, this.targetVy, this.cmdVx, this.cmdVy, this.lastT, this.jointCount, this.jointFinite ? 1 : 0, this.poseFinite ? 1 : 0),
+        this.targetVx, this.targetVy, this.cmdVx, this.cmdVy, this.lastT, this.jointCount, this.jointFinite ? 1 : 0, this.poseFinite ? 1 : 0,
+        this.lastRole, this.committedHidden, this.committedOwn, this.windowRole),
       lastSeen: Float64Array.from(this.lastSeen),
       joint: Float64Array.from(this.jointVel),
       pose: Float64Array.from(this.pose),
@@ -444,6 +519,7 @@ export class ArmStep {
     this.watchdog.restore(s.watchdog);
     this.roles.restore(s.roles);
     this.belief.restore(s.belief);
+    this.replica.restore(s.replica);
     const n = s.numbers;
     [this.beliefCount, this.policyCount, this.accFx, this.accFy, this.accVx, this.accVy] = [n[0]!, n[1]!, n[2]!, n[3]!, n[4]!, n[5]!];
     this.windowClean = n[6] === 1;
@@ -452,6 +528,7 @@ export class ArmStep {
     this.wdIn.jointCount = this.jointCount;
     this.jointFinite = n[13] === 1;
     this.poseFinite = n[14] === 1;
+    [this.lastRole, this.committedHidden, this.committedOwn, this.windowRole] = [n[15]!, n[16]!, n[17]!, n[18]!];
     this.lastSeen.set(s.lastSeen);
     this.jointVel.set(s.joint);
     this.pose.set(s.pose);

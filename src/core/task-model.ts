@@ -123,7 +123,12 @@ export class TaskModel {
       const s = up < down ? 1 : -1;
       const need = Math.min(up, down);
       this.lat[z] = s * p.repulsion_gain_m_s * w * Math.min(1, need / m);
-      this.cap[z] = kg * Math.max(0, gap - m);
+      // Wait short of the zone only while the overlap is real (beyond half the clearance), so
+      // that an object resting on the clearance boundary keeps moving.
+      if (need > m / 2) this.cap[z] = kg * Math.max(0, gap - m);
+      // While stepping aside, the goal may not pull the object back toward the zone.
+      if (s > 0) this.lo[z] = 0;
+      else this.hi[z] = 0;
     }
   }
 

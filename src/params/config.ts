@@ -55,6 +55,7 @@ export interface BeliefParams {
   readonly update_rate_hz: number;
   readonly noise_force_n: number;
   readonly forgetting: number;
+  readonly commit_probability: number;
   readonly max_hidden_zones: number;
 }
 

@@ -66,6 +66,7 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('belief.update_rate_hz', 'Hz', 100, 1, 8000, 'Rate of Bayes updates (the correction band is a few hertz wide).'),
   d('belief.noise_force_n', 'N', 1.5, 0.001, 100, 'Standard deviation of the correction-band force around the coupling model, per axis.'),
   d('belief.forgetting', '1', 0.002, 0, 0.5, 'Mixing toward the uniform belief at each update, for a world that changes.'),
+  d('belief.commit_probability', '1', 0.8, 0.5, 1, 'At a role switch, a zone whose occupied probability reaches this becomes common knowledge.'),
   i('belief.max_hidden_zones', 8, 0, 8, 'Most zones only the partner observes (exact enumeration: 2^n hypotheses, at most 256).'),
 
   // ---- coupling ----------------------------------------------------------------------------
@@ -77,7 +78,7 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('policy.repulsion_gain_m_s', 'm/s', 0.25, 0, 5, 'Push away from an occupied zone at its margin.'),
   d('policy.repulsion_range_m', 'm', 0.25, 0.01, 5, 'Distance from a zone over which its push fades to zero.'),
   d('policy.legibility_gain', '1', 0.8, 0, 10, 'Speaker: exaggerates the part of its velocity that tells its view from the alternatives.'),
-  d('policy.confidence_floor', '1', 0.3, 0, 1, 'Listener: speed scale at a uniform belief (1 at certainty).'),
+  d('policy.confidence_floor', '1', 0.3, 0, 1, 'Listener: speed scale while the hypotheses it holds disagree by the full speed (1 when they agree).'),
   d('policy.accel_limit_m_s2', 'm/s^2', 0.5, 0.001, 50, 'Largest change of the recommended linear velocity per second.', 10),
   d('policy.update_rate_hz', 'Hz', 100, 1, 8000, 'Rate at which the recommended velocity is recomputed (held between).'),
 
