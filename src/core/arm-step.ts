@@ -350,8 +350,9 @@ export class ArmStep {
     const r10 = 2 * (qx * qy + qz * qw), r11 = 1 - 2 * (qx * qx + qz * qz), r12 = 2 * (qy * qz - qx * qw);
     this.accFx += r00 * fx + r01 * fy + r02 * fz;
     this.accFy += r10 * fx + r11 * fy + r12 * fz;
-    this.accVx += this.out.twist[0]!;
-    this.accVy += this.out.twist[1]!;
+    // This arm's own command of the previous sample (equal to the published twist).
+    this.accVx += this.cmdVx;
+    this.accVy += this.cmdVy;
   }
 
   /** Mask of observed zones currently occupied (unknown counts as occupied: the cautious reading). */

@@ -7,6 +7,7 @@
  * c = D / 2. Gravity on the beam adds a constant -m g / 2 on each wrist z (tared away).
  */
 import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../../src/core/arm-step.js';
+import { CHECKS } from '../../src/core/watchdog.js';
 import type { ArmConfig } from '../../src/params/config.js';
 import { Rng } from '../../src/util/rng.js';
 
@@ -15,6 +16,8 @@ export interface CellRun {
   collided: boolean;
   time_s: number;
   peakInternalN: number;
+  /** Watchdog trips of each arm at the end of the run: `check@input`. */
+  trips: { left: string[]; right: string[] };
   /** Per update (every 10 ms): time, left belief on the true hypothesis, right belief on the true hypothesis. */
   trace: { t: number; leftTrue: number; rightTrue: number; x: number; y: number }[];
 }
@@ -23,13 +26,28 @@ export function runKinematicCell(
   left: ArmConfig,
   right: ArmConfig,
   occupied: readonly boolean[],
-  opts: { seed: number; duration_s: number; noise_n?: number; admittance_n_s_m?: number; shareViews?: boolean },
+  opts: {
+    seed: number;
+    duration_s: number;
+    /** White sensor noise per sample and axis (N). */
+    noise_n?: number;
+    /** Low-frequency force disturbance in the correction band (N, stationary std; time constant 0.2 s). */
+    disturbance_n?: number;
+    admittance_n_s_m?: number;
+    shareViews?: boolean;
+  },
 ): CellRun {
   const rng = new Rng(opts.seed);
   const fs = left.wrench_filter.sample_rate_hz;
   const dt = 1 / fs;
   const D = opts.admittance_n_s_m ?? 2 * left.coupling.damping_n_s_m;
   const noise = opts.noise_n ?? 0.2;
+  // Ornstein-Uhlenbeck disturbance: d' = -d / tau + w, stationary std = disturbance_n.
+  const tau = 0.2;
+  const dist = opts.disturbance_n ?? 0;
+  const ouA = Math.exp(-dt / tau);
+  const ouB = dist * Math.sqrt(1 - ouA * ouA);
+  const ou = [0, 0, 0, 0];
   const L = new ArmStep(left);
   const R = new ArmStep(right);
   const zones = left.task.zones;
@@ -46,7 +64,7 @@ export function runKinematicCell(
   let fL = 0, fLy = 0;
   const trueHypL = hypIndex(L, occupied);
   const trueHypR = hypIndex(R, occupied);
-  const run: CellRun = { success: false, collided: false, time_s: opts.duration_s, peakInternalN: 0, trace: [] };
+  const run: CellRun = { success: false, collided: false, time_s: opts.duration_s, peakInternalN: 0, trips: { left: [], right: [] }, trace: [] };
   const n = Math.round(opts.duration_s * fs);
   for (let k = 0; k < n; k++) {
     const t = k * dt;
@@ -56,8 +74,10 @@ export function runKinematicCell(
     }
     L.setToolPose(t, px, py + off, 0.9, 0, 0, 0, 1);
     R.setToolPose(t, px, py - off, 0.9, 0, 0, 0, 1);
-    wl[0] = fL + noise * rng.normal(); wl[1] = fLy + noise * rng.normal(); wl[2] = halfWeight + noise * rng.normal();
-    wr[0] = -fL + noise * rng.normal(); wr[1] = -fLy + noise * rng.normal(); wr[2] = halfWeight + noise * rng.normal();
+    // The disturbance starts after the start-up tare (a still beam at the pick stand).
+    for (let j = 0; j < 4; j++) ou[j] = t < 1 ? 0 : ouA * ou[j]! + ouB * rng.normal();
+    wl[0] = fL + ou[0]! + noise * rng.normal(); wl[1] = fLy + ou[1]! + noise * rng.normal(); wl[2] = halfWeight + noise * rng.normal();
+    wr[0] = -fL + ou[2]! + noise * rng.normal(); wr[1] = -fLy + ou[3]! + noise * rng.normal(); wr[2] = halfWeight + noise * rng.normal();
     for (let a = 3; a < 6; a++) { wl[a] = 0.02 * rng.normal(); wr[a] = 0.02 * rng.normal(); }
     const oL = L.step(t, wl);
     const oR = R.step(t, wr);
@@ -75,6 +95,8 @@ export function runKinematicCell(
       break;
     }
   }
+  const names = (a: ArmStep) => a.watchdog.trips.map((r) => `${CHECKS[r.check]}@${r.input}:${r.value.toFixed(2)}>${r.limit}`);
+  run.trips = { left: names(L), right: names(R) };
   return run;
 }
 
