@@ -14,7 +14,7 @@ import type { ArmConfig } from '../params/config.js';
 import { WrenchFilter, type WrenchFilterConfig } from './filter/index.js';
 import { Belief } from './belief.js';
 import { LISTENER, RoleScheduler, SPEAKER, type Role } from './roles.js';
-import { TaskModel } from './task-model.js';
+import { SubsetTable, TaskModel } from './task-model.js';
 import { INPUT, INPUTS, Watchdog, type InputName, type WatchdogInputs, type WatchdogSnapshot } from './watchdog.js';
 
 /** Zone states as in antiphon/msg/ZoneView. */
@@ -132,6 +132,8 @@ export class ArmStep {
   private readonly obj = new Float64Array(2);
   private readonly rawFinite = new Float64Array(6);
   private readonly marg: Float64Array;
+  private readonly hiddenTable: SubsetTable;
+  private readonly ownTable: SubsetTable;
 
   constructor(config: ArmConfig, options: ArmStepOptions = {}) {
     this.config = config;
@@ -144,6 +146,8 @@ export class ArmStep {
     this.replica = new Belief(1 << this.task.own.length);
     this.loglik = new Float64Array(Math.max(this.hypotheses, this.replica.n));
     this.marg = new Float64Array(Math.max(this.task.hidden.length, this.task.own.length, 1));
+    this.hiddenTable = new SubsetTable(this.task.hidden.length);
+    this.ownTable = new SubsetTable(this.task.own.length);
     this.jointCount = options.jointCount ?? 0;
     this.jointVel = new Float64Array(Math.max(64, this.jointCount));
     this.zoneState = new Uint8Array(this.task.n).fill(ZONE_UNKNOWN);
@@ -155,6 +159,8 @@ export class ArmStep {
     const fs = config.wrench_filter.sample_rate_hz;
     this.beliefEvery = Math.max(1, Math.round(fs / config.belief.update_rate_hz));
     this.policyEvery = Math.max(1, Math.round(fs / config.policy.update_rate_hz));
+    // Stagger the policy update half a period after the belief update: a lower worst case per sample.
+    this.policyCount = Math.floor(this.policyEvery / 2);
     this.wdIn = {
       t_s: 0,
       compensated: this.filter.compensated,
@@ -303,7 +309,7 @@ export class ArmStep {
     const dv = this.config.policy.accel_limit_m_s2 * dt;
     const ex = this.targetVx - this.cmdVx;
     const ey = this.targetVy - this.cmdVy;
-    const e = Math.hypot(ex, ey);
+    const e = Math.sqrt(ex * ex + ey * ey);
     if (e <= dv) {
       this.cmdVx = this.targetVx;
       this.cmdVy = this.targetVy;
@@ -366,17 +372,16 @@ export class ArmStep {
   }
 
   /**
-   * The speaker's legible velocity when it knows `known` and its private zones are set by
-   * `hyp` (bits over `privateZones`); `mean` is the speaker's velocity averaged over all its
-   * private hypotheses (what an uninformed listener expects). Writes v2.
+   * The speaker's legible velocity for private hypothesis `hyp` of a table tabulated over
+   * the speaker's private zones (with what it knows as the base); `mean` is its velocity
+   * averaged over all those hypotheses (what an uninformed listener expects). Writes v2.
    */
-  private legible(known: number, hyp: number, privateZones: Int32Array, meanX: number, meanY: number): void {
-    const t = this.task;
-    t.velocity(known | TaskModel.expand(hyp, privateZones), this.v2);
+  private legible(table: SubsetTable, hyp: number, meanX: number, meanY: number): void {
+    this.task.velocityOf(table, hyp, this.v2);
     const lam = this.config.policy.legibility_gain;
     let vx = this.v2[0]! + lam * (this.v2[0]! - meanX);
     let vy = this.v2[1]! + lam * (this.v2[1]! - meanY);
-    const s = Math.hypot(vx, vy);
+    const s = Math.sqrt(vx * vx + vy * vy);
     const vmax = this.config.policy.speed_m_s;
     if (s > vmax) {
       vx *= vmax / s;
@@ -386,12 +391,12 @@ export class ArmStep {
     this.v2[1] = vy;
   }
 
-  /** Mean velocity over every hypothesis of `privateZones` given `known`. */
-  private meanOver(known: number, privateZones: Int32Array): void {
-    const n = 1 << privateZones.length;
+  /** Mean velocity over every hypothesis of a table. Writes v2. */
+  private meanOver(table: SubsetTable): void {
+    const n = table.size;
     let sx = 0, sy = 0;
     for (let h = 0; h < n; h++) {
-      this.task.velocity(known | TaskModel.expand(h, privateZones), this.v2);
+      this.task.velocityOf(table, h, this.v2);
       sx += this.v2[0]!;
       sy += this.v2[1]!;
     }
@@ -409,10 +414,11 @@ export class ArmStep {
     // The partner (speaker) knows the shared zones as this arm sees them, its own (our hidden)
     // zones, and what it learned of ours in its last listening slot (reproduced here).
     const known = this.observedMask(task.shared) | this.committedOwn;
-    this.meanOver(known, task.hidden);
+    task.tabulate(task.hidden, known, this.hiddenTable);
+    this.meanOver(this.hiddenTable);
     const mx = this.v2[0]!, my = this.v2[1]!;
     for (let h = 0; h < this.hypotheses; h++) {
-      this.legible(known, h, task.hidden, mx, my);
+      this.legible(this.hiddenTable, h, mx, my);
       const rx = fx - c * (this.v2[0]! - vx);
       const ry = fy - c * (this.v2[1]! - vy);
       this.loglik[h] = -(rx * rx + ry * ry) * inv2s2;
@@ -434,10 +440,11 @@ export class ArmStep {
     const c = this.config.coupling.damping_n_s_m;
     const inv2s2 = 1 / (2 * this.config.belief.noise_force_n ** 2);
     const known = this.observedMask(task.shared) | this.committedHidden;
-    this.meanOver(known, task.own);
+    task.tabulate(task.own, known, this.ownTable);
+    this.meanOver(this.ownTable);
     const mx = this.v2[0]!, my = this.v2[1]!;
     for (let h = 0; h < this.replica.n; h++) {
-      this.legible(known, h, task.own, mx, my);
+      this.legible(this.ownTable, h, mx, my);
       const rx = c * (vx - this.v2[0]!);
       const ry = c * (vy - this.v2[1]!);
       this.loglik[h] = -(rx * rx + ry * ry) * inv2s2;
@@ -470,11 +477,12 @@ export class ArmStep {
       // Act on my own view and common knowledge only; exaggerate what tells my view from
       // the alternatives the partner still holds.
       const known = shared | this.committedHidden;
-      this.meanOver(known, task.own);
+      task.tabulate(task.own, known, this.ownTable);
+      this.meanOver(this.ownTable);
       const mx = this.v2[0]!, my = this.v2[1]!;
       let hyp = 0;
       for (let b = 0; b < task.own.length; b++) if ((own >>> task.own[b]!) & 1) hyp |= 1 << b;
-      this.legible(known, hyp, task.own, mx, my);
+      this.legible(this.ownTable, hyp, mx, my);
       this.targetVx = this.v2[0]!;
       this.targetVy = this.v2[1]!;
       return;
@@ -483,8 +491,9 @@ export class ArmStep {
     // hypotheses it still holds disagree about what to do (uncertainty that matters here).
     let sx = 0, sy = 0, sxx = 0;
     const p = this.belief.p;
+    task.tabulate(task.hidden, shared | own, this.hiddenTable);
     for (let h = 0; h < this.hypotheses; h++) {
-      task.velocity(shared | own | TaskModel.expand(h, task.hidden), this.v2);
+      task.velocityOf(this.hiddenTable, h, this.v2);
       const ph = p[h]!;
       sx += ph * this.v2[0]!;
       sy += ph * this.v2[1]!;

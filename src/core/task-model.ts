@@ -20,6 +20,22 @@ export const MAX_ZONES = 24;
 /** Clearance kept between the object and an occupied zone. */
 export const CLEARANCE_M = 0.05;
 
+/** Per-subset contributions of a set of zones (see `TaskModel.tabulate`). */
+export class SubsetTable {
+  readonly ly: Float64Array;
+  readonly cap: Float64Array;
+  readonly lo: Float64Array;
+  readonly hi: Float64Array;
+  size = 0;
+  constructor(bits: number) {
+    const n = 1 << bits;
+    this.ly = new Float64Array(n);
+    this.cap = new Float64Array(n);
+    this.lo = new Float64Array(n);
+    this.hi = new Float64Array(n);
+  }
+}
+
 export class TaskModel {
   readonly zones: readonly ZoneConfig[];
   readonly n: number;
@@ -148,13 +164,55 @@ export class TaskModel {
       if (this.lo[z]! > lo) lo = this.lo[z]!;
       if (this.hi[z]! < hi) hi = this.hi[z]!;
     }
+    this.finish(ly, cap, lo, hi, out, offset);
+  }
+
+  /**
+   * Tabulate, for every subset h of `zones` (bit b of h: zones[b] occupied) together with
+   * the zones of `baseMask`, the summed contributions, so that `velocityOf(table, h)` is
+   * O(1). Each subset extends a smaller one by a single zone. Call `prepare()` first.
+   */
+  tabulate(zones: Int32Array, baseMask: number, table: SubsetTable): void {
+    let subsetMask = 0;
+    for (let b = 0; b < zones.length; b++) subsetMask |= 1 << zones[b]!;
+    const base = baseMask & ~subsetMask;
+    let ly = 0, cap = Infinity, lo = -Infinity, hi = Infinity;
+    for (let z = 0; z < this.n; z++) {
+      if (((base >>> z) & 1) === 0) continue;
+      ly += this.lat[z]!;
+      if (this.cap[z]! < cap) cap = this.cap[z]!;
+      if (this.lo[z]! > lo) lo = this.lo[z]!;
+      if (this.hi[z]! < hi) hi = this.hi[z]!;
+    }
+    table.ly[0] = ly;
+    table.cap[0] = cap;
+    table.lo[0] = lo;
+    table.hi[0] = hi;
+    const n = 1 << zones.length;
+    for (let h = 1; h < n; h++) {
+      const prev = h & (h - 1);
+      const z = zones[31 - Math.clz32(h & -h)]!;
+      table.ly[h] = table.ly[prev]! + this.lat[z]!;
+      table.cap[h] = Math.min(table.cap[prev]!, this.cap[z]!);
+      table.lo[h] = Math.max(table.lo[prev]!, this.lo[z]!);
+      table.hi[h] = Math.min(table.hi[prev]!, this.hi[z]!);
+    }
+    table.size = n;
+  }
+
+  /** Velocity of subset h of a table made by `tabulate()`. */
+  velocityOf(table: SubsetTable, h: number, out: Float64Array, offset = 0): void {
+    this.finish(table.ly[h]!, table.cap[h]!, table.lo[h]!, table.hi[h]!, out, offset);
+  }
+
+  private finish(ly: number, cap: number, lo: number, hi: number, out: Float64Array, offset: number): void {
     let vx = this.gx;
     if (vx * this.dir > cap) vx = cap * this.dir;
     let gy = this.gy;
     if (gy < lo) gy = lo;
     if (gy > hi) gy = hi;
     let vy = gy + ly;
-    const speed = Math.hypot(vx, vy);
+    const speed = Math.sqrt(vx * vx + vy * vy);
     const vmax = this.policy.speed_m_s;
     if (speed > vmax) {
       vx *= vmax / speed;

@@ -157,10 +157,10 @@ export class Watchdog {
     if (finite) {
       const w = x.compensated;
       const c = x.correction;
-      const f = Math.hypot(w[0]!, w[1]!, w[2]!);
-      const tq = Math.hypot(w[3]!, w[4]!, w[5]!);
-      const fc = Math.hypot(c[0]!, c[1]!, c[2]!);
-      const tc = Math.hypot(c[3]!, c[4]!, c[5]!);
+      const f = Math.sqrt(w[0]! * w[0]! + w[1]! * w[1]! + w[2]! * w[2]!);
+      const tq = Math.sqrt(w[3]! * w[3]! + w[4]! * w[4]! + w[5]! * w[5]!);
+      const fc = Math.sqrt(c[0]! * c[0]! + c[1]! * c[1]! + c[2]! * c[2]!);
+      const tc = Math.sqrt(c[3]! * c[3]! + c[4]! * c[4]! + c[5]! * c[5]!);
       if (f > p.force_limit_n) { this.trip(CHECK.force_raw, 'wrench', f, p.force_limit_n, t); bad = true; }
       if (tq > p.torque_limit_nm) { this.trip(CHECK.torque_raw, 'wrench', tq, p.torque_limit_nm, t); bad = true; }
       if (fc > p.correction_force_limit_n) { this.trip(CHECK.force_correction, 'wrench', fc, p.correction_force_limit_n, t); bad = true; }
@@ -200,8 +200,8 @@ export class Watchdog {
    */
   checkOutput(t: number, twist: Float64Array): void {
     const p = this.p;
-    const lin = Math.hypot(twist[0]!, twist[1]!, twist[2]!);
-    const ang = Math.hypot(twist[3]!, twist[4]!, twist[5]!);
+    const lin = Math.sqrt(twist[0]! * twist[0]! + twist[1]! * twist[1]! + twist[2]! * twist[2]!);
+    const ang = Math.sqrt(twist[3]! * twist[3]! + twist[4]! * twist[4]! + twist[5]! * twist[5]!);
     let bad = false;
     if (!(lin <= p.linear_speed_limit_m_s)) { this.trip(CHECK.twist_linear, 'recommended_twist', lin, p.linear_speed_limit_m_s, t); bad = true; }
     if (!(ang <= p.angular_speed_limit_rad_s)) { this.trip(CHECK.twist_angular, 'recommended_twist', ang, p.angular_speed_limit_rad_s, t); bad = true; }

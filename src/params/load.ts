@@ -275,7 +275,7 @@ export function resolveForArm(file: ParamsFile | undefined, arm: ArmName): Map<s
   const out = new Map<string, ResolvedValue>();
   for (const s of SCHEMA) {
     if (s.key.includes('*') || s.default === undefined) continue;
-    out.set(s.key, { key: s.key, value: s.default, source: { kind: 'default' }, spec: s });
+    out.set(s.key, { key: s.key, value: s.armDefault ? s.armDefault[arm] : s.default, source: { kind: 'default' }, spec: s });
   }
   if (!file) return out;
   const layers = [file.sections.get('/**'), file.sections.get(arm)];

@@ -58,7 +58,7 @@ export const SCHEMA: readonly ParamSpec[] = [
   e('roles.scheduler', 'alternating', ['fixed', 'alternating', 'adaptive'], 'How roles are assigned on the shared clock.'),
   e('roles.fixed_role', 'speaker', ['speaker', 'listener'], 'The role held when the scheduler is fixed.'),
   d('roles.period_s', 's', 0.5, 0.005, 600, 'Slot length of the alternating scheduler (and the adaptive fall-back).'),
-  i('roles.phase', 0, 0, 1, 'Alternating: this arm speaks in even slots (0) or odd slots (1). The partner takes the other.'),
+  { ...i('roles.phase', 0, 0, 1, 'Alternating: this arm speaks in even slots (0) or odd slots (1). The partner takes the other. Default: 0 for left, 1 for right.'), armDefault: { left: 0, right: 1 } },
   d('roles.adaptive.min_dwell_s', 's', 0.4, 0, 60, 'Adaptive: the least time between two switches.'),
   d('roles.adaptive.hysteresis_m', 'm', 0.05, 0, 5, 'Adaptive: a new nearest zone must be closer by this much to take the turn.'),
 

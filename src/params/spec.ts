@@ -20,6 +20,8 @@ export interface ParamSpec {
   readonly unit: string;
   /** Default; `undefined` means the key is required wherever its pattern applies. */
   readonly default: ParamValue | undefined;
+  /** Per-arm defaults, where the two arms must differ (e.g. the alternating phase). */
+  readonly armDefault?: { readonly left: ParamValue; readonly right: ParamValue };
   /** Allowed range (inclusive) for numbers and for every element of number arrays. */
   readonly min?: number;
   readonly max?: number;
