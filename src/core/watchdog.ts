@@ -227,7 +227,8 @@ export class Watchdog {
 
   private updateClear(t: number, bad: boolean): void {
     if (bad) {
-      this.lastBadT = t;
+      // On the latest time seen: a sample from the past must not date the fault earlier.
+      this.lastBadT = Math.max(t, this.lastT);
       this.clearFor_s = 0;
     } else {
       if (Number.isNaN(this.firstT)) this.firstT = t;
