@@ -1,0 +1,302 @@
+/**
+ * The simulated cell on MuJoCo: two admittance-controlled tool points welded to one beam,
+ * obstacles where this world's zones are occupied, and a six-axis force-torque sensor at
+ * each wrist. This class is the "sim shell": it steps the physics and converts between
+ * MuJoCo's conventions and what a real cell's drivers would publish.
+ *
+ * Step protocol (one physics step):
+ *   step1()            positions and velocities of the current state (tool pose, joint states)
+ *   read*()            wrench from the previous step's dynamics (a one-step sensor latency)
+ *   setCommand(...)    each arm's motion stack command
+ *   step2()            dynamics with the new commands (sensors), integration to the next state
+ */
+import type { MainModule, MjData, MjModel } from 'mujoco-js';
+import type { TaskParams } from '../params/config.js';
+import { Rng } from '../util/rng.js';
+import { compileMjcf, objectId } from './mujoco.js';
+import { buildMjcf } from './mjcf.js';
+import type { SimOptions } from './options.js';
+import type { ArmSide, SensorDraw, World } from './world.js';
+
+/** Joints per arm reported in joint states: slide x, y, z (m, m/s). */
+export const ARM_JOINTS = 3;
+export const JOINT_NAMES = ['x', 'y', 'z'] as const;
+
+interface ArmIds {
+  qposAdr: number; // first of 3 consecutive slide joints
+  dofAdr: number;
+  ctrlAdr: number; // vx, vy
+  site: number;
+  sensorAdr: number; // force (3) then torque (3)
+}
+
+interface Views {
+  qpos: Float64Array;
+  qvel: Float64Array;
+  ctrl: Float64Array;
+  sensordata: Float64Array;
+  site_xpos: Float64Array;
+  site_xmat: Float64Array;
+  xpos: Float64Array;
+  xmat: Float64Array;
+  energy: Float64Array;
+}
+
+/** A wrist sensor's imperfections: bias + drift t + white noise (sensor frame). */
+export class SensorModel {
+  private readonly rng: Rng;
+  constructor(
+    readonly draw: SensorDraw,
+    private readonly noiseForce: number,
+    private readonly noiseTorque: number,
+  ) {
+    this.rng = new Rng(draw.noiseSeed);
+  }
+  /** out = truth + bias + drift t + noise. */
+  measure(t: number, truth: Float64Array, out: Float64Array): void {
+    const b = this.draw.bias;
+    const d = this.draw.drift;
+    for (let a = 0; a < 6; a++) {
+      const s = a < 3 ? this.noiseForce : this.noiseTorque;
+      out[a] = truth[a]! + b[a]! + d[a]! * t + (s > 0 ? s * this.rng.normal() : 0);
+    }
+  }
+}
+
+export class SimCell {
+  readonly model: MjModel;
+  readonly data: MjData;
+  readonly beamBody: number;
+  readonly beamQpos: number;
+  readonly beamDof: number;
+  /** Geom id per zone (task order), -1 where the zone is free in this world. */
+  readonly obstacleGeom: Int32Array;
+  readonly xml: string;
+  private readonly arms: Record<ArmSide, ArmIds>;
+  private v!: Views;
+  private disposed = false;
+
+  constructor(
+    private readonly mj: MainModule,
+    readonly task: TaskParams,
+    readonly world: World,
+    readonly options: SimOptions,
+  ) {
+    const { xml, names } = buildMjcf(task, world, options);
+    this.xml = xml;
+    const { model, data } = compileMjcf(mj, xml);
+    this.model = model;
+    this.data = data;
+    const m = model as unknown as { jnt_qposadr: Int32Array; jnt_dofadr: Int32Array; sensor_adr: Int32Array };
+    const ids = (side: ArmSide): ArmIds => {
+      const jx = objectId(mj, model, 'joint', `${side}_x`);
+      return {
+        qposAdr: m.jnt_qposadr[jx]!,
+        dofAdr: m.jnt_dofadr[jx]!,
+        ctrlAdr: objectId(mj, model, 'actuator', `${side}_vx`),
+        site: objectId(mj, model, 'site', `${side}_ft`),
+        sensorAdr: m.sensor_adr[objectId(mj, model, 'sensor', `${side}_force`)]!,
+      };
+    };
+    this.arms = { left: ids('left'), right: ids('right') };
+    this.beamBody = objectId(mj, model, 'body', 'beam');
+    const jb = objectId(mj, model, 'joint', 'beam_free');
+    this.beamQpos = m.jnt_qposadr[jb]!;
+    this.beamDof = m.jnt_dofadr[jb]!;
+    this.obstacleGeom = Int32Array.from(names.obstacleGeoms, (n) => (n === '' ? -1 : objectId(mj, model, 'geom', n)));
+    this.refreshViews();
+    // Positions of the initial state (tool poses valid before the first step).
+    mj.mj_forward(model, data);
+  }
+
+  private refreshViews(): void {
+    const d = this.data as unknown as Views;
+    this.v = {
+      qpos: d.qpos,
+      qvel: d.qvel,
+      ctrl: d.ctrl,
+      sensordata: d.sensordata,
+      site_xpos: d.site_xpos,
+      site_xmat: d.site_xmat,
+      xpos: d.xpos,
+      xmat: d.xmat,
+      energy: d.energy,
+    };
+  }
+
+  /** The heap views, fetched again if the WebAssembly memory grew. */
+  private get views(): Views {
+    if (this.v.qpos.length === 0) this.refreshViews();
+    return this.v;
+  }
+
+  get time(): number {
+    return this.data.time;
+  }
+
+  step1(): void {
+    this.mj.mj_step1(this.model, this.data);
+  }
+
+  step2(): void {
+    this.mj.mj_step2(this.model, this.data);
+  }
+
+  /** Motion stack command of one arm: tool velocity in the cell frame (x, y), m/s. */
+  setCommand(side: ArmSide, vx: number, vy: number): void {
+    const c = this.views.ctrl;
+    const a = this.arms[side].ctrlAdr;
+    c[a] = vx;
+    c[a + 1] = vy;
+  }
+
+  /**
+   * The wrench the beam side exerts on this arm, in the sensor frame (fx fy fz tx ty tz),
+   * noise-free, from the last dynamics evaluation.
+   */
+  wrenchTruth(side: ArmSide, out: Float64Array): void {
+    const s = this.views.sensordata;
+    const a = this.arms[side].sensorAdr;
+    for (let k = 0; k < 6; k++) out[k] = -s[a + k]!;
+  }
+
+  /** Sensor-frame 3-vector rotated into the cell frame with the sensor site's orientation. */
+  toCell(side: ArmSide, fx: number, fy: number, fz: number, out: Float64Array, offset = 0): void {
+    const R = this.views.site_xmat;
+    const b = 9 * this.arms[side].site;
+    out[offset] = R[b]! * fx + R[b + 1]! * fy + R[b + 2]! * fz;
+    out[offset + 1] = R[b + 3]! * fx + R[b + 4]! * fy + R[b + 5]! * fz;
+    out[offset + 2] = R[b + 6]! * fx + R[b + 7]! * fy + R[b + 8]! * fz;
+  }
+
+  /** Tool (sensor site) pose in the cell frame: x y z qx qy qz qw. */
+  toolPose(side: ArmSide, out: Float64Array, offset = 0): void {
+    const v = this.views;
+    const i = this.arms[side].site;
+    out[offset] = v.site_xpos[3 * i]!;
+    out[offset + 1] = v.site_xpos[3 * i + 1]!;
+    out[offset + 2] = v.site_xpos[3 * i + 2]!;
+    matToQuat(v.site_xmat, 9 * i, out, offset + 3);
+  }
+
+  /** Slide joint positions (x, y, z), m, relative to the start pose. */
+  jointPositions(side: ArmSide, out: Float64Array, offset = 0): void {
+    const q = this.views.qpos;
+    const a = this.arms[side].qposAdr;
+    for (let k = 0; k < ARM_JOINTS; k++) out[offset + k] = q[a + k]!;
+  }
+
+  jointVelocities(side: ArmSide, out: Float64Array, offset = 0): void {
+    const q = this.views.qvel;
+    const a = this.arms[side].dofAdr;
+    for (let k = 0; k < ARM_JOINTS; k++) out[offset + k] = q[a + k]!;
+  }
+
+  /** Beam pose (centre x y z, quaternion qx qy qz qw) from qpos. */
+  beamPose(out: Float64Array, offset = 0): void {
+    const q = this.views.qpos;
+    const a = this.beamQpos;
+    out[offset] = q[a]!;
+    out[offset + 1] = q[a + 1]!;
+    out[offset + 2] = q[a + 2]!;
+    // MuJoCo stores w x y z.
+    out[offset + 3] = q[a + 4]!;
+    out[offset + 4] = q[a + 5]!;
+    out[offset + 5] = q[a + 6]!;
+    out[offset + 6] = q[a + 3]!;
+  }
+
+  /** Beam linear velocity (cell frame) and angular velocity (beam frame, MuJoCo's free joint convention). */
+  beamVelocity(out: Float64Array, offset = 0): void {
+    const q = this.views.qvel;
+    const a = this.beamDof;
+    for (let k = 0; k < 6; k++) out[offset + k] = q[a + k]!;
+  }
+
+  /** The beam's long axis (its local y) in the cell frame, from the last position evaluation. */
+  beamAxis(out: Float64Array): void {
+    const R = this.views.xmat;
+    const b = 9 * this.beamBody;
+    out[0] = R[b + 1]!;
+    out[1] = R[b + 4]!;
+    out[2] = R[b + 7]!;
+  }
+
+  /** Potential (gravity and springs) and kinetic energy, J, from the last evaluation. */
+  energy(): { potential: number; kinetic: number } {
+    const e = this.views.energy;
+    return { potential: e[0]!, kinetic: e[1]! };
+  }
+
+  /**
+   * Bitmask of zones whose obstacle touches the beam now (bit = zone index). Only the beam
+   * and the obstacles collide, so any contact is one of them.
+   */
+  contactMask(): number {
+    const n = this.data.ncon;
+    if (n === 0) return 0;
+    let mask = 0;
+    const vec = this.data.contact;
+    for (let k = 0; k < n; k++) {
+      const c = vec.get(k);
+      if (!c) continue;
+      const g1 = c.geom1;
+      const g2 = c.geom2;
+      c.delete();
+      for (let z = 0; z < this.obstacleGeom.length; z++) {
+        const g = this.obstacleGeom[z]!;
+        if (g >= 0 && (g === g1 || g === g2)) mask |= 1 << z;
+      }
+    }
+    vec.delete();
+    return mask;
+  }
+
+  dispose(): void {
+    if (this.disposed) return;
+    this.disposed = true;
+    this.data.delete();
+    this.model.delete();
+  }
+}
+
+/** Rotation matrix (row-major, at offset) to quaternion (qx qy qz qw) at out[o..o+3]. */
+export function matToQuat(R: Float64Array, b: number, out: Float64Array, o: number): void {
+  const m00 = R[b]!, m01 = R[b + 1]!, m02 = R[b + 2]!;
+  const m10 = R[b + 3]!, m11 = R[b + 4]!, m12 = R[b + 5]!;
+  const m20 = R[b + 6]!, m21 = R[b + 7]!, m22 = R[b + 8]!;
+  const tr = m00 + m11 + m22;
+  let qw: number, qx: number, qy: number, qz: number;
+  if (tr > 0) {
+    const s = Math.sqrt(tr + 1) * 2;
+    qw = 0.25 * s;
+    qx = (m21 - m12) / s;
+    qy = (m02 - m20) / s;
+    qz = (m10 - m01) / s;
+  } else if (m00 > m11 && m00 > m22) {
+    const s = Math.sqrt(1 + m00 - m11 - m22) * 2;
+    qw = (m21 - m12) / s;
+    qx = 0.25 * s;
+    qy = (m01 + m10) / s;
+    qz = (m02 + m20) / s;
+  } else if (m11 > m22) {
+    const s = Math.sqrt(1 + m11 - m00 - m22) * 2;
+    qw = (m02 - m20) / s;
+    qx = (m01 + m10) / s;
+    qy = 0.25 * s;
+    qz = (m12 + m21) / s;
+  } else {
+    const s = Math.sqrt(1 + m22 - m00 - m11) * 2;
+    qw = (m10 - m01) / s;
+    qx = (m02 + m20) / s;
+    qy = (m12 + m21) / s;
+    qz = 0.25 * s;
+  }
+  if (qw < 0) {
+    qw = -qw; qx = -qx; qy = -qy; qz = -qz;
+  }
+  out[o] = qx;
+  out[o + 1] = qy;
+  out[o + 2] = qz;
+  out[o + 3] = qw;
+}

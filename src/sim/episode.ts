@@ -1,0 +1,469 @@
+/**
+ * One episode of the simulated cell: a world drawn from a seed, a strategy applied to both
+ * arms' configurations, two decentralized arm steps (each fed only its own wrench, joint
+ * states, tool pose and zone view) and the MuJoCo cell between them. The arms share nothing
+ * but the forces through the beam, and, for the explicit baseline only, zone messages.
+ *
+ * Deterministic: the same inputs and seed give the same summary and record bit for bit.
+ */
+import type { MainModule } from 'mujoco-js';
+import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN, type ArmOutputs } from '../core/arm-step.js';
+import { CHECKS } from '../core/watchdog.js';
+import type { ArmConfig, TaskParams } from '../params/config.js';
+import { InputError, type Problem } from '../util/errors.js';
+import { ARM_JOINTS, SensorModel, SimCell } from './cell.js';
+import { loadMujoco } from './mujoco.js';
+import { simOptions, type SimOptions, type SimOptionsOverrides } from './options.js';
+import { Recorder, type EpisodeRecord, type ZoneMessage } from './record.js';
+import { applyStrategy, strategyLabel, type StrategySpec } from './strategies.js';
+import { checkTaskForCell, sampleWorld, type ArmSide, type World } from './world.js';
+
+export type EndReason = 'success' | 'time_limit' | 'stall' | 'hold';
+
+export interface HoldReason {
+  readonly check: string;
+  readonly input: string;
+  readonly value: number;
+  readonly limit: number;
+  readonly t_s: number;
+}
+
+export interface HoldEvent {
+  readonly arm: ArmSide;
+  readonly start_s: number;
+  /** When the reset released it; null if it never did. */
+  readonly end_s: number | null;
+  readonly reasons: readonly HoldReason[];
+}
+
+export interface EpisodeSummary {
+  readonly seed: number;
+  readonly strategy: string;
+  readonly k: number | null;
+  readonly world: {
+    readonly occupied: Readonly<Record<string, boolean>>;
+    readonly start_m: readonly [number, number];
+    readonly goal_m: readonly [number, number];
+  };
+  readonly success: boolean;
+  readonly end_reason: EndReason;
+  /** Simulated time at the end, s. */
+  readonly duration_s: number;
+  /** Time of success, s; null when the goal was not reached. */
+  readonly time_to_goal_s: number | null;
+  readonly final_position_m: readonly [number, number];
+  readonly final_distance_m: number;
+  readonly collisions: {
+    /** Contact onsets between the beam and an obstacle (debounced). */
+    readonly count: number;
+    readonly first_s: number | null;
+    readonly per_zone: Readonly<Record<string, number>>;
+    /** Total time any obstacle touched the beam, s. */
+    readonly contact_s: number;
+  };
+  readonly internal_force: {
+    /** Largest |opposing component of the wrist forces along the beam axis| after the settle time, N. */
+    readonly peak_n: number;
+    /** Its mean absolute value over the same span, N. */
+    readonly mean_n: number;
+  };
+  readonly holds: {
+    readonly count: number;
+    readonly reasons: Readonly<Record<string, number>>;
+    readonly events: readonly HoldEvent[];
+  };
+  readonly role_switches: { readonly left: number; readonly right: number };
+  readonly tared_at_s: { readonly left: number | null; readonly right: number | null };
+  readonly samples: number;
+}
+
+export interface EpisodeInput {
+  /** Both arms' configurations as loaded (the nominal task; the world jitters start and goal). */
+  readonly left: ArmConfig;
+  readonly right: ArmConfig;
+  readonly strategy: StrategySpec;
+  readonly seed: number;
+  readonly options?: SimOptionsOverrides;
+  /** Simulated time limit, s; default task.time_limit_s. */
+  readonly duration_s?: number;
+  /** Use this world instead of drawing one from the seed (tests). */
+  readonly world?: World;
+  /** Override the commands (tests of the physics): called at each sample after the steps ran. */
+  readonly commandOverride?: (t: number, side: ArmSide, out: Float64Array) => void;
+}
+
+export interface EpisodeResult {
+  readonly summary: EpisodeSummary;
+  readonly record: EpisodeRecord | null;
+  readonly world: World;
+  readonly xml: string;
+}
+
+/** Problems that must stop a run before any simulation starts. */
+export function checkEpisodeSetup(left: ArmConfig, options: SimOptions): Problem[] {
+  const out = checkTaskForCell(left.task, options);
+  const rate = left.wrench_filter.sample_rate_hz;
+  const every = 1 / (rate * options.timestep_s);
+  if (Math.abs(every - Math.round(every)) > 1e-9 || Math.round(every) < 1) {
+    out.push({ code: 'sim.rate_not_multiple', message: `wrench_filter.sample_rate_hz = ${rate} Hz is not the physics rate ${1 / options.timestep_s} Hz divided by a whole number`, where: { key: 'wrench_filter.sample_rate_hz' }, hint: `${1 / options.timestep_s} Hz, or that divided by 2, 4, 5, ...` });
+  }
+  return out;
+}
+
+function taskForWorld(task: TaskParams, world: World): TaskParams {
+  return { ...task, start_m: world.start_m, goal_m: world.goal_m };
+}
+
+const SIDES = ['left', 'right'] as const;
+
+/** Run one episode. Loads MuJoCo on first use. */
+export async function runEpisode(input: EpisodeInput): Promise<EpisodeResult> {
+  const mj = await loadMujoco();
+  return runEpisodeWith(mj, input);
+}
+
+export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResult {
+  const o = simOptions(input.options);
+  const problems = checkEpisodeSetup(input.left, o);
+  if (problems.length) throw new InputError(problems);
+  const nominal = input.left.task;
+  const world = input.world ?? sampleWorld(nominal, o, input.seed);
+  const task = taskForWorld(nominal, world);
+  const applied = applyStrategy(input.strategy, { ...input.left, task }, { ...input.right, task });
+  const cfg = { left: applied.left, right: applied.right };
+  const rate = cfg.left.wrench_filter.sample_rate_hz;
+  const every = Math.round(1 / (rate * o.timestep_s));
+  const dt = o.timestep_s;
+  const duration = input.duration_s ?? task.time_limit_s;
+  const nSteps = Math.ceil(duration / dt - 1e-9);
+  const zones = task.zones;
+  const nz = zones.length;
+
+  const cell = new SimCell(mj, task, world, o);
+  try {
+    const arms = { left: new ArmStep(cfg.left, { jointCount: ARM_JOINTS }), right: new ArmStep(cfg.right, { jointCount: ARM_JOINTS }) };
+    const sensors = {
+      left: new SensorModel(world.sensors.left, o.sensor.noise_force_n, o.sensor.noise_torque_nm),
+      right: new SensorModel(world.sensors.right, o.sensor.noise_force_n, o.sensor.noise_torque_nm),
+    };
+    // Which zones each arm's own area sensor physically sees (the real sensors, whatever the strategy).
+    const sees = {
+      left: zones.map((z) => z.observed_by === 'left' || z.observed_by === 'both'),
+      right: zones.map((z) => z.observed_by === 'right' || z.observed_by === 'both'),
+    };
+    const truthState = world.occupied.map((occ) => (occ ? ZONE_OCCUPIED : ZONE_FREE));
+    const half = zones.map((z) => (z.shape === 'box' ? z.size_m[0] / 2 : z.radius_m));
+    const ownView = { left: new Uint8Array(nz).fill(ZONE_UNKNOWN), right: new Uint8Array(nz).fill(ZONE_UNKNOWN) };
+    const fedView = { left: new Uint8Array(nz).fill(ZONE_UNKNOWN), right: new Uint8Array(nz).fill(ZONE_UNKNOWN) };
+    const fromPartner = { left: new Uint8Array(nz).fill(ZONE_UNKNOWN), right: new Uint8Array(nz).fill(ZONE_UNKNOWN) };
+    const nextZoneT = { left: 0, right: 0 };
+    const zonePeriod = 1 / o.zone_sensor_rate_hz;
+    const messages: ZoneMessage[] = [];
+    let nextDelivery = 0;
+
+    const rec = o.record
+      ? new Recorder(
+          zones.map((z) => z.name),
+          { left: Array.from(arms.left.task.hidden, (k) => zones[k]!.name), right: Array.from(arms.right.task.hidden, (k) => zones[k]!.name) },
+          { left: arms.left.hypotheses, right: arms.right.hypotheses },
+          Math.min(nSteps / every + 1, 16384),
+        )
+      : null;
+    const ch = rec ? channelIndices(rec) : null;
+
+    // Scratch.
+    const meas = { left: new Float64Array(6), right: new Float64Array(6) };
+    const truthW = { left: new Float64Array(6), right: new Float64Array(6) };
+    const jv = new Float64Array(ARM_JOINTS);
+    const pose = { left: new Float64Array(7), right: new Float64Array(7) };
+    const fCell = { left: new Float64Array(3), right: new Float64Array(3) };
+    const cmd = { left: new Float64Array(2), right: new Float64Array(2) };
+    const axis = new Float64Array(3);
+    const beam = new Float64Array(7);
+    const beamV = new Float64Array(6);
+
+    // Outcome tracking.
+    let endReason: EndReason = 'time_limit';
+    let timeToGoal: number | null = null;
+    const inContact = new Uint8Array(nz);
+    const lastContactEnd = new Float64Array(nz).fill(Number.NEGATIVE_INFINITY);
+    const perZone = new Int32Array(nz);
+    let collisions = 0;
+    let firstCollision: number | null = null;
+    let contactSteps = 0;
+    let peakInternal = 0;
+    let sumInternal = 0;
+    let nInternal = 0;
+    const holdEvents: Array<{ arm: ArmSide; start_s: number; end_s: number | null; reasons: HoldReason[] }> = [];
+    const openHold: Record<ArmSide, number> = { left: -1, right: -1 };
+    const taredAt: Record<ArmSide, number | null> = { left: null, right: null };
+    let anchorX = world.start_m[0];
+    let anchorY = world.start_m[1];
+    let anchorT = o.settle_s;
+    let lastT = 0;
+    let sampleIndex = 0;
+    const tol = task.goal_tolerance_m;
+    const [gx, gy] = world.goal_m;
+
+    const copyTrips = (a: ArmStep): HoldReason[] => a.watchdog.trips.map((r) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s }));
+
+    let step = 0;
+    for (; step < nSteps; step++) {
+      cell.step1();
+      const t = step * dt;
+      lastT = t;
+      // Contacts of the current positions (collision detection runs in step1).
+      const mask = cell.contactMask();
+      if (mask !== 0) contactSteps++;
+      for (let z = 0; z < nz; z++) {
+        const c = (mask >>> z) & 1;
+        if (c && !inContact[z]) {
+          if (t - lastContactEnd[z]! >= o.contact_debounce_s) {
+            collisions++;
+            perZone[z]!++;
+            if (firstCollision === null) firstCollision = t;
+          }
+          inContact[z] = 1;
+        } else if (!c && inContact[z]) {
+          inContact[z] = 0;
+          lastContactEnd[z] = t;
+        } else if (c) {
+          lastContactEnd[z] = t;
+        }
+      }
+
+      if (step % every === 0) {
+        // Explicit baseline: send and deliver zone messages.
+        if (applied.view === 'messages') {
+          if (sampleIndex > 0 && sampleIndex % applied.messageEvery === 0) {
+            for (const s of SIDES) {
+              const states = Array.from(ownView[s], (v, z) => (sees[s][z] ? v : ZONE_UNKNOWN));
+              messages.push({ from: s, sent_s: t, delivered_s: t + o.message_latency_s, states });
+            }
+          }
+          while (nextDelivery < messages.length && messages[nextDelivery]!.delivered_s <= t + 1e-12) {
+            const m = messages[nextDelivery++]!;
+            const to = m.from === 'left' ? 'right' : 'left';
+            for (let z = 0; z < nz; z++) if (m.states[z] !== ZONE_UNKNOWN) fromPartner[to][z] = m.states[z]!;
+            nextZoneT[to] = Math.min(nextZoneT[to], t); // the node updates its view on receipt
+          }
+        }
+        for (const s of SIDES) {
+          const arm = arms[s];
+          cell.wrenchTruth(s, truthW[s]);
+          sensors[s].measure(t, truthW[s], meas[s]);
+          cell.jointVelocities(s, jv);
+          arm.setJointState(t, jv, ARM_JOINTS);
+          const p = pose[s];
+          cell.toolPose(s, p);
+          arm.setToolPose(t, p[0]!, p[1]!, p[2]!, p[3]!, p[4]!, p[5]!, p[6]!);
+          if (t >= nextZoneT[s] - 1e-12) {
+            nextZoneT[s] = t + zonePeriod;
+            const view = fedView[s];
+            for (let z = 0; z < nz; z++) {
+              const inRange = Math.max(0, Math.abs(p[0]! - zones[z]!.center_m[0]) - half[z]!) <= o.zone_sensor_range_m;
+              ownView[s][z] = sees[s][z] && inRange ? truthState[z]! : ZONE_UNKNOWN;
+              if (applied.view === 'all') view[z] = truthState[z]!;
+              else if (ownView[s][z] !== ZONE_UNKNOWN) view[z] = ownView[s][z]!;
+              else if (applied.view === 'messages') view[z] = fromPartner[s][z]!;
+              else view[z] = ZONE_UNKNOWN;
+            }
+            arm.setZoneView(t, view);
+          }
+          const out: ArmOutputs = arm.step(t, meas[s]);
+          if (out.tared && taredAt[s] === null) taredAt[s] = t;
+          const c = cmd[s];
+          if (t < o.settle_s) {
+            c[0] = 0;
+            c[1] = 0;
+          } else {
+            c[0] = out.twist[0]!;
+            c[1] = out.twist[1]!;
+          }
+          if (input.commandOverride) input.commandOverride(t, s, c);
+          cell.setCommand(s, c[0]!, c[1]!);
+          // Holds: the operator presses reset when the watchdog would release.
+          if (out.held) {
+            if (openHold[s] < 0) {
+              openHold[s] = holdEvents.length;
+              holdEvents.push({ arm: s, start_s: t, end_s: null, reasons: [] });
+            }
+            const ev = holdEvents[openHold[s]]!;
+            if (o.auto_reset && arm.watchdog.readyToRelease) {
+              const reasons = copyTrips(arm);
+              if (arm.requestReset().released) {
+                ev.reasons = reasons;
+                ev.end_s = t;
+                openHold[s] = -1;
+              }
+            } else if (o.hold_timeout_s > 0 && t - ev.start_s > o.hold_timeout_s) {
+              endReason = 'hold';
+            }
+          }
+          // Noise-free force on the arm in the cell frame.
+          const w = truthW[s];
+          cell.toCell(s, w[0]!, w[1]!, w[2]!, fCell[s]);
+        }
+        cell.beamAxis(axis);
+        const fl = fCell.left, fr = fCell.right;
+        const internal = 0.5 * (fl[0]! * axis[0]! + fl[1]! * axis[1]! + fl[2]! * axis[2]! - (fr[0]! * axis[0]! + fr[1]! * axis[1]! + fr[2]! * axis[2]!));
+        if (t >= o.settle_s) {
+          const a = Math.abs(internal);
+          if (a > peakInternal) peakInternal = a;
+          sumInternal += a;
+          nInternal++;
+        }
+        cell.beamPose(beam);
+        cell.beamVelocity(beamV);
+        if (rec && ch) record(rec, ch, t, arms, meas, truthW, fCell, pose, fedView, cmd, cell, beam, beamV, internal, mask);
+        sampleIndex++;
+        // Success, stall.
+        const bx = beam[0]!, by = beam[1]!;
+        if (t >= o.settle_s) {
+          if (Math.hypot(bx - gx, by - gy) <= tol && Math.hypot(beamV[0]!, beamV[1]!) < o.success_speed_m_s) {
+            endReason = 'success';
+            timeToGoal = t;
+          } else if (Math.hypot(bx - anchorX, by - anchorY) > 0.005) {
+            anchorX = bx;
+            anchorY = by;
+            anchorT = t;
+          } else if (o.stall_s > 0 && t - anchorT > o.stall_s) {
+            endReason = 'stall';
+          }
+        }
+        if (endReason !== 'time_limit') break;
+      }
+      cell.step2();
+    }
+    // Holds still open at the end keep their reasons so far.
+    for (const s of SIDES) if (openHold[s] >= 0) holdEvents[openHold[s]]!.reasons = copyTrips(arms[s]);
+    cell.beamPose(beam);
+    const reasons: Record<string, number> = {};
+    for (const e of holdEvents) for (const r of e.reasons) reasons[r.check] = (reasons[r.check] ?? 0) + 1;
+    const perZoneRec: Record<string, number> = {};
+    const occupiedRec: Record<string, boolean> = {};
+    zones.forEach((z, k) => {
+      perZoneRec[z.name] = perZone[k]!;
+      occupiedRec[z.name] = world.occupied[k]!;
+    });
+    const summary: EpisodeSummary = {
+      seed: input.seed,
+      strategy: strategyLabel(input.strategy),
+      k: input.strategy.k,
+      world: { occupied: occupiedRec, start_m: [world.start_m[0], world.start_m[1]], goal_m: [world.goal_m[0], world.goal_m[1]] },
+      success: endReason === 'success',
+      end_reason: endReason,
+      duration_s: lastT,
+      time_to_goal_s: timeToGoal,
+      final_position_m: [beam[0]!, beam[1]!],
+      final_distance_m: Math.hypot(beam[0]! - gx, beam[1]! - gy),
+      collisions: { count: collisions, first_s: firstCollision, per_zone: perZoneRec, contact_s: contactSteps * dt },
+      internal_force: { peak_n: peakInternal, mean_n: nInternal > 0 ? sumInternal / nInternal : 0 },
+      holds: { count: holdEvents.length, reasons, events: holdEvents },
+      role_switches: { left: arms.left.roles.switches, right: arms.right.roles.switches },
+      tared_at_s: { left: taredAt.left, right: taredAt.right },
+      samples: sampleIndex,
+    };
+    return { summary, record: rec ? rec.finish(rate, messages) : null, world, xml: cell.xml };
+  } finally {
+    cell.dispose();
+  }
+}
+
+interface ArmChannels {
+  wrench: number; wrenchTrue: number; forceCell: number; jointPosition: number; jointVelocity: number; toolPose: number; zoneView: number;
+  twist: number; command: number; role: number; slot: number; held: number; inhibited: number; tared: number; impactFlag: number;
+  beliefUpdated: number; impactScore: number; correction: number; impact: number; belief: number; hiddenOccupied: number; entropy: number; objectEstimate: number;
+}
+interface Channels {
+  t: number;
+  left: ArmChannels;
+  right: ArmChannels;
+  beamPose: number;
+  beamVelocity: number;
+  internal: number;
+  contacts: number;
+}
+
+function channelIndices(r: Recorder): Channels {
+  const arm = (s: ArmSide): ArmChannels => {
+    const i = (k: string) => r.index(`${s}.${k}`);
+    return {
+      wrench: i('wrench'), wrenchTrue: i('wrenchTrue'), forceCell: i('forceCell'), jointPosition: i('jointPosition'), jointVelocity: i('jointVelocity'),
+      toolPose: i('toolPose'), zoneView: i('zoneView'), twist: i('twist'), command: i('command'), role: i('role'), slot: i('slot'), held: i('held'),
+      inhibited: i('inhibited'), tared: i('tared'), impactFlag: i('impactFlag'), beliefUpdated: i('beliefUpdated'), impactScore: i('impactScore'),
+      correction: i('correction'), impact: i('impact'), belief: i('belief'), hiddenOccupied: i('hiddenOccupied'), entropy: i('entropy'), objectEstimate: i('objectEstimate'),
+    };
+  };
+  return { t: r.index('t'), left: arm('left'), right: arm('right'), beamPose: r.index('beam.pose'), beamVelocity: r.index('beam.velocity'), internal: r.index('internal_force'), contacts: r.index('contacts') };
+}
+
+function put(r: Recorder, ch: number, src: ArrayLike<number>, n = src.length): void {
+  const a = r.array(ch);
+  const b = r.base(ch);
+  for (let k = 0; k < n; k++) a[b + k] = src[k]!;
+}
+function put1(r: Recorder, ch: number, v: number): void {
+  r.array(ch)[r.base(ch)] = v;
+}
+
+const jpScratch = new Float64Array(ARM_JOINTS);
+const jvScratch = new Float64Array(ARM_JOINTS);
+const objScratch = new Float64Array(2);
+
+function record(
+  r: Recorder,
+  ch: Channels,
+  t: number,
+  arms: Record<ArmSide, ArmStep>,
+  meas: Record<ArmSide, Float64Array>,
+  truthW: Record<ArmSide, Float64Array>,
+  fCell: Record<ArmSide, Float64Array>,
+  pose: Record<ArmSide, Float64Array>,
+  view: Record<ArmSide, Uint8Array>,
+  cmd: Record<ArmSide, Float64Array>,
+  cell: SimCell,
+  beam: Float64Array,
+  beamV: Float64Array,
+  internal: number,
+  mask: number,
+): void {
+  r.begin();
+  put1(r, ch.t, t);
+  for (const s of SIDES) {
+    const c = ch[s];
+    const out = arms[s].out;
+    put(r, c.wrench, meas[s]);
+    put(r, c.wrenchTrue, truthW[s]);
+    put(r, c.forceCell, fCell[s]);
+    cell.jointPositions(s, jpScratch);
+    cell.jointVelocities(s, jvScratch);
+    put(r, c.jointPosition, jpScratch);
+    put(r, c.jointVelocity, jvScratch);
+    put(r, c.toolPose, pose[s]);
+    put(r, c.zoneView, view[s]);
+    put(r, c.twist, out.twist);
+    put(r, c.command, cmd[s]);
+    put1(r, c.role, out.role);
+    put1(r, c.slot, out.slot);
+    put1(r, c.held, out.held ? 1 : 0);
+    put1(r, c.inhibited, out.inhibited ? 1 : 0);
+    put1(r, c.tared, out.tared ? 1 : 0);
+    put1(r, c.impactFlag, out.impactFlag ? 1 : 0);
+    put1(r, c.beliefUpdated, out.beliefUpdated ? 1 : 0);
+    put1(r, c.impactScore, out.impactScore);
+    put(r, c.correction, out.correction, 6);
+    put(r, c.impact, out.impact, 6);
+    put(r, c.belief, out.belief);
+    put(r, c.hiddenOccupied, out.hiddenOccupied);
+    put1(r, c.entropy, out.entropy_nats);
+    objScratch[0] = out.objectX;
+    objScratch[1] = out.objectY;
+    put(r, c.objectEstimate, objScratch);
+  }
+  put(r, ch.beamPose, beam);
+  put(r, ch.beamVelocity, beamV);
+  put1(r, ch.internal, internal);
+  put1(r, ch.contacts, mask >>> 0);
+  r.end();
+}

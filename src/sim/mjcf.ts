@@ -1,0 +1,152 @@
+/**
+ * The MJCF of the simulated cell, generated from the task parameters and one world.
+ *
+ * Frames: the cell frame is MuJoCo's world frame (x from the pick stand to the fixture, z up).
+ * The beam lies along y at `beam_height_m`, centred at the world's start pose.
+ *
+ * Each arm is an admittance-controlled tool point: three stacked carriages on slide joints
+ * x, y, z. In x and y a velocity servo with gain D (MuJoCo `velocity` actuator, force
+ * D (u - qdot), saturated) makes the tool obey M dv/dt + D (v - u) = f_ext: an admittance
+ * with damping D and the carriages' apparent mass M. In z a stiff spring-damper with a
+ * gravity feed-forward (joint stiffness with its rest position raised by the carried weight)
+ * holds the height. The left tool frame is aligned with the cell frame; the right arm faces
+ * the left one, so its tool (and sensor) frame is turned 180 degrees about z.
+ *
+ * The six-axis force-torque sensor sits between the last carriage and the gripper (MuJoCo
+ * `force` and `torque` sensors at the wrist site). MuJoCo reports the wrench the parent (the
+ * arm) exerts on the child subtree (gripper and, through the weld, the beam); the cell
+ * negates it so that the sensor reports the wrench the beam side exerts on the arm.
+ *
+ * The beam (a free body) is welded to both grippers: the welds carry every internal force
+ * and moment. Only the beam and the obstacles collide (contype/conaffinity 1); the floor,
+ * the stand, the fixture and the arms are visual only.
+ */
+import type { TaskParams, ZoneConfig } from '../params/config.js';
+import { STANDARD_GRAVITY } from '../core/filter/index.js';
+import type { SimOptions } from './options.js';
+import type { World } from './world.js';
+
+/** Height of the ceiling the cable trays hang from, m. */
+export const CEILING_M = 2.2;
+/** How far an obstacle reaches past the beam's centre line, m (so the beam meets it whatever its sag). */
+export const OBSTACLE_OVERLAP_M = 0.15;
+
+export interface CellNames {
+  /** Geom names of the obstacles, per zone in task order ('' where the zone is free). */
+  readonly obstacleGeoms: readonly string[];
+}
+
+const f = (v: number): string => {
+  const s = Number(v.toPrecision(12)).toString();
+  return s === '-0' ? '0' : s;
+};
+const v3 = (a: number, b: number, c: number): string => `${f(a)} ${f(b)} ${f(c)}`;
+
+/** Whether an obstacle stands on the floor (a post) or hangs from the ceiling (a tray drop). */
+export function hangsFromCeiling(z: ZoneConfig): boolean {
+  return z.kind === 'cable_tray';
+}
+
+function obstacle(z: ZoneConfig, options: SimOptions): string {
+  const h = options.beam_height_m;
+  const lo = hangsFromCeiling(z) ? h - OBSTACLE_OVERLAP_M : 0;
+  const hi = hangsFromCeiling(z) ? CEILING_M : h + OBSTACLE_OVERLAP_M;
+  const mid = (lo + hi) / 2;
+  const hz = (hi - lo) / 2;
+  const [cx, cy] = z.center_m;
+  const common = `contype="1" conaffinity="1" condim="3" friction="${f(options.contact_friction)} 0.005 0.0001" solref="${f(options.contact_timeconst_s)} 1" rgba="0.85 0.35 0.1 1"`;
+  if (z.shape === 'circle') {
+    return `    <geom name="zone_${z.name}" type="cylinder" pos="${v3(cx, cy, mid)}" size="${f(z.radius_m)} ${f(hz)}" ${common}/>`;
+  }
+  return `    <geom name="zone_${z.name}" type="box" pos="${v3(cx, cy, mid)}" size="${v3(z.size_m[0] / 2, z.size_m[1] / 2, hz)}" ${common}/>`;
+}
+
+function arm(side: 'left' | 'right', task: TaskParams, world: World, o: SimOptions): string {
+  const g = task.object.grasp_offset_m;
+  const [sx, sy] = world.start_m;
+  const y = side === 'left' ? sy + g : sy - g;
+  const h = o.beam_height_m;
+  const quat = side === 'left' ? '1 0 0 0' : '0 0 0 1';
+  const m = o.carriage_mass_kg;
+  // Weight carried by the z servo: its carriage, the gripper and half the beam.
+  const carried = (m + o.tool_mass_kg + task.object.mass_kg / 2) * STANDARD_GRAVITY;
+  const springref = carried / o.z_stiffness_n_m;
+  const [x0, x1] = o.cell_x_m;
+  const [y0, y1] = o.cell_y_m;
+  const vis = 'contype="0" conaffinity="0"';
+  const jd = f(o.joint_damping_n_s_m);
+  return `
+    <body name="${side}_cx" pos="${v3(sx, y, h)}">
+      <joint name="${side}_x" type="slide" axis="1 0 0" limited="true" range="${f(x0 - sx)} ${f(x1 - sx)}" damping="${jd}"/>
+      <geom type="box" size="0.03 0.03 0.03" mass="${f(m)}" ${vis} rgba="0.3 0.3 0.35 1"/>
+      <body name="${side}_cy">
+        <joint name="${side}_y" type="slide" axis="0 1 0" limited="true" range="${f(y0 - y)} ${f(y1 - y)}" damping="${jd}"/>
+        <geom type="box" size="0.025 0.025 0.025" mass="${f(m)}" ${vis} rgba="0.35 0.35 0.4 1"/>
+        <body name="${side}_cz">
+          <joint name="${side}_z" type="slide" axis="0 0 1" limited="true" range="-0.3 0.3" stiffness="${f(o.z_stiffness_n_m)}" springref="${f(springref)}" damping="${f(o.z_damping_n_s_m + o.joint_damping_n_s_m)}"/>
+          <geom type="cylinder" size="0.025 0.02" pos="0 0 0.04" mass="${f(m)}" ${vis} rgba="0.4 0.4 0.45 1"/>
+          <body name="${side}_tool" quat="${quat}">
+            <site name="${side}_ft" size="0.01"/>
+            <geom type="box" size="0.03 0.015 0.03" mass="${f(o.tool_mass_kg)}" ${vis} rgba="0.2 0.5 0.8 1"/>
+          </body>
+        </body>
+      </body>
+    </body>`;
+}
+
+/** The cell's MJCF for one world. */
+export function buildMjcf(task: TaskParams, world: World, o: SimOptions): { xml: string; names: CellNames } {
+  const L = task.object.length_m;
+  const s = o.beam_section_m;
+  const h = o.beam_height_m;
+  const [sx, sy] = world.start_m;
+  const [gx, gy] = world.goal_m;
+  const standTop = h - s / 2 - 0.01;
+  const obstacles: string[] = [];
+  const obstacleGeoms = task.zones.map((z, k) => {
+    if (!world.occupied[k]) return '';
+    obstacles.push(obstacle(z, o));
+    return `zone_${z.name}`;
+  });
+  const vis = 'contype="0" conaffinity="0"';
+  const kv = f(o.admittance_damping_n_s_m);
+  const vmax = f(o.servo_speed_limit_m_s);
+  const fmax = f(o.servo_force_limit_n);
+  const servo = (side: string, axis: string) =>
+    `    <velocity name="${side}_v${axis}" joint="${side}_${axis}" kv="${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
+  const weld = (side: string) => `    <weld name="${side}_grasp" body1="${side}_tool" body2="beam" solref="${f(o.grasp_timeconst_s)} 1"/>`;
+  const xml = `<mujoco model="antiphon_cell">
+  <option timestep="${f(o.timestep_s)}" integrator="implicitfast" gravity="0 0 ${f(-STANDARD_GRAVITY)}">
+    <flag energy="enable"/>
+  </option>
+  <worldbody>
+    <light pos="0.8 0 3" dir="0 0 -1"/>
+    <geom name="floor" type="plane" size="4 4 0.1" ${vis} rgba="0.8 0.8 0.8 1"/>
+    <geom name="pick_stand" type="box" pos="${v3(sx, sy, standTop / 2)}" size="${v3(0.1, L / 2 - 0.05, standTop / 2)}" ${vis} rgba="0.5 0.5 0.3 1"/>
+    <geom name="fixture" type="box" pos="${v3(gx, gy, standTop / 2)}" size="${v3(0.1, L / 2 - 0.05, standTop / 2)}" ${vis} rgba="0.3 0.5 0.3 1"/>
+${obstacles.join('\n')}
+    <body name="beam" pos="${v3(sx, sy, h)}">
+      <freejoint name="beam_free"/>
+      <geom name="beam" type="box" size="${v3(s / 2, L / 2, s / 2)}" mass="${f(task.object.mass_kg)}" contype="1" conaffinity="1" condim="3" rgba="0.75 0.75 0.8 1"/>
+    </body>${arm('left', task, world, o)}${arm('right', task, world, o)}
+  </worldbody>
+  <equality>
+${weld('left')}
+${weld('right')}
+  </equality>
+  <actuator>
+${servo('left', 'x')}
+${servo('left', 'y')}
+${servo('right', 'x')}
+${servo('right', 'y')}
+  </actuator>
+  <sensor>
+    <force name="left_force" site="left_ft"/>
+    <torque name="left_torque" site="left_ft"/>
+    <force name="right_force" site="right_ft"/>
+    <torque name="right_torque" site="right_ft"/>
+  </sensor>
+</mujoco>
+`;
+  return { xml, names: { obstacleGeoms } };
+}

@@ -1,0 +1,200 @@
+/**
+ * Settings of the simulated cell that are not parameters of the arm step: the physics of the
+ * two tool-point arms and the beam, the sensors' imperfections, world sampling and when an
+ * episode ends. A typed object with defaults, validated here (never read from the ROS
+ * parameters file: the real cell has no such settings).
+ */
+import { InputError, type Problem } from '../util/errors.js';
+
+export interface SensorNoiseOptions {
+  /** White noise standard deviation per force axis, N. */
+  readonly noise_force_n: number;
+  /** White noise standard deviation per torque axis, N*m. */
+  readonly noise_torque_nm: number;
+  /** Each world draws a constant bias per force axis uniformly in +-this, N. */
+  readonly bias_force_n: number;
+  /** Each world draws a constant bias per torque axis uniformly in +-this, N*m. */
+  readonly bias_torque_nm: number;
+  /** Each world draws a linear drift rate per force axis uniformly in +-this, N/s. */
+  readonly drift_force_n_s: number;
+  /** Each world draws a linear drift rate per torque axis uniformly in +-this, N*m/s. */
+  readonly drift_torque_nm_s: number;
+}
+
+export interface SimOptions {
+  /** Physics step, s. The wrench is sampled every round(1 / (rate * timestep)) steps. */
+  readonly timestep_s: number;
+  /** Height of the beam's centre line above the floor, m. */
+  readonly beam_height_m: number;
+  /** Side of the beam's square section, m. */
+  readonly beam_section_m: number;
+  /**
+   * Admittance damping D of each arm's motion stack in x and y, N*s/m: the velocity servo
+   * force is D (v_cmd - v), so the tool obeys M dv/dt + D (v - v_cmd) = f_ext. Two equal arms
+   * on a rigid beam give the coupling constant c = D / 2.
+   */
+  readonly admittance_damping_n_s_m: number;
+  /** Mass of each carriage stage (x, y, z), kg: the apparent mass of the admittance. */
+  readonly carriage_mass_kg: number;
+  /** Gripper mass below the force-torque sensor, kg (the sensor sees its weight; the tare removes it). */
+  readonly tool_mass_kg: number;
+  /** Vertical position hold of each tool (a stiff PD servo with gravity feed-forward), N/m. */
+  readonly z_stiffness_n_m: number;
+  readonly z_damping_n_s_m: number;
+  /** Viscous friction of every slide joint, N*s/m. */
+  readonly joint_damping_n_s_m: number;
+  /** Servo force saturation per axis, N. */
+  readonly servo_force_limit_n: number;
+  /** Commanded speed saturation per axis, m/s. */
+  readonly servo_speed_limit_m_s: number;
+  /** Time constant of the grasp welds, s (MuJoCo solref; at least twice the timestep). */
+  readonly grasp_timeconst_s: number;
+  /** Time constant of beam-obstacle contacts, s (MuJoCo solref). */
+  readonly contact_timeconst_s: number;
+  /** Beam-obstacle friction coefficient. */
+  readonly contact_friction: number;
+  /** Force-torque sensor imperfections (the same model for both wrists, drawn per world). */
+  readonly sensor: SensorNoiseOptions;
+  /** Rate of each arm's area sensor (zone views), Hz. */
+  readonly zone_sensor_rate_hz: number;
+  /** An arm's area sensor sees a zone only when the object is within this x distance of it, m. */
+  readonly zone_sensor_range_m: number;
+  /** Explicit baseline: latency of each zone message, s. */
+  readonly message_latency_s: number;
+  /** Probability that a zone is occupied in a sampled world. */
+  readonly occupancy_probability: number;
+  /** Uniform jitter of the start and goal positions per axis, m. */
+  readonly start_jitter_m: number;
+  readonly goal_jitter_m: number;
+  /** The motion stacks ignore the recommendation for this long (the still window for the tare), s. */
+  readonly settle_s: number;
+  /** Success: the beam centre is within goal tolerance and slower than this, m/s. */
+  readonly success_speed_m_s: number;
+  /** End the episode (failure) when the beam has moved less than 5 mm for this long after the start, s (0: never). */
+  readonly stall_s: number;
+  /** The operator presses reset as soon as the watchdog would release a hold. */
+  readonly auto_reset: boolean;
+  /** End the episode (failure) when a hold has not cleared after this long, s (0: never). */
+  readonly hold_timeout_s: number;
+  /** A new contact with an obstacle counts as a collision only after this long out of contact, s. */
+  readonly contact_debounce_s: number;
+  /** Reachable cell extent in x and y, m (the beam, start, goal and zones must fit inside). */
+  readonly cell_x_m: readonly [number, number];
+  readonly cell_y_m: readonly [number, number];
+  /** Record every sample of both arms' inputs and outputs (off for batch comparisons). */
+  readonly record: boolean;
+}
+
+export const DEFAULT_SENSOR_NOISE: SensorNoiseOptions = Object.freeze({
+  noise_force_n: 0.2,
+  noise_torque_nm: 0.01,
+  bias_force_n: 2.0,
+  bias_torque_nm: 0.1,
+  drift_force_n_s: 0.01,
+  drift_torque_nm_s: 0.0005,
+});
+
+export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
+  timestep_s: 0.001,
+  beam_height_m: 0.8,
+  beam_section_m: 0.04,
+  admittance_damping_n_s_m: 80,
+  carriage_mass_kg: 1.0,
+  tool_mass_kg: 0.1,
+  z_stiffness_n_m: 20000,
+  z_damping_n_s_m: 400,
+  joint_damping_n_s_m: 1.0,
+  servo_force_limit_n: 200,
+  servo_speed_limit_m_s: 0.5,
+  grasp_timeconst_s: 0.004,
+  contact_timeconst_s: 0.004,
+  contact_friction: 0.3,
+  sensor: DEFAULT_SENSOR_NOISE,
+  zone_sensor_rate_hz: 10,
+  zone_sensor_range_m: Number.POSITIVE_INFINITY,
+  message_latency_s: 0.02,
+  occupancy_probability: 0.5,
+  start_jitter_m: 0.03,
+  goal_jitter_m: 0.03,
+  settle_s: 0.6,
+  success_speed_m_s: 0.03,
+  stall_s: 8,
+  auto_reset: true,
+  hold_timeout_s: 10,
+  contact_debounce_s: 0.05,
+  cell_x_m: Object.freeze([-1.0, 3.0]) as readonly [number, number],
+  cell_y_m: Object.freeze([-1.5, 1.5]) as readonly [number, number],
+  record: true,
+}) as SimOptions;
+
+export type SimOptionsOverrides = Partial<Omit<SimOptions, 'sensor'>> & { sensor?: Partial<SensorNoiseOptions> };
+
+/** Defaults with overrides, validated. Throws InputError naming each bad key and its allowed range. */
+export function simOptions(overrides: SimOptionsOverrides = {}): SimOptions {
+  const o: SimOptions = { ...DEFAULT_SIM_OPTIONS, ...overrides, sensor: { ...DEFAULT_SENSOR_NOISE, ...overrides.sensor } };
+  const problems = checkSimOptions(o);
+  if (problems.length) throw new InputError(problems);
+  return o;
+}
+
+const RANGES: ReadonlyArray<[string, number, number]> = [
+  ['timestep_s', 0.0001, 0.005],
+  ['beam_height_m', 0.2, 2.0],
+  ['beam_section_m', 0.005, 0.3],
+  ['admittance_damping_n_s_m', 1, 10000],
+  ['carriage_mass_kg', 0.05, 100],
+  ['tool_mass_kg', 0.001, 20],
+  ['z_stiffness_n_m', 10, 1e7],
+  ['z_damping_n_s_m', 0, 1e5],
+  ['joint_damping_n_s_m', 0, 1e4],
+  ['servo_force_limit_n', 1, 1e5],
+  ['servo_speed_limit_m_s', 0.01, 10],
+  ['grasp_timeconst_s', 0.0002, 0.1],
+  ['contact_timeconst_s', 0.0002, 0.1],
+  ['contact_friction', 0, 2],
+  ['zone_sensor_rate_hz', 0.1, 1000],
+  ['zone_sensor_range_m', 0, Number.POSITIVE_INFINITY],
+  ['message_latency_s', 0, 10],
+  ['occupancy_probability', 0, 1],
+  ['start_jitter_m', 0, 0.5],
+  ['goal_jitter_m', 0, 0.5],
+  ['settle_s', 0, 10],
+  ['success_speed_m_s', 0.0001, 1],
+  ['stall_s', 0, 3600],
+  ['hold_timeout_s', 0, 3600],
+  ['contact_debounce_s', 0, 10],
+];
+const SENSOR_RANGES: ReadonlyArray<[string, number, number]> = [
+  ['noise_force_n', 0, 50],
+  ['noise_torque_nm', 0, 5],
+  ['bias_force_n', 0, 500],
+  ['bias_torque_nm', 0, 50],
+  ['drift_force_n_s', 0, 10],
+  ['drift_torque_nm_s', 0, 1],
+];
+
+export function checkSimOptions(o: SimOptions): Problem[] {
+  const out: Problem[] = [];
+  const check = (key: string, v: unknown, lo: number, hi: number): void => {
+    if (typeof v !== 'number' || Number.isNaN(v) || v < lo || v > hi) {
+      out.push({ code: 'sim.out_of_range', message: `sim.${key} = ${String(v)} is not allowed`, where: { key: `sim.${key}` }, hint: `from ${lo} to ${hi}` });
+    }
+  };
+  for (const [k, lo, hi] of RANGES) check(k, (o as unknown as Record<string, unknown>)[k], lo, hi);
+  for (const [k, lo, hi] of SENSOR_RANGES) check(`sensor.${k}`, (o.sensor as unknown as Record<string, unknown>)[k], lo, hi);
+  if (o.grasp_timeconst_s < 2 * o.timestep_s) {
+    out.push({ code: 'sim.weld_too_stiff', message: `sim.grasp_timeconst_s = ${o.grasp_timeconst_s} s is below twice the timestep`, where: { key: 'sim.grasp_timeconst_s' }, hint: `at least ${2 * o.timestep_s} s` });
+  }
+  if (o.contact_timeconst_s < 2 * o.timestep_s) {
+    out.push({ code: 'sim.contact_too_stiff', message: `sim.contact_timeconst_s = ${o.contact_timeconst_s} s is below twice the timestep`, where: { key: 'sim.contact_timeconst_s' }, hint: `at least ${2 * o.timestep_s} s` });
+  }
+  for (const key of ['cell_x_m', 'cell_y_m'] as const) {
+    const r = o[key];
+    if (!Array.isArray(r) || r.length !== 2 || !(Number.isFinite(r[0]) && Number.isFinite(r[1]) && r[0] < r[1])) {
+      out.push({ code: 'sim.bad_extent', message: `sim.${key} must be [min, max] with min < max`, where: { key: `sim.${key}` } });
+    }
+  }
+  if (typeof o.auto_reset !== 'boolean') out.push({ code: 'sim.bad_bool', message: 'sim.auto_reset must be true or false', where: { key: 'sim.auto_reset' } });
+  if (typeof o.record !== 'boolean') out.push({ code: 'sim.bad_bool', message: 'sim.record must be true or false', where: { key: 'sim.record' } });
+  return out;
+}

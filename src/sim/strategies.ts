@@ -1,0 +1,150 @@
+/**
+ * Team strategies, each a transformation of the two arms' ArmConfig plus how the simulated
+ * cell feeds each arm's zone view:
+ *
+ *   centralized  every zone observed_by both; each arm's view shows every zone (an oracle).
+ *   explicit     every zone observed_by both, but an arm learns the partner's zones only from
+ *                messages sent every k steps (with latency); UNKNOWN until the first arrives.
+ *   alternating  roles.scheduler alternating with period k * dt; phases 0 (left) and 1 (right).
+ *   fixed        left a fixed speaker, right a fixed listener.
+ *   independent  both fixed speakers with legibility_gain 0: each acts on its own view only.
+ *   adaptive     roles.scheduler adaptive (the arm that sees the nearest zone ahead speaks).
+ *
+ * Everything but `centralized` and `explicit` feeds each arm only its own area sensor.
+ */
+import type { ArmConfig, ZoneConfig } from '../params/config.js';
+import { InputError } from '../util/errors.js';
+
+export const STRATEGY_NAMES = ['centralized', 'explicit', 'alternating', 'fixed', 'independent', 'adaptive'] as const;
+export type StrategyName = (typeof STRATEGY_NAMES)[number];
+
+/** Strategies that take a period in steps (k). */
+export const PERIODIC: ReadonlySet<StrategyName> = new Set(['explicit', 'alternating']);
+/** Default k when a periodic strategy is named without one. */
+export const DEFAULT_PERIOD_STEPS = 500;
+/** The alternating periods of the default comparison. */
+export const DEFAULT_ALTERNATING_STEPS = [50, 200, 500, 1000] as const;
+export const MAX_PERIOD_STEPS = 600_000;
+
+export interface StrategySpec {
+  readonly name: StrategyName;
+  /** Period in wrench samples (alternating: role slot; explicit: message period); null otherwise. */
+  readonly k: number | null;
+}
+
+/** How the sim builds each arm's zone view. */
+export type ZoneViewMode = 'own' | 'all' | 'messages';
+
+export interface AppliedStrategy {
+  readonly spec: StrategySpec;
+  readonly left: ArmConfig;
+  readonly right: ArmConfig;
+  readonly view: ZoneViewMode;
+  /** Explicit: message period in samples. */
+  readonly messageEvery: number;
+}
+
+export function strategyLabel(s: StrategySpec): string {
+  return s.k === null ? s.name : `${s.name}:${s.k}`;
+}
+
+function allShared(zones: readonly ZoneConfig[]): ZoneConfig[] {
+  return zones.map((z) => ({ ...z, observed_by: 'both' as const }));
+}
+
+function withRoles(c: ArmConfig, roles: Partial<ArmConfig['roles']>): ArmConfig {
+  return { ...c, roles: { ...c.roles, ...roles } };
+}
+
+/** Apply a strategy to the arms' configurations (which stay untouched). */
+export function applyStrategy(spec: StrategySpec, left: ArmConfig, right: ArmConfig): AppliedStrategy {
+  const rate = left.wrench_filter.sample_rate_hz;
+  const k = spec.k ?? DEFAULT_PERIOD_STEPS;
+  switch (spec.name) {
+    case 'centralized':
+    case 'explicit': {
+      const share = (c: ArmConfig): ArmConfig => ({ ...c, task: { ...c.task, zones: allShared(c.task.zones) } });
+      return { spec, left: share(left), right: share(right), view: spec.name === 'centralized' ? 'all' : 'messages', messageEvery: k };
+    }
+    case 'alternating':
+      return {
+        spec,
+        left: withRoles(left, { scheduler: 'alternating', period_s: k / rate, phase: 0 }),
+        right: withRoles(right, { scheduler: 'alternating', period_s: k / rate, phase: 1 }),
+        view: 'own',
+        messageEvery: 0,
+      };
+    case 'fixed':
+      return {
+        spec,
+        left: withRoles(left, { scheduler: 'fixed', fixed_role: 'speaker' }),
+        right: withRoles(right, { scheduler: 'fixed', fixed_role: 'listener' }),
+        view: 'own',
+        messageEvery: 0,
+      };
+    case 'independent': {
+      const solo = (c: ArmConfig): ArmConfig => ({ ...withRoles(c, { scheduler: 'fixed', fixed_role: 'speaker' }), policy: { ...c.policy, legibility_gain: 0 } });
+      return { spec, left: solo(left), right: solo(right), view: 'own', messageEvery: 0 };
+    }
+    case 'adaptive':
+      return {
+        spec,
+        left: withRoles(left, { scheduler: 'adaptive', phase: 0 }),
+        right: withRoles(right, { scheduler: 'adaptive', phase: 1 }),
+        view: 'own',
+        messageEvery: 0,
+      };
+  }
+}
+
+/**
+ * Parse `name` or `name:k` (comma-separated lists go through `parseStrategyList`). Unknown
+ * names and bad periods are refused with the option and the allowed values.
+ */
+export function parseStrategy(raw: string, option = '--strategy', defaultK = DEFAULT_PERIOD_STEPS): StrategySpec {
+  const [name, kRaw, ...rest] = raw.trim().split(':');
+  if (!(STRATEGY_NAMES as readonly string[]).includes(name ?? '') || rest.length > 0) {
+    throw new InputError({ code: 'cli.unknown_strategy', message: `unknown strategy '${raw}'`, where: { option }, hint: `one of ${STRATEGY_NAMES.join(', ')} (alternating and explicit take :k, a period in steps)` });
+  }
+  const n = name as StrategyName;
+  if (!PERIODIC.has(n)) {
+    if (kRaw !== undefined) throw new InputError({ code: 'cli.period_not_allowed', message: `strategy '${n}' takes no period, got '${raw}'`, where: { option }, hint: 'only alternating and explicit take :k' });
+    return { name: n, k: null };
+  }
+  const k = kRaw === undefined ? defaultK : Number(kRaw);
+  if (!Number.isInteger(k) || k < 1 || k > MAX_PERIOD_STEPS) {
+    throw new InputError({ code: 'cli.bad_period', message: `the period of '${raw}' must be a whole number of steps`, where: { option }, hint: `from 1 to ${MAX_PERIOD_STEPS}` });
+  }
+  return { name: n, k };
+}
+
+/** The default comparison: every strategy, alternating at several periods. */
+export function defaultStrategies(): StrategySpec[] {
+  return [
+    { name: 'centralized', k: null },
+    { name: 'explicit', k: DEFAULT_PERIOD_STEPS },
+    ...DEFAULT_ALTERNATING_STEPS.map((k) => ({ name: 'alternating' as const, k })),
+    { name: 'adaptive', k: null },
+    { name: 'fixed', k: null },
+    { name: 'independent', k: null },
+  ];
+}
+
+export function parseStrategyList(raw: string | undefined, option = '--strategies'): StrategySpec[] {
+  if (raw === undefined) return defaultStrategies();
+  const parts = raw.split(',').map((s) => s.trim()).filter((s) => s.length > 0);
+  if (parts.length === 0) throw new InputError({ code: 'cli.no_strategies', message: `${option} lists no strategy`, where: { option }, hint: STRATEGY_NAMES.join(', ') });
+  const out: StrategySpec[] = [];
+  for (const p of parts) {
+    const [name] = p.split(':');
+    if (name === 'alternating' && !p.includes(':')) out.push(...DEFAULT_ALTERNATING_STEPS.map((k) => ({ name: 'alternating' as const, k })));
+    else out.push(parseStrategy(p, option));
+  }
+  const seen = new Set<string>();
+  return out.filter((s) => {
+    const l = strategyLabel(s);
+    if (seen.has(l)) return false;
+    seen.add(l);
+    return true;
+  });
+}
