@@ -131,6 +131,10 @@ export class Watchdog {
     let bad = false;
     if (!Number.isFinite(t)) {
       this.trip(CHECK.non_finite, 'time', t, 0, this.lastT);
+      // No time to date the fault: the clear timer restarts at the next sample with a valid time.
+      this.clearFor_s = 0;
+      this.lastBadT = Number.NaN;
+      this.firstT = Number.NaN;
       return true;
     }
     if (t < this.lastT) {
