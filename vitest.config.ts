@@ -7,5 +7,6 @@ export default defineConfig({
     exclude: ['test/ros-host/**', 'node_modules/**'],
     testTimeout: 60_000,
     pool: 'forks',
+    reporters: ['default', './test/support/summary-reporter.ts'],
   },
 });
