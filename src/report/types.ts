@@ -1,0 +1,55 @@
+/**
+ * What the HTML report draws. Replay and the simulated cell each adapt their records to this
+ * shape; the report knows nothing of bags or physics. Every series is full rate (for example
+ * an hour of 1 kHz data); the report decimates for display with min/max envelopes and never
+ * drops events.
+ */
+
+export interface ReportSeries {
+  /** Sample times, s on the shared clock. */
+  readonly t: Float64Array;
+  /** One value per sample. */
+  readonly y: Float64Array;
+}
+
+export interface ReportEvent {
+  readonly t_s: number;
+  /** `hold`, `trip`, `release`, `impact`, `role`, `collision`, `tare`, `note`. */
+  readonly kind: string;
+  readonly text: string;
+}
+
+export interface ReportArm {
+  /** `left` or `right`. */
+  readonly name: string;
+  /** Force magnitudes (N): tared wrench, correction band, impact band. */
+  readonly rawForce: ReportSeries;
+  readonly correctionForce: ReportSeries;
+  readonly impactForce: ReportSeries;
+  /** Role per sample: 0 speaker, 1 listener (same t as rawForce is not required). */
+  readonly role: ReportSeries;
+  /** 1 while the watchdog holds, else 0. */
+  readonly held: ReportSeries;
+  /** Recommended linear speed and measured tool speed, m/s. */
+  readonly recommendedSpeed: ReportSeries;
+  readonly measuredSpeed: ReportSeries;
+  /** Names of the zones only the partner observes, and per zone its occupied probability over time. */
+  readonly hiddenZones: readonly string[];
+  readonly beliefT: Float64Array;
+  /** Row-major: beliefT.length rows, hiddenZones.length columns. */
+  readonly beliefMarginals: Float64Array;
+  readonly events: readonly ReportEvent[];
+}
+
+export interface ReportInput {
+  readonly title: string;
+  /** What produced it, e.g. `replay of bags/run3 with config/demo_cell.yaml`. */
+  readonly subtitle: string;
+  /** Summary table rows: label and value, already formatted. */
+  readonly summary: readonly (readonly [string, string])[];
+  readonly arms: readonly ReportArm[];
+  /** Opposing force between the arms along the object, N (when both arms are known). */
+  readonly internalForce?: ReportSeries;
+  /** Expectation verdicts, when checks ran. */
+  readonly checks?: readonly { readonly name: string; readonly measured: string; readonly verdict: 'pass' | 'fail' }[];
+}
