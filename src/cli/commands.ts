@@ -3,7 +3,9 @@ import type { Command } from 'commander';
 import { register as analyze } from './analyze.js';
 import { register as checkConfig } from './check-config.js';
 import { register as classify } from './classify.js';
+import { register as compare } from './compare.js';
+import { register as simulate } from './simulate.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [checkConfig, classify, analyze];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze, simulate, compare];

@@ -72,7 +72,10 @@ export interface SimOptions {
   readonly success_speed_m_s: number;
   /** End the episode (failure) when the beam has moved less than 5 mm for this long after the start, s (0: never). */
   readonly stall_s: number;
-  /** The operator presses reset as soon as the watchdog would release a hold. */
+  /**
+   * The operator presses reset as soon as the watchdog would release a hold. Off by default:
+   * a latched hold stops the autonomous transfer, as in the real cell.
+   */
   readonly auto_reset: boolean;
   /** End the episode (failure) when a hold has not cleared after this long, s (0: never). */
   readonly hold_timeout_s: number;
@@ -119,8 +122,8 @@ export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
   settle_s: 0.6,
   success_speed_m_s: 0.03,
   stall_s: 8,
-  auto_reset: true,
-  hold_timeout_s: 10,
+  auto_reset: false,
+  hold_timeout_s: 2,
   contact_debounce_s: 0.05,
   cell_x_m: Object.freeze([-1.0, 3.0]) as readonly [number, number],
   cell_y_m: Object.freeze([-1.5, 1.5]) as readonly [number, number],

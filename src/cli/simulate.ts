@@ -1,0 +1,85 @@
+/** `antiphon simulate`: one episode of the simulated cell; prints the summary and writes summary.json. */
+import { mkdirSync, renameSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import type { Command } from 'commander';
+import { loadCell } from '../params/config.js';
+import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/episode.js';
+import { PERIODIC, parseStrategy, strategyLabel, type StrategySpec } from '../sim/strategies.js';
+import { InputError } from '../util/errors.js';
+import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
+
+/** Write a file under a temporary name and rename it when complete. */
+export function writeAtomic(path: string, text: string): void {
+  const tmp = `${path}.tmp-${process.pid}`;
+  writeFileSync(tmp, text);
+  renameSync(tmp, path);
+}
+
+/**
+ * Everything an episode leaves in its output directory. The bag (both arms' inputs and
+ * outputs from `result.record`) and the HTML report are written here too, once they exist.
+ */
+export function writeEpisodeArtifacts(dir: string, result: EpisodeResult): string[] {
+  mkdirSync(dir, { recursive: true });
+  const written: string[] = [];
+  const summaryPath = join(dir, 'summary.json');
+  writeAtomic(summaryPath, JSON.stringify(result.summary, null, 2) + '\n');
+  written.push(summaryPath);
+  // Bag: write result.record (see src/sim/record.ts, EpisodeRecord.channels()) here.
+  // Report: render the summary and the record here.
+  return written;
+}
+
+export function summaryText(s: EpisodeSummary): string {
+  const f = (v: number | null, d = 2) => (v === null ? '-' : v.toFixed(d));
+  const occ = Object.entries(s.world.occupied).map(([k, v]) => `${k} ${v ? 'occupied' : 'free'}`).join(', ');
+  const lines = [
+    `seed ${s.seed}, strategy ${s.strategy}`,
+    `world: ${occ || 'no zones'}; start (${f(s.world.start_m[0], 3)}, ${f(s.world.start_m[1], 3)}) m, goal (${f(s.world.goal_m[0], 3)}, ${f(s.world.goal_m[1], 3)}) m`,
+    `outcome: ${s.success ? 'success' : 'failure'} (${s.end_reason}) after ${f(s.duration_s)} s; time to goal ${f(s.time_to_goal_s)} s; final distance ${f(s.final_distance_m, 3)} m`,
+    `collisions: ${s.collisions.count}${s.collisions.first_s === null ? '' : `, first at ${f(s.collisions.first_s, 3)} s`}; contact ${f(s.collisions.contact_s, 3)} s`,
+    `internal force: peak ${f(s.internal_force.peak_n)} N, mean ${f(s.internal_force.mean_n)} N`,
+    `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}`,
+    `role switches: left ${s.role_switches.left}, right ${s.role_switches.right}; tared at left ${f(s.tared_at_s.left, 3)} s, right ${f(s.tared_at_s.right, 3)} s`,
+  ];
+  for (const e of s.holds.events) {
+    lines.push(`  hold ${e.arm} at ${f(e.start_s, 3)} s${e.end_s === null ? ', not released' : `, released at ${f(e.end_s, 3)} s`}: ${e.reasons.map((r) => `${r.check} (${r.input} ${r.value.toFixed(3)} > ${r.limit})`).join(', ')}`);
+  }
+  return lines.join('\n');
+}
+
+export function register(program: Command): void {
+  program
+    .command('simulate')
+    .description('Run one episode of the simulated cell (MuJoCo) with both arm pipelines and print its summary.')
+    .option('--params <file>', 'ROS 2 parameters file (default: built-in defaults)')
+    .option('--seed <n>', 'world seed', '1')
+    .option('--strategy <s>', 'centralized, explicit, alternating, fixed, independent or adaptive (name:k sets the period)', 'alternating')
+    .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
+    .option('--duration <s>', 'simulated time limit, s (default task.time_limit_s)')
+    .option('--out <dir>', 'output directory (default out/sim-<seed>)')
+    .option('--json', 'print the summary as JSON')
+    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; out?: string; json?: boolean }) =>
+      runCommand(!!opts.json, async () => {
+        const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
+        const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
+        const duration = numberOption('--duration', opts.duration, 0.01, 3600);
+        const cell = loadCell(opts.params);
+        const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
+        let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
+        if (period !== undefined) {
+          if (!PERIODIC.has(strategy.name)) {
+            throw new InputError({ code: 'cli.period_not_allowed', message: `--period-steps does not apply to strategy '${strategy.name}'`, where: { option: '--period-steps' }, hint: 'only alternating and explicit take a period' });
+          }
+          strategy = { name: strategy.name, k: period };
+        }
+        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        const dir = opts.out ?? join('out', `sim-${seed}`);
+        const written = writeEpisodeArtifacts(dir, result);
+        if (opts.json) printJson({ ...result.summary, files: written });
+        else printText(`${summaryText(result.summary)}\nwrote ${written.join(', ')}`);
+        void strategyLabel;
+        return 0;
+      }),
+    );
+}
