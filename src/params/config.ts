@@ -136,16 +136,19 @@ export function loadCell(path: string | undefined): { file: ParamsFile | undefin
   };
   const left = build('left');
   const right = build('right');
+  // Both arms must agree on what is common knowledge: the task geometry and the clock. Checked on
+  // the resolved values (which never fail), so these are listed together with each arm's own problems.
+  const lv = resolveForArm(file, 'left');
+  const rv = resolveForArm(file, 'right');
+  const task = (v: ReadonlyMap<string, ResolvedValue>) => JSON.stringify([...v.values()].filter((x) => x.key.startsWith('task.')).map((x) => [x.key, x.value]));
+  if (task(lv) !== task(rv)) {
+    problems.push({ code: 'param.task_mismatch', message: 'left and right sections describe different tasks', where: { file: path }, hint: 'put task.* in the /** section so both arms share it' });
+  }
+  const val = (v: ReadonlyMap<string, ResolvedValue>, key: string) => v.get(key)?.value;
+  if (val(lv, 'roles.scheduler') === 'alternating' && val(rv, 'roles.scheduler') === 'alternating' && val(lv, 'roles.phase') === val(rv, 'roles.phase')) {
+    problems.push({ code: 'param.same_phase', message: 'both arms have the same roles.phase, so they would speak at the same time', where: { file: path, key: 'roles.phase' }, hint: 'set roles.phase: 0 for one arm and 1 for the other' });
+  }
   if (problems.length) throw new InputError(dedupe(problems));
-  // Both arms must agree on what is common knowledge: the task geometry and the clock.
-  const l = left!.config;
-  const r = right!.config;
-  if (JSON.stringify(l.task) !== JSON.stringify(r.task)) {
-    throw new InputError({ code: 'param.task_mismatch', message: 'left and right sections describe different tasks', where: { file: path }, hint: 'put task.* in the /** section so both arms share it' });
-  }
-  if (l.roles.scheduler === 'alternating' && r.roles.scheduler === 'alternating' && l.roles.phase === r.roles.phase) {
-    throw new InputError({ code: 'param.same_phase', message: 'both arms have the same roles.phase, so they would speak at the same time', where: { file: path, key: 'roles.phase' }, hint: 'set roles.phase: 0 for one arm and 1 for the other' });
-  }
   return { file, left: left!, right: right! };
 }
 
