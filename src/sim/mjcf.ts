@@ -117,7 +117,7 @@ export function buildMjcf(task: TaskParams, world: World, o: SimOptions): { xml:
   const weld = (side: string) => `    <weld name="${side}_grasp" body1="${side}_tool" body2="beam" solref="${f(o.grasp_timeconst_s)} 1"/>`;
   const xml = `<mujoco model="antiphon_cell">
   <option timestep="${f(o.timestep_s)}" integrator="implicitfast" gravity="0 0 ${f(-STANDARD_GRAVITY)}">
-    <flag energy="enable"/>
+    <flag island="disable"${o.energy ? ' energy="enable"' : ''}/>
   </option>
   <worldbody>
     <light pos="0.8 0 3" dir="0 0 -1"/>

@@ -86,6 +86,8 @@ export interface SimOptions {
   readonly cell_y_m: readonly [number, number];
   /** Record every sample of both arms' inputs and outputs (off for batch comparisons). */
   readonly record: boolean;
+  /** Let MuJoCo compute the mechanical energy each step (for checks; costs a little). */
+  readonly energy: boolean;
 }
 
 export const DEFAULT_SENSOR_NOISE: SensorNoiseOptions = Object.freeze({
@@ -128,6 +130,7 @@ export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
   cell_x_m: Object.freeze([-1.0, 3.0]) as readonly [number, number],
   cell_y_m: Object.freeze([-1.5, 1.5]) as readonly [number, number],
   record: true,
+  energy: false,
 }) as SimOptions;
 
 export type SimOptionsOverrides = Partial<Omit<SimOptions, 'sensor'>> & { sensor?: Partial<SensorNoiseOptions> };
@@ -198,6 +201,7 @@ export function checkSimOptions(o: SimOptions): Problem[] {
     }
   }
   if (typeof o.auto_reset !== 'boolean') out.push({ code: 'sim.bad_bool', message: 'sim.auto_reset must be true or false', where: { key: 'sim.auto_reset' } });
+  if (typeof o.energy !== 'boolean') out.push({ code: 'sim.bad_bool', message: 'sim.energy must be true or false', where: { key: 'sim.energy' } });
   if (typeof o.record !== 'boolean') out.push({ code: 'sim.bad_bool', message: 'sim.record must be true or false', where: { key: 'sim.record' } });
   return out;
 }
