@@ -1,6 +1,7 @@
 /** The list of subcommands. Add a command: write src/cli/<name>.ts exporting `register`, list it here. */
 import type { Command } from 'commander';
 import { register as analyze } from './analyze.js';
+import { register as bag } from './bag.js';
 import { register as checkConfig } from './check-config.js';
 import { register as classify } from './classify.js';
 import { register as compare } from './compare.js';
@@ -8,4 +9,4 @@ import { register as simulate } from './simulate.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [checkConfig, classify, analyze, simulate, compare];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, simulate, compare];

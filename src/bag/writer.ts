@@ -1,0 +1,362 @@
+/**
+ * Writing bags: one MCAP file in the `ros2` profile (schemas `ros2msg` with the full definition
+ * text, messages `cdr`, zstd-compressed chunks) plus a metadata.yaml beside it (version 5).
+ * Both are written under a temporary name and renamed when complete. Deterministic: the same
+ * topics and messages give byte-identical files (no wall-clock anywhere, fixed library string).
+ */
+import { McapWriter, type IWritable } from '@mcap/core';
+import { closeSync, existsSync, mkdirSync, openSync, renameSync, rmSync, writeFileSync, writeSync } from 'node:fs';
+import { basename, join, resolve } from 'node:path';
+import { stringify as stringifyYaml } from 'yaml';
+import { InputError } from '../util/errors.js';
+import { logger } from '../util/log.js';
+import { builtinDefinition, canonicalType } from './definitions.js';
+import { formatMetadataYaml, INT64_MAX } from './metadata.js';
+import type { Bag, DefinitionText, QosProfile, ReadOptions } from './types.js';
+import { zstdCompressor } from './zstd.js';
+
+/** The MCAP header's library string. Fixed so that output does not depend on versions. */
+export const WRITER_LIBRARY = 'antiphon';
+
+export interface WriterTopic {
+  readonly name: string;
+  /** Either spelling; written as `pkg/msg/Type`. */
+  readonly type: string;
+  /** The offered QoS: YAML text as rosbag2 stores it, or profiles to serialize. Default ''. */
+  readonly offeredQos?: string | readonly QosProfile[];
+  /** Full definition text (with dependencies). Default: `definitions` option, then shipped. */
+  readonly definition?: string;
+  /** Encoding of `definition` (default `ros2msg`). */
+  readonly definitionEncoding?: string;
+  /** `RIHS01_<hex>` if known. */
+  readonly typeHash?: string;
+  /** Default `cdr`. */
+  readonly serializationFormat?: string;
+}
+
+export interface BagWriterOptions {
+  /** Chunk compression (default zstd; uncompressed when the zstd module cannot load, with a warning). */
+  readonly compression?: 'zstd' | 'none';
+  readonly zstdLevel?: number;
+  /** Uncompressed chunk size that closes a chunk (default 1 MiB). */
+  readonly chunkSize?: number;
+  /** MCAP header library string (default `antiphon`). */
+  readonly library?: string;
+  /** Storage file name without `_0.mcap` (default: the directory's name). */
+  readonly fileStem?: string;
+  /** Replace metadata.yaml and the storage file of an existing bag in `dir` (default false). */
+  readonly overwrite?: boolean;
+  /** Definition texts by type (either spelling), tried before the shipped ones. */
+  readonly definitions?: ReadonlyMap<string, string | DefinitionText>;
+  /** Write a schema with encoding '' (as rosbag2 does) when no definition is known, instead of failing. */
+  readonly allowMissingDefinitions?: boolean;
+}
+
+export interface WrittenBag {
+  readonly dir: string;
+  readonly file: string;
+  readonly metadataPath: string;
+  readonly messageCount: number;
+  readonly startNs: bigint;
+  readonly endNs: bigint;
+  readonly compression: 'zstd' | 'none';
+}
+
+/** A positioned, synchronous file writable (McapWriter reuses the buffer it passes). */
+class FdWritable implements IWritable {
+  #fd: number;
+  #pos = 0;
+  constructor(fd: number) {
+    this.#fd = fd;
+  }
+  async write(buffer: Uint8Array): Promise<void> {
+    let done = 0;
+    while (done < buffer.length) done += writeSync(this.#fd, buffer, done, buffer.length - done);
+    this.#pos += buffer.length;
+  }
+  position(): bigint {
+    return BigInt(this.#pos);
+  }
+}
+
+interface TopicState {
+  readonly name: string;
+  readonly type: string;
+  readonly serializationFormat: string;
+  readonly qosText: string;
+  readonly channelId: number;
+  count: number;
+}
+
+export class BagWriter {
+  readonly dir: string;
+  /** Final path of the MCAP file. */
+  readonly file: string;
+  readonly metadataPath: string;
+  readonly compression: 'zstd' | 'none';
+  readonly #tmp: string;
+  readonly #fd: number;
+  readonly #mcap: McapWriter;
+  readonly #opts: BagWriterOptions;
+  readonly #schemas = new Map<string, number>();
+  readonly #topics: TopicState[] = [];
+  readonly #byName = new Map<string, TopicState>();
+  #pending: Promise<unknown> = Promise.resolve();
+  #outstanding = 0;
+  #error: unknown;
+  #count = 0;
+  #start: bigint | undefined;
+  #end: bigint | undefined;
+  #closed = false;
+
+  private constructor(dir: string, file: string, fd: number, tmp: string, mcap: McapWriter, compression: 'zstd' | 'none', opts: BagWriterOptions) {
+    this.dir = dir;
+    this.file = file;
+    this.metadataPath = join(dir, 'metadata.yaml');
+    this.#fd = fd;
+    this.#tmp = tmp;
+    this.#mcap = mcap;
+    this.compression = compression;
+    this.#opts = opts;
+  }
+
+  /** Start a bag in directory `dir` (created if missing). */
+  static async create(dir: string, opts: BagWriterOptions = {}): Promise<BagWriter> {
+    const abs = resolve(dir);
+    if (existsSync(join(abs, 'metadata.yaml')) && !opts.overwrite) {
+      throw new InputError({
+        code: 'bag.output_exists',
+        message: 'a bag already exists here (metadata.yaml present)',
+        where: { file: join(abs, 'metadata.yaml') },
+        hint: 'choose a new directory, or pass overwrite',
+      });
+    }
+    mkdirSync(abs, { recursive: true });
+    const stem = opts.fileStem ?? basename(abs);
+    const file = join(abs, `${stem}_0.mcap`);
+    const tmp = `${file}.partial`;
+    let compression: 'zstd' | 'none' = opts.compression ?? 'zstd';
+    let compressChunk: ((d: Uint8Array) => { compression: string; compressedData: Uint8Array }) | undefined;
+    if (compression === 'zstd') {
+      const z = await zstdCompressor();
+      if (z) {
+        const level = opts.zstdLevel ?? 3;
+        compressChunk = (d) => ({ compression: 'zstd', compressedData: z.compress(d, level) });
+      } else {
+        compression = 'none';
+        logger('bag').warn({ code: 'bag.no_zstd_compressor' }, 'zstd compressor unavailable; writing uncompressed chunks');
+      }
+    }
+    const fd = openSync(tmp, 'w');
+    const mcap = new McapWriter({
+      writable: new FdWritable(fd),
+      chunkSize: opts.chunkSize ?? 1 << 20,
+      ...(compressChunk ? { compressChunk } : {}),
+    });
+    await mcap.start({ profile: 'ros2', library: opts.library ?? WRITER_LIBRARY });
+    return new BagWriter(abs, file, fd, tmp, mcap, compression, opts);
+  }
+
+  #definitionFor(t: WriterTopic, type: string): { encoding: string; text: string } | undefined {
+    if (t.definition !== undefined) return { encoding: t.definitionEncoding ?? 'ros2msg', text: t.definition };
+    const given = this.#opts.definitions;
+    if (given) {
+      for (const [k, v] of given) {
+        if (canonicalType(k) === type) return typeof v === 'string' ? { encoding: 'ros2msg', text: v } : { encoding: v.encoding, text: v.text };
+      }
+    }
+    const shipped = builtinDefinition(type);
+    return shipped !== undefined ? { encoding: 'ros2msg', text: shipped } : undefined;
+  }
+
+  /** Declare a topic (before its first message). Returns its id for `write`. */
+  async addTopic(t: WriterTopic): Promise<number> {
+    this.#assertOpen();
+    if (this.#byName.has(t.name)) {
+      throw new InputError({ code: 'bag.topic_twice', message: `topic ${t.name} is declared twice`, where: { topic: t.name } });
+    }
+    const type = canonicalType(t.type);
+    let schemaId = this.#schemas.get(type);
+    if (schemaId === undefined) {
+      const def = this.#definitionFor(t, type);
+      if (!def && !this.#opts.allowMissingDefinitions) {
+        throw new InputError({
+          code: 'bag.no_definition',
+          message: `no message definition for ${type}`,
+          where: { topic: t.name },
+          hint: 'pass `definition` for the topic or the `definitions` option',
+        });
+      }
+      schemaId = await this.#mcap.registerSchema({
+        name: type,
+        encoding: def ? def.encoding : '',
+        data: new TextEncoder().encode(def?.text ?? ''),
+      });
+      this.#schemas.set(type, schemaId);
+    }
+    const qosText = typeof t.offeredQos === 'string' ? t.offeredQos : t.offeredQos ? stringifyYaml(t.offeredQos).trimEnd() : '';
+    const metadata = new Map<string, string>([['offered_qos_profiles', qosText]]);
+    if (t.typeHash) metadata.set('topic_type_hash', t.typeHash);
+    const channelId = await this.#mcap.registerChannel({
+      topic: t.name,
+      schemaId,
+      messageEncoding: t.serializationFormat ?? 'cdr',
+      metadata,
+    });
+    const state: TopicState = { name: t.name, type, serializationFormat: t.serializationFormat ?? 'cdr', qosText, channelId, count: 0 };
+    this.#topics.push(state);
+    this.#byName.set(t.name, state);
+    return this.#topics.length - 1;
+  }
+
+  /** Append one serialized message. Calls are queued in order; awaiting each is optional. */
+  write(topic: number | string, logTimeNs: bigint, data: Uint8Array, publishTimeNs: bigint = logTimeNs): Promise<void> {
+    this.#assertOpen();
+    const t = typeof topic === 'number' ? this.#topics[topic] : this.#byName.get(topic);
+    if (!t) {
+      throw new InputError({ code: 'bag.unknown_topic', message: `write to undeclared topic ${String(topic)}`, where: { topic: String(topic) } });
+    }
+    if (logTimeNs < 0n || logTimeNs > INT64_MAX) {
+      throw new InputError({ code: 'bag.bad_time', message: `log time ${logTimeNs} is outside 0 … 2^63-1 ns`, where: { topic: t.name } });
+    }
+    t.count++;
+    this.#count++;
+    if (this.#start === undefined || logTimeNs < this.#start) this.#start = logTimeNs;
+    if (this.#end === undefined || logTimeNs > this.#end) this.#end = logTimeNs;
+    const msg = { channelId: t.channelId, sequence: 0, logTime: logTimeNs, publishTime: publishTimeNs, data };
+    // McapWriter copies the bytes in the synchronous part of addMessage, but calls must not
+    // overlap: call it at once when idle, else queue it behind the others with a copy (the caller
+    // may reuse its buffer).
+    let p: Promise<void>;
+    if (this.#outstanding === 0) {
+      p = this.#mcap.addMessage(msg);
+    } else {
+      const copy = { ...msg, data: data.slice() };
+      p = this.#pending.then(() => this.#mcap.addMessage(copy));
+    }
+    this.#outstanding++;
+    const done = p.finally(() => {
+      this.#outstanding--;
+    });
+    this.#pending = done.catch((err: unknown) => {
+      this.#error ??= err;
+    });
+    return done;
+  }
+
+  #assertOpen(): void {
+    if (this.#closed) throw new Error('BagWriter: already closed');
+  }
+
+  /** Finish the MCAP file, write metadata.yaml, rename both into place. */
+  async close(): Promise<WrittenBag> {
+    this.#assertOpen();
+    this.#closed = true;
+    try {
+      await this.#pending;
+      if (this.#error !== undefined) throw this.#error;
+      await this.#mcap.end();
+    } catch (err) {
+      this.#discard();
+      throw err;
+    } finally {
+      closeSync(this.#fd);
+    }
+    renameSync(this.#tmp, this.file);
+    const start = this.#start ?? INT64_MAX;
+    const duration = this.#start === undefined ? 0n : this.#end! - this.#start;
+    const rel = basename(this.file);
+    const yaml = formatMetadataYaml({
+      storageIdentifier: 'mcap',
+      durationNs: duration,
+      startingTimeNs: start,
+      messageCount: this.#count,
+      topics: this.#topics.map((t) => ({
+        name: t.name,
+        type: t.type,
+        serializationFormat: t.serializationFormat,
+        offeredQosText: t.qosText,
+        offeredQos: [],
+        typeDescriptionHash: '',
+        messageCount: t.count,
+      })),
+      compressionFormat: '',
+      compressionMode: '',
+      relativeFilePaths: [rel],
+      files: [{ path: rel, startingTimeNs: start, durationNs: duration, messageCount: this.#count }],
+    });
+    const tmpMeta = `${this.metadataPath}.partial`;
+    writeFileSync(tmpMeta, yaml);
+    renameSync(tmpMeta, this.metadataPath);
+    return {
+      dir: this.dir,
+      file: this.file,
+      metadataPath: this.metadataPath,
+      messageCount: this.#count,
+      startNs: this.#start ?? 0n,
+      endNs: this.#end ?? 0n,
+      compression: this.compression,
+    };
+  }
+
+  /** Stop and remove the partial file. */
+  abort(): void {
+    if (this.#closed) return;
+    this.#closed = true;
+    try {
+      closeSync(this.#fd);
+    } catch {
+      /* already closed */
+    }
+    this.#discard();
+  }
+
+  #discard(): void {
+    rmSync(this.#tmp, { force: true });
+  }
+}
+
+/** Create a bag writer in `dir`. */
+export function createBagWriter(dir: string, opts: BagWriterOptions = {}): Promise<BagWriter> {
+  return BagWriter.create(dir, opts);
+}
+
+/**
+ * Copy (some of) a bag into a new MCAP bag: every topic with its type, QoS, hash and the
+ * definition the source carries (or a shipped one); messages in log-time order, bytes unchanged.
+ */
+export async function copyBag(bag: Bag, dir: string, opts: BagWriterOptions & ReadOptions = {}): Promise<WrittenBag> {
+  const w = await BagWriter.create(dir, { allowMissingDefinitions: true, ...opts });
+  try {
+    const wanted = opts.topics ? new Set(opts.topics) : undefined;
+    const ids = new Map<string, number>();
+    for (const t of bag.topics()) {
+      if (wanted && !wanted.has(t.name)) continue;
+      const d = bag.definition(t.type);
+      const usable = d && d.text.trim() !== '';
+      ids.set(
+        t.name,
+        await w.addTopic({
+          name: t.name,
+          type: t.type,
+          offeredQos: t.offeredQosText,
+          ...(usable ? { definition: d.text, definitionEncoding: d.encoding } : {}),
+          ...(t.typeHash ? { typeHash: t.typeHash } : {}),
+          serializationFormat: t.serializationFormat,
+        }),
+      );
+    }
+    for (const b of bag.batches(opts)) {
+      const topics = bag.topics();
+      for (let i = 0; i < b.count; i++) {
+        const id = ids.get(topics[b.topicIndex[i]!]!.name)!;
+        const o = b.offset[i]!;
+        await w.write(id, b.logTimeNs[i]!, b.bytes.subarray(o, o + b.length[i]!));
+      }
+    }
+    return await w.close();
+  } catch (err) {
+    w.abort();
+    throw err;
+  }
+}
