@@ -2,7 +2,6 @@
  * `antiphon bag info <bag>` and `antiphon bag dump <bag>`: look into rosbag2 recordings (MCAP or
  * sqlite3, directories or single files) with the same readers replay uses.
  */
-import { once } from 'node:events';
 import type { Command } from 'commander';
 import { bagDecoders, describeQos, openBag, toJsonValue, type Bag } from '../bag/index.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError, formatProblem, type Problem } from '../util/errors.js';
@@ -129,7 +128,20 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
         if (out === '' || broken) return;
         const ok = process.stdout.write(out);
         out = '';
-        if (!ok) await Promise.race([once(process.stdout, 'drain'), once(process.stdout, 'error')]);
+        if (!ok) {
+          await new Promise<void>((resolve) => {
+            const done = (): void => {
+              process.stdout.off('drain', done);
+              process.stdout.off('error', done);
+              resolve();
+            };
+            process.stdout.on('drain', done);
+            process.stdout.on('error', done);
+          });
+        } else {
+          // Let a closed pipe (EPIPE, e.g. `| head`) be noticed.
+          await new Promise<void>((resolve) => setImmediate(resolve));
+        }
       };
       const read = {
         ...(opts.topic ? { topics: opts.topic } : {}),
@@ -159,8 +171,10 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
       }
       await flush();
     } finally {
-      process.stdout.off('error', onError);
+      // After a broken pipe, later write errors may still arrive: keep swallowing them.
+      if (!broken) process.stdout.off('error', onError);
     }
+    if (broken) return EXIT_OK;
     for (const [topic, k] of failures) {
       if (k > REPORT_PER_TOPIC) process.stderr.write(`antiphon: topic ${topic}: ${k - REPORT_PER_TOPIC} more messages could not be decoded\n`);
     }
