@@ -87,12 +87,15 @@ export function parseWrenchCsv(text: string, path: string): WrenchTable {
   return { t, wrench, samples: count };
 }
 
-/** Median sample interval, as a rate in Hz. */
+/**
+ * Median sample interval, as a rate in Hz, to 9 significant digits: timestamps on a grid give the
+ * nominal rate exactly, not one a rounding error of their differences above or below it.
+ */
 export function estimateRate(t: Float64Array): number {
   const d = new Float64Array(t.length - 1);
   for (let k = 1; k < t.length; k++) d[k - 1] = t[k]! - t[k - 1]!;
   d.sort();
   const mid = d.length >> 1;
   const med = d.length % 2 ? d[mid]! : (d[mid - 1]! + d[mid]!) / 2;
-  return 1 / med;
+  return Number((1 / med).toPrecision(9));
 }
