@@ -191,6 +191,14 @@ describe('estimateRate', () => {
     expect(estimateRate(Float64Array.from(times))).toBeCloseTo(500, 6);
   });
 
+  it('timestamps on a grid, written to the millisecond, give the nominal rate exactly at any length and offset', () => {
+    // common practice: a logger on a fixed clock; the float error of t[k+1] − t[k] is not a rate
+    for (const [n, rate, offset] of [[4000, 500, 0], [2750, 500, 0], [8000, 1000, 0], [100_000, 1000, 3000], [50_000, 250, 100_000]] as const) {
+      const t = Float64Array.from({ length: n }, (_, k) => Number((offset + k / rate).toFixed(3)));
+      expect(estimateRate(t), `${n} samples at ${rate} Hz from ${offset} s`).toBe(rate);
+    }
+  });
+
   it('two samples: the one interval', () => {
     expect(estimateRate(Float64Array.of(1, 1.004))).toBeCloseTo(250, 6);
   });
