@@ -1,4 +1,5 @@
 /** CRC-32 (IEEE 802.3, reflected, polynomial 0xEDB88320), as used by MCAP chunk and summary CRCs. */
+import zlib from 'node:zlib';
 
 // Slicing-by-8 tables: TABLE[k * 256 + b] is the CRC of byte b followed by k zero bytes.
 const TABLE = (() => {
@@ -18,7 +19,8 @@ const TABLE = (() => {
   return t;
 })();
 
-export function crc32(bytes: Uint8Array): number {
+/** The same CRC in JavaScript (slicing-by-8); the fallback where Node lacks zlib.crc32. */
+export function crc32Js(bytes: Uint8Array): number {
   const t = TABLE;
   const n = bytes.length;
   let crc = -1;
@@ -38,3 +40,8 @@ export function crc32(bytes: Uint8Array): number {
   for (; i < n; i++) crc = t[(crc ^ bytes[i]!) & 0xff]! ^ (crc >>> 8);
   return (crc ^ -1) >>> 0;
 }
+
+const native = (zlib as unknown as { crc32?: (data: Uint8Array) => number }).crc32;
+
+/** CRC-32 of the bytes: Node's native zlib.crc32 (Node >= 20.15), else the JavaScript one. */
+export const crc32: (bytes: Uint8Array) => number = native ? (bytes) => native(bytes) >>> 0 : crc32Js;

@@ -80,6 +80,16 @@ export function parseParamsText(text: string, path: string): ParamsFile {
     flatten(body.items[0]!.value as Node | null, '', name as SectionName, entries, problems, at);
     sections.set(name as SectionName, entries);
   }
+  // Names chosen by the user (zone names) are ROS-style identifiers: they travel in messages.
+  for (const [, entries] of sections) {
+    for (const inst of patternInstances(entries.keys())) {
+      const name = inst.prefix.split('.').pop()!;
+      if (!/^[A-Za-z][A-Za-z0-9_]{0,62}$/.test(name)) {
+        const first = [...entries.values()].find((e) => e.key.startsWith(inst.prefix + '.'))!;
+        problems.push({ code: 'param.bad_name', message: `'${name}' is not allowed as a name`, where: { key: inst.prefix, file: path, line: first.source.line, column: first.source.column }, hint: 'a letter, then letters, digits or underscores (ASCII, at most 63 characters)' });
+      }
+    }
+  }
   // Required keys of each named pattern instance (e.g. every zone needs a shape).
   for (const [section, entries] of sections) {
     for (const inst of patternInstances(entries.keys())) {

@@ -1,15 +1,24 @@
 /**
- * A light two-arm cell without physics, for tests of the arm step (invented data).
+ * A light two-arm cell without physics (invented data of our demo scenario): for tests of the
+ * arm step, for demo bags and for benchmarks. The physics twin is the MuJoCo cell.
  *
  * Each arm's motion stack is an admittance: tool velocity = command + f / D. The beam is
  * rigid and massless here, so both tools move with it and the forces are internal:
  * f_left = -f_right = D (v_right - v_left) / 2, i.e. the coupling the step assumes with
  * c = D / 2. Gravity on the beam adds a constant -m g / 2 on each wrist z (tared away).
  */
-import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../../src/core/arm-step.js';
-import { CHECKS } from '../../src/core/watchdog.js';
-import type { ArmConfig } from '../../src/params/config.js';
-import { Rng } from '../../src/util/rng.js';
+import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../core/arm-step.js';
+import { CHECKS } from '../core/watchdog.js';
+import type { ArmConfig } from '../params/config.js';
+import { Rng } from '../util/rng.js';
+
+/** Input messages of both arms, in time order. */
+export interface InputRecorder {
+  wrench(arm: 'left' | 'right', t: number, w: Float64Array): void;
+  toolPose(arm: 'left' | 'right', t: number, x: number, y: number, z: number): void;
+  jointState(arm: 'left' | 'right', t: number, position: Float64Array, velocity: Float64Array): void;
+  zoneView(arm: 'left' | 'right', t: number, states: readonly number[]): void;
+}
 
 export interface CellRun {
   success: boolean;
@@ -35,6 +44,16 @@ export function runKinematicCell(
     disturbance_n?: number;
     admittance_n_s_m?: number;
     shareViews?: boolean;
+    /** Receives every input message as the arms' drivers would publish it. */
+    recorder?: InputRecorder;
+    /** Joint states every this many wrench samples (default 2: 500 Hz at 1 kHz). */
+    jointEvery?: number;
+    /** Tool poses every this many wrench samples (default 1: at the wrench rate). */
+    poseEvery?: number;
+    /** End the run when the object reaches the goal (default true); else run the full duration. */
+    stopAtGoal?: boolean;
+    /** A half-sine force along the sensor x axis on one arm: the beam tip knocking something. */
+    knock?: { arm: 'left' | 'right'; t_s: number; force_n: number; duration_s: number };
   },
 ): CellRun {
   const rng = new Rng(opts.seed);
@@ -48,8 +67,8 @@ export function runKinematicCell(
   const ouA = Math.exp(-dt / tau);
   const ouB = dist * Math.sqrt(1 - ouA * ouA);
   const ou = [0, 0, 0, 0];
-  const L = new ArmStep(left);
-  const R = new ArmStep(right);
+  const L = new ArmStep(left, { jointCount: 3 });
+  const R = new ArmStep(right, { jointCount: 3 });
   const zones = left.task.zones;
   const viewOf = (arm: 'left' | 'right') =>
     zones.map((z) => (opts.shareViews || z.observed_by === arm || z.observed_by === 'both' ? (occupied[zones.indexOf(z)] ? ZONE_OCCUPIED : ZONE_FREE) : ZONE_UNKNOWN));
@@ -59,6 +78,11 @@ export function runKinematicCell(
   let py = left.task.start_m[1];
   const off = left.task.object.grasp_offset_m;
   const halfWeight = (-left.task.object.mass_kg * 9.80665) / 2;
+  const jointEvery = opts.jointEvery ?? 2;
+  const poseEvery = opts.poseEvery ?? 1;
+  const jl = new Float64Array(3), jr = new Float64Array(3), vl = new Float64Array(3);
+  let vx = 0, vy = 0;
+  let reached = false;
   const wl = new Float64Array(6);
   const wr = new Float64Array(6);
   let fL = 0, fLy = 0;
@@ -68,31 +92,58 @@ export function runKinematicCell(
   const n = Math.round(opts.duration_s * fs);
   for (let k = 0; k < n; k++) {
     const t = k * dt;
+    const rec = opts.recorder;
     if (k % Math.round(fs / 10) === 0) {
       L.setZoneView(t, viewL);
       R.setZoneView(t, viewR);
+      rec?.zoneView('left', t, viewL);
+      rec?.zoneView('right', t, viewR);
     }
     L.setToolPose(t, px, py + off, 0.9, 0, 0, 0, 1);
     R.setToolPose(t, px, py - off, 0.9, 0, 0, 0, 1);
+    if (k % poseEvery === 0) {
+      rec?.toolPose('left', t, px, py + off, 0.9);
+      rec?.toolPose('right', t, px, py - off, 0.9);
+    }
+    if (k % jointEvery === 0) {
+      // Tool-point arms: three slide joints x, y, z at the tool velocity.
+      jl[0] = px; jl[1] = py + off; jl[2] = 0.9; vl[0] = vx; vl[1] = vy; vl[2] = 0;
+      jr[0] = px; jr[1] = py - off; jr[2] = 0.9;
+      L.setJointState(t, vl, 3);
+      R.setJointState(t, vl, 3);
+      rec?.jointState('left', t, jl, vl);
+      rec?.jointState('right', t, jr, vl);
+    }
     // The disturbance starts after the start-up tare (a still beam at the pick stand).
     for (let j = 0; j < 4; j++) ou[j] = t < 1 ? 0 : ouA * ou[j]! + ouB * rng.normal();
     wl[0] = fL + ou[0]! + noise * rng.normal(); wl[1] = fLy + ou[1]! + noise * rng.normal(); wl[2] = halfWeight + noise * rng.normal();
     wr[0] = -fL + ou[2]! + noise * rng.normal(); wr[1] = -fLy + ou[3]! + noise * rng.normal(); wr[2] = halfWeight + noise * rng.normal();
     for (let a = 3; a < 6; a++) { wl[a] = 0.02 * rng.normal(); wr[a] = 0.02 * rng.normal(); }
+    const kn = opts.knock;
+    if (kn && t >= kn.t_s && t < kn.t_s + kn.duration_s) {
+      const f = kn.force_n * Math.sin((Math.PI * (t - kn.t_s)) / kn.duration_s);
+      if (kn.arm === 'left') wl[0] = wl[0]! + f;
+      else wr[0] = wr[0]! + f;
+    }
+    rec?.wrench('left', t, wl);
+    rec?.wrench('right', t, wr);
     const oL = L.step(t, wl);
     const oR = R.step(t, wr);
     // Rigid beam between two admittances.
     fL = (D * (oR.twist[0]! - oL.twist[0]!)) / 2;
     fLy = (D * (oR.twist[1]! - oL.twist[1]!)) / 2;
     run.peakInternalN = Math.max(run.peakInternalN, Math.hypot(fL, fLy));
-    px += dt * (oL.twist[0]! + oR.twist[0]!) / 2;
-    py += dt * (oL.twist[1]! + oR.twist[1]!) / 2;
+    vx = (oL.twist[0]! + oR.twist[0]!) / 2;
+    vy = (oL.twist[1]! + oR.twist[1]!) / 2;
+    px += dt * vx;
+    py += dt * vy;
     for (let z = 0; z < zones.length; z++) if (occupied[z] && L.task.objectTouches(z, px, py)) run.collided = true;
     if (k % 10 === 0) run.trace.push({ t, leftTrue: oL.belief[trueHypL]!, rightTrue: oR.belief[trueHypR]!, x: px, y: py });
-    if (Math.hypot(px - left.task.goal_m[0], py - left.task.goal_m[1]) < left.task.goal_tolerance_m) {
+    if (!reached && Math.hypot(px - left.task.goal_m[0], py - left.task.goal_m[1]) < left.task.goal_tolerance_m) {
+      reached = true;
       run.success = !run.collided;
       run.time_s = t;
-      break;
+      if (opts.stopAtGoal !== false) break;
     }
   }
   const names = (a: ArmStep) => a.watchdog.trips.map((r) => `${CHECKS[r.check]}@${r.input}:${r.value.toFixed(2)}>${r.limit}`);

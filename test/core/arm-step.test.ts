@@ -7,7 +7,7 @@ import { ArmStep, ZONE_FREE, ZONE_UNKNOWN } from '../../src/core/arm-step.js';
 import { LISTENER, SPEAKER } from '../../src/core/roles.js';
 import { CHECK } from '../../src/core/watchdog.js';
 import { loadCell, type ArmConfig } from '../../src/params/config.js';
-import { runKinematicCell } from '../support/kinematic-cell.js';
+import { runKinematicCell } from '../../src/sim/kinematic-cell.js';
 
 const cell = loadCell('config/demo_cell.yaml');
 const L = cell.left.config;

@@ -1,0 +1,230 @@
+/**
+ * Offline checks over a replay: an expectations file (YAML, a format of our own) and its
+ * evaluation. Format:
+ *
+ *   version: 1
+ *   expect:
+ *     - no_hold: { arm: both }
+ *     - hold: { arm: left, reason: impact, between_s: [5.0, 6.5] }
+ *     - peak_internal_force_below_n: { value: 40.0 }
+ *     - peak_correction_force_below_n: { arm: both, value: 50.0 }
+ *     - belief_above: { arm: right, zone: clamp_post, occupied: true, value: 0.9, after_s: 5.0 }
+ *     - role_switches: { arm: left, period_s: 0.5, tolerance_s: 0.005 }
+ *
+ * Every entry holds one kind and may carry `name:`. Times are seconds from the bag start.
+ * The structure is checked with JSON Schema (ajv); every problem names file, line and column.
+ */
+import { readFileSync } from 'node:fs';
+import { Ajv, type ErrorObject } from 'ajv';
+import { closest } from 'fastest-levenshtein';
+import { isMap, isSeq, LineCounter, parseDocument, type Document, type Node } from 'yaml';
+import { CHECKS } from '../core/watchdog.js';
+import { InputError, type Problem } from '../util/errors.js';
+import type { ArmReplayRecord, ReplayRecord } from './replay.js';
+
+const arm = { enum: ['left', 'right', 'both'] } as const;
+const num = { type: 'number' } as const;
+const KIND_SCHEMAS = {
+  no_hold: { type: 'object', properties: { arm }, required: ['arm'], additionalProperties: false },
+  hold: {
+    type: 'object',
+    properties: { arm, reason: { enum: [...CHECKS] }, between_s: { type: 'array', items: num, minItems: 2, maxItems: 2 } },
+    required: ['arm'],
+    additionalProperties: false,
+  },
+  peak_internal_force_below_n: { type: 'object', properties: { value: { type: 'number', exclusiveMinimum: 0 } }, required: ['value'], additionalProperties: false },
+  peak_correction_force_below_n: { type: 'object', properties: { arm, value: { type: 'number', exclusiveMinimum: 0 } }, required: ['arm', 'value'], additionalProperties: false },
+  belief_above: {
+    type: 'object',
+    properties: {
+      arm: { enum: ['left', 'right'] },
+      zone: { type: 'string', minLength: 1 },
+      occupied: { type: 'boolean' },
+      value: { type: 'number', minimum: 0, maximum: 1 },
+      after_s: { type: 'number', minimum: 0 },
+    },
+    required: ['arm', 'zone', 'value', 'after_s'],
+    additionalProperties: false,
+  },
+  role_switches: {
+    type: 'object',
+    properties: { arm, period_s: { type: 'number', exclusiveMinimum: 0 }, tolerance_s: { type: 'number', minimum: 0 } },
+    required: ['arm', 'period_s'],
+    additionalProperties: false,
+  },
+} as const;
+export type ExpectationKind = keyof typeof KIND_SCHEMAS;
+const KINDS = Object.keys(KIND_SCHEMAS) as ExpectationKind[];
+
+const FILE_SCHEMA = {
+  type: 'object',
+  properties: { version: { const: 1 }, expect: { type: 'array', minItems: 1, items: { type: 'object' } } },
+  required: ['version', 'expect'],
+  additionalProperties: false,
+} as const;
+
+export interface Expectation {
+  readonly name: string;
+  readonly kind: ExpectationKind;
+  readonly args: Record<string, unknown>;
+  readonly line?: number;
+}
+
+export interface Verdict {
+  readonly name: string;
+  readonly kind: ExpectationKind;
+  readonly expected: string;
+  readonly measured: string;
+  readonly pass: boolean;
+  readonly value: number | null;
+}
+
+const ajv = new Ajv({ allErrors: true, strict: true });
+const validateFile = ajv.compile(FILE_SCHEMA);
+const validators = Object.fromEntries(KINDS.map((k) => [k, ajv.compile(KIND_SCHEMAS[k])])) as Record<ExpectationKind, ReturnType<typeof ajv.compile>>;
+
+function position(doc: Document, lc: LineCounter, path: (string | number)[], file: string): { file: string; line?: number; column?: number } {
+  let node: unknown = doc.getIn(path, true);
+  for (let cut = path.length; (node === undefined || node === null) && cut > 0; cut--) node = doc.getIn(path.slice(0, cut - 1), true);
+  const range = (node as { range?: [number, number, number] } | undefined)?.range;
+  if (!range) return { file };
+  const p = lc.linePos(range[0]);
+  return { file, line: p.line, column: p.col };
+}
+
+function ajvProblems(errors: ErrorObject[] | null | undefined, base: (string | number)[], doc: Document, lc: LineCounter, file: string, label: string): Problem[] {
+  return (errors ?? []).map((e) => {
+    const sub = e.instancePath.split('/').filter(Boolean).map((s) => (/^\d+$/.test(s) ? Number(s) : s));
+    const extra = e.keyword === 'additionalProperties' ? String((e.params as { additionalProperty: string }).additionalProperty) : undefined;
+    const where = position(doc, lc, [...base, ...sub, ...(extra ? [extra] : [])], file);
+    const at = [label, ...sub].join('.');
+    let message = `${at} ${e.message ?? 'is not allowed'}`;
+    if (extra) message = `${at}: unknown key '${extra}'`;
+    if (e.keyword === 'enum') message += `: ${(e.params as { allowedValues: unknown[] }).allowedValues.join(', ')}`;
+    return { code: 'expect.schema', message, where };
+  });
+}
+
+export function loadExpectations(path: string): Expectation[] {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (err) {
+    throw new InputError({ code: 'expect.unreadable', message: `cannot read expectations: ${(err as Error).message}`, where: { file: path } });
+  }
+  return parseExpectations(text, path);
+}
+
+export function parseExpectations(text: string, file: string): Expectation[] {
+  const lc = new LineCounter();
+  const doc = parseDocument(text, { lineCounter: lc, uniqueKeys: true });
+  if (doc.errors.length) {
+    throw new InputError(doc.errors.map((e) => {
+      const p = lc.linePos(e.pos[0]);
+      return { code: 'expect.yaml_syntax', message: `YAML syntax: ${e.message.split('\n')[0]}`, where: { file, line: p.line, column: p.col } };
+    }));
+  }
+  const data = doc.toJS() as unknown;
+  if (!validateFile(data)) throw new InputError(ajvProblems(validateFile.errors, [], doc, lc, file, 'expectations'));
+  const list = (data as { expect: Record<string, unknown>[] }).expect;
+  const problems: Problem[] = [];
+  const out: Expectation[] = [];
+  list.forEach((item, k) => {
+    const keys = Object.keys(item).filter((x) => x !== 'name');
+    const where = position(doc, lc, ['expect', k], file);
+    if (keys.length !== 1) {
+      problems.push({ code: 'expect.one_kind', message: `expect[${k}] must hold exactly one kind, found ${keys.length ? keys.join(', ') : 'none'}`, where, hint: `kinds: ${KINDS.join(', ')}` });
+      return;
+    }
+    const kind = keys[0]!;
+    if (!(KINDS as string[]).includes(kind)) {
+      problems.push({ code: 'expect.unknown_kind', message: `expect[${k}]: unknown kind '${kind}'`, where: position(doc, lc, ['expect', k, kind], file), hint: `did you mean ${closest(kind, KINDS)}? kinds: ${KINDS.join(', ')}` });
+      return;
+    }
+    const args = item[kind] as Record<string, unknown>;
+    const v = validators[kind as ExpectationKind];
+    if (!v(args)) {
+      problems.push(...ajvProblems(v.errors, ['expect', k, kind], doc, lc, file, `expect[${k}].${kind}`));
+      return;
+    }
+    const b = (args as { between_s?: [number, number] }).between_s;
+    if (b && b[1] < b[0]) problems.push({ code: 'expect.bad_window', message: `expect[${k}].hold.between_s ends before it starts`, where: position(doc, lc, ['expect', k, kind, 'between_s'], file) });
+    const name = typeof item['name'] === 'string' ? (item['name'] as string) : `${kind} ${JSON.stringify(args)}`;
+    out.push({ name, kind: kind as ExpectationKind, args, ...(where.line !== undefined ? { line: where.line } : {}) });
+  });
+  if (problems.length) throw new InputError(problems);
+  return out;
+}
+
+function armsOf(record: ReplayRecord, which: unknown, e: Expectation): readonly ArmReplayRecord[] {
+  const arms = which === 'both' ? record.arms : record.arms.filter((a) => a.arm === which);
+  if (arms.length === 0 || (which === 'both' && record.arms.length < 2)) {
+    throw new InputError({ code: 'expect.arm_not_replayed', message: `expectation '${e.name}' needs the ${String(which)} arm${which === 'both' ? 's' : ''}, which ${which === 'both' ? 'were' : 'was'} not replayed`, hint: 'replay with --arm both (or the arm named)' });
+  }
+  return arms;
+}
+
+const f3 = (v: number) => (Number.isFinite(v) ? v.toFixed(3) : String(v));
+
+/** Evaluate every expectation against a replay record. Throws InputError for checks that cannot apply. */
+export function evaluate(record: ReplayRecord, list: readonly Expectation[]): Verdict[] {
+  return list.map((e): Verdict => {
+    const a = e.args as Record<string, any>;
+    const base = { name: e.name, kind: e.kind };
+    switch (e.kind) {
+      case 'no_hold': {
+        const holds = armsOf(record, a.arm, e).flatMap((r) => r.events.filter((v) => v.kind === 'hold').map((v) => ({ arm: r.arm, t: v.t_s, why: r.events.find((x) => x.kind === 'trip' && x.t_s === v.t_s)?.check ?? '?' })));
+        return { ...base, expected: 'no safe hold', measured: holds.length ? holds.map((h) => `${h.arm} held at ${f3(h.t)} s (${h.why})`).join('; ') : 'no hold', pass: holds.length === 0, value: holds.length };
+      }
+      case 'hold': {
+        const [lo, hi] = (a.between_s as [number, number] | undefined) ?? [Number.NEGATIVE_INFINITY, Number.POSITIVE_INFINITY];
+        const trips = armsOf(record, a.arm, e).flatMap((r) => r.events.filter((v) => v.kind === 'trip' && (a.reason === undefined || v.check === a.reason)).map((v) => ({ arm: r.arm, t: v.t_s, check: v.check })));
+        const inside = trips.find((x) => x.t >= lo && x.t <= hi);
+        const want = `a hold${a.reason ? ` for ${a.reason}` : ''}${a.between_s ? ` between ${lo} and ${hi} s` : ''}`;
+        return { ...base, expected: want, measured: trips.length ? trips.slice(0, 5).map((x) => `${x.arm} ${x.check} at ${f3(x.t)} s`).join('; ') : 'no such trip', pass: inside !== undefined, value: inside ? inside.t : null };
+      }
+      case 'peak_internal_force_below_n': {
+        if (!record.internalForce) throw new InputError({ code: 'expect.arm_not_replayed', message: `expectation '${e.name}' needs both arms`, hint: 'replay with --arm both' });
+        let peak = 0;
+        for (const v of record.internalForce.y) peak = Math.max(peak, Math.abs(v));
+        return { ...base, expected: `< ${a.value} N`, measured: `${f3(peak)} N`, pass: peak < a.value, value: peak };
+      }
+      case 'peak_correction_force_below_n': {
+        let peak = 0;
+        for (const r of armsOf(record, a.arm, e)) for (const v of r.correctionForce) peak = Math.max(peak, v);
+        return { ...base, expected: `< ${a.value} N`, measured: `${f3(peak)} N`, pass: peak < a.value, value: peak };
+      }
+      case 'belief_above': {
+        const r = armsOf(record, a.arm, e)[0]!;
+        const z = r.hiddenZones.indexOf(a.zone);
+        if (z < 0) throw new InputError({ code: 'expect.unknown_zone', message: `expectation '${e.name}': '${a.zone}' is not a zone the ${r.arm} arm infers`, ...(e.line !== undefined ? { where: { line: e.line } } : {}), hint: `the ${r.arm} arm's hidden zones: ${r.hiddenZones.join(', ') || 'none'}` });
+        const occupied = a.occupied !== false;
+        const w = r.hiddenZones.length;
+        let min = Number.POSITIVE_INFINITY;
+        for (let i = 0; i < r.beliefT.length; i++) {
+          if (r.beliefT[i]! < a.after_s) continue;
+          const p = r.beliefMarginals[i * w + z]!;
+          min = Math.min(min, occupied ? p : 1 - p);
+        }
+        const none = !Number.isFinite(min);
+        return { ...base, expected: `P(${a.zone} ${occupied ? 'occupied' : 'free'}) >= ${a.value} from ${a.after_s} s`, measured: none ? 'no belief update after that time' : `min ${f3(min)}`, pass: !none && min >= a.value, value: none ? null : min };
+      }
+      case 'role_switches': {
+        const tol = (a.tolerance_s as number | undefined) ?? 0.005;
+        const t0 = Number(record.startNs) / 1e9;
+        let worst = 0;
+        let count = 0;
+        for (const r of armsOf(record, a.arm, e)) {
+          for (const v of r.events) {
+            if (v.kind !== 'role') continue;
+            count++;
+            const abs = t0 + v.t_s;
+            const k = Math.round(abs / a.period_s);
+            worst = Math.max(worst, Math.abs(abs - k * a.period_s));
+          }
+        }
+        return { ...base, expected: `switches on multiples of ${a.period_s} s within ${tol} s`, measured: count ? `${count} switches, worst ${f3(worst * 1000)} ms off` : 'no switch', pass: count > 0 && worst <= tol, value: count ? worst : null };
+      }
+    }
+  });
+}

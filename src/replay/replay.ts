@@ -1,0 +1,471 @@
+/**
+ * Bag replay: the recorded inputs of one or both arms, fed in log-time order through the same
+ * arm step as the live node, on bag time. Deterministic: the same bag and parameters give the
+ * same record, summary and output bag, byte for byte.
+ */
+import { openBag, type Bag, type MessageBatch, type TopicInfo } from '../bag/index.js';
+import { bagDecoders } from '../bag/decode.js';
+import { canonicalType } from '../bag/definitions.js';
+import { decodePoseStamped, decodeWrenchStamped, JointStateDecoder } from '../bag/fast.js';
+import type { BagWriter } from '../bag/writer.js';
+import { ArmStep, ZONE_UNKNOWN, type ArmOutputs } from '../core/arm-step.js';
+import { CHECKS } from '../core/watchdog.js';
+import type { ArmConfig } from '../params/config.js';
+import type { ArmName } from '../params/spec.js';
+import { OutputEncoder } from '../ros/encode.js';
+import { INPUT_KINDS, INPUT_TYPES, inputTopic, OUTPUT_KINDS, OUTPUT_TYPES, outputTopic, type InputKind } from '../ros/topics.js';
+import { InputError, type Problem } from '../util/errors.js';
+import { logger } from '../util/log.js';
+import { Column } from './series.js';
+
+export interface ReplayEvent {
+  readonly arm: ArmName;
+  /** Seconds from the start of the bag. */
+  readonly t_s: number;
+  /** `tared`, `trip`, `hold`, `role`, `impact_start`, `impact_end`, `input_missing`. */
+  readonly kind: string;
+  readonly text: string;
+  /** For trips: the check name, measured value and limit. */
+  readonly check?: string;
+  readonly value?: number;
+  readonly limit?: number;
+}
+
+/** Full-rate record of one replayed arm (times in seconds from the bag start). */
+export interface ArmReplayRecord {
+  readonly arm: ArmName;
+  readonly config: ArmConfig;
+  readonly topics: { readonly [K in InputKind]: string | null };
+  readonly hiddenZones: readonly string[];
+  /** Per wrench sample. */
+  readonly t: Float64Array;
+  readonly rawForce: Float64Array;
+  readonly correctionForce: Float64Array;
+  readonly impactForce: Float64Array;
+  readonly impactScore: Float64Array;
+  readonly role: Float64Array;
+  readonly held: Float64Array;
+  readonly recommendedSpeed: Float64Array;
+  /** Correction force along the cell y axis (the object axis), N, for the internal force. */
+  readonly correctionAlongObject: Float64Array;
+  /** Per tool pose: tool speed from successive poses, m/s. */
+  readonly poseT: Float64Array;
+  readonly measuredSpeed: Float64Array;
+  /** Per belief update: time and the occupied probability of each hidden zone (row-major). */
+  readonly beliefT: Float64Array;
+  readonly beliefMarginals: Float64Array;
+  readonly events: readonly ReplayEvent[];
+  readonly samples: number;
+}
+
+export interface ReplayRecord {
+  readonly bag: string;
+  readonly storage: string;
+  /** Bag start, ns since the epoch (record times are relative to it). */
+  readonly startNs: bigint;
+  readonly duration_s: number;
+  readonly arms: readonly ArmReplayRecord[];
+  /** Opposing correction force along the object (positive: squeeze), at the first arm's samples; both arms only. */
+  readonly internalForce?: { readonly t: Float64Array; readonly y: Float64Array };
+  readonly warnings: readonly Problem[];
+}
+
+export interface ReplayOptions {
+  readonly arms: readonly ArmName[];
+  readonly configs: { readonly [A in ArmName]?: ArmConfig };
+  /** `from -> to`: read the input topic `from` from bag topic `to`. */
+  readonly remap?: ReadonlyMap<string, string>;
+  /** Window in seconds from the bag start. */
+  readonly startS?: number;
+  readonly endS?: number;
+  /** Receives every output message (for the output bag); omit for a dry run. */
+  readonly sink?: OutputSink;
+  /** Called with the fraction done, at most a few hundred times. */
+  readonly progress?: (fraction: number) => void;
+}
+
+/** Where replay outputs go: a bag writer, or nothing. Input messages are passed through too. */
+export interface OutputSink {
+  addTopic(name: string, type: string, definitionFrom?: TopicInfo): Promise<number>;
+  write(topic: number, logTimeNs: bigint, data: Uint8Array): void;
+}
+
+/** Adapts a BagWriter to OutputSink, copying definitions of pass-through inputs from the source bag. */
+export function writerSink(writer: BagWriter, source: Bag): OutputSink {
+  return {
+    async addTopic(name, type, from) {
+      const def = from ? source.definition(from.type) : undefined;
+      return writer.addTopic({
+        name,
+        type,
+        ...(from ? { offeredQos: from.offeredQosText } : {}),
+        ...(def && def.encoding === 'ros2msg' && def.text.trim() !== '' ? { definition: def.text } : {}),
+      });
+    },
+    write(topic, t, data) {
+      void writer.write(topic, t, data);
+    },
+  };
+}
+
+interface ArmRun {
+  readonly arm: ArmName;
+  readonly step: ArmStep;
+  readonly enc: OutputEncoder;
+  readonly topics: Record<InputKind, string | null>;
+  readonly outTopics: number[];
+  readonly inTopics: Map<number, number>;
+  readonly rec: {
+    t: Column; raw: Column; corr: Column; imp: Column; score: Column; role: Column; held: Column; speed: Column; corrY: Column;
+    poseT: Column; poseSpeed: Column; beliefT: Column; marg: Column;
+  };
+  readonly events: ReplayEvent[];
+  readonly joint: JointStateDecoder;
+  readonly jointRow: Float64Array;
+  readonly jointVel: Float64Array;
+  readonly pose: Float64Array;
+  readonly zoneStates: Uint8Array;
+  readonly zoneIndex: Map<string, number>;
+  lastPoseT: number;
+  lastPoseX: number;
+  lastPoseY: number;
+  lastPoseZ: number;
+  lastRole: number;
+  lastHeld: boolean;
+  lastImpact: boolean;
+  trips: number;
+  tared: boolean;
+  lastStatusT: number;
+}
+
+const STATUS_PERIOD_S = 0.1;
+
+/** Resolve and check the input topics of each arm; missing optional inputs are warnings. */
+function resolveTopics(bag: Bag, arm: ArmName, remap: ReadonlyMap<string, string>, warnings: Problem[]): Record<InputKind, string | null> {
+  const byName = new Map(bag.topics().map((t) => [t.name, t]));
+  const out = {} as Record<InputKind, string | null>;
+  for (const kind of INPUT_KINDS) {
+    const name = remap.get(inputTopic(arm, kind)) ?? inputTopic(arm, kind);
+    const info = byName.get(name);
+    if (!info) {
+      if (kind === 'wrench') {
+        throw new InputError({
+          code: 'replay.missing_input',
+          message: `the bag has no ${kind} topic ${name} for the ${arm} arm`,
+          where: { file: bag.path, topic: name },
+          hint: `remap it with --remap ${inputTopic(arm, kind)}:=<topic>; the bag has ${bag.topics().map((t) => t.name).join(', ') || 'no topics'}`,
+        });
+      }
+      warnings.push({ code: 'replay.input_absent', message: `no ${kind} topic ${name} for the ${arm} arm: replayed without it`, where: { file: bag.path, topic: name } });
+      out[kind] = null;
+      continue;
+    }
+    if (canonicalType(info.type) !== INPUT_TYPES[kind]) {
+      throw new InputError({
+        code: 'replay.wrong_type',
+        message: `topic ${name} has type ${info.type}, the ${kind} input needs ${INPUT_TYPES[kind]}`,
+        where: { file: bag.path, topic: name },
+      });
+    }
+    out[kind] = name;
+  }
+  return out;
+}
+
+export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRecord> {
+  const log = logger('replay');
+  const warnings: Problem[] = [];
+  const remap = opts.remap ?? new Map<string, string>();
+  const topics = bag.topics();
+  const topicIndex = new Map(topics.map((t, k) => [t.name, k]));
+  const decoders = bagDecoders(bag);
+  const t0ns = bag.startNs;
+  const startNs = opts.startS === undefined ? undefined : t0ns + BigInt(Math.round(opts.startS * 1e9));
+  const endNs = opts.endS === undefined ? undefined : t0ns + BigInt(Math.round(opts.endS * 1e9));
+  if (startNs !== undefined && endNs !== undefined && endNs < startNs) {
+    throw new InputError({ code: 'cli.bad_window', message: `--end ${opts.endS} s is before --start ${opts.startS} s`, where: { option: '--end' } });
+  }
+
+  const runs: ArmRun[] = [];
+  // Which run and input kind each bag topic index feeds (one topic may feed both arms).
+  const route: { run: ArmRun; kind: InputKind }[][] = topics.map(() => []);
+  for (const arm of opts.arms) {
+    const config = opts.configs[arm];
+    if (!config) throw new Error(`no configuration for the ${arm} arm`);
+    const resolved = resolveTopics(bag, arm, remap, warnings);
+    const step = new ArmStep(config, {
+      jointCount: 0,
+      required: { joint_states: resolved.joint_states !== null, tool_pose: resolved.tool_pose !== null, zone_view: resolved.zone_view !== null && config.task.zones.length > 0 },
+    });
+    const hiddenZones = Array.from(step.task.hidden, (z) => config.task.zones[z]!.name);
+    const run: ArmRun = {
+      arm,
+      step,
+      enc: new OutputEncoder(arm, config.roles.scheduler, hiddenZones),
+      topics: resolved,
+      outTopics: [],
+      inTopics: new Map(),
+      rec: {
+        t: new Column(), raw: new Column(), corr: new Column(), imp: new Column(), score: new Column(), role: new Column(), held: new Column(),
+        speed: new Column(), corrY: new Column(), poseT: new Column(), poseSpeed: new Column(), beliefT: new Column(), marg: new Column(),
+      },
+      events: [],
+      joint: new JointStateDecoder(64),
+      jointRow: new Float64Array(2 + 3 * 64),
+      jointVel: new Float64Array(64),
+      pose: new Float64Array(9),
+      zoneStates: new Uint8Array(config.task.zones.length).fill(ZONE_UNKNOWN),
+      zoneIndex: new Map(config.task.zones.map((z, k) => [z.name, k])),
+      lastPoseT: Number.NaN, lastPoseX: 0, lastPoseY: 0, lastPoseZ: 0,
+      lastRole: -1, lastHeld: false, lastImpact: false, trips: 0, tared: false, lastStatusT: Number.NEGATIVE_INFINITY,
+    };
+    for (const kind of INPUT_KINDS) {
+      const name = resolved[kind];
+      if (name !== null) route[topicIndex.get(name)!]!.push({ run, kind });
+    }
+    runs.push(run);
+  }
+
+  // Output bag: inputs passed through under their recorded names, then every output topic.
+  const sink = opts.sink;
+  const passThrough = new Map<number, number>();
+  if (sink) {
+    for (let k = 0; k < topics.length; k++) {
+      if (route[k]!.length > 0) passThrough.set(k, await sink.addTopic(topics[k]!.name, topics[k]!.type, topics[k]));
+    }
+    for (const run of runs) for (const kind of OUTPUT_KINDS) run.outTopics.push(await sink.addTopic(outputTopic(run.arm, kind), OUTPUT_TYPES[kind]));
+  }
+
+  const wanted = [...new Set(runs.flatMap((r) => INPUT_KINDS.map((k) => r.topics[k]).filter((n): n is string => n !== null)))];
+  const readOpts = { topics: wanted, ...(startNs !== undefined ? { startNs } : {}), ...(endNs !== undefined ? { endNs } : {}) };
+  const total = wanted.reduce((a, n) => a + (topics[topicIndex.get(n)!]?.count ?? 0), 0);
+  let done = 0;
+  let nextProgress = 0;
+  const wrenchRow = new Float64Array(8);
+  const wrench = wrenchRow.subarray(2, 8);
+  let outOfOrder = 0;
+
+  // Times without a BigInt per message: read the int64 log times as two 32-bit halves and
+  // keep them relative to the bag start (exact below 2^53 ns, about 104 days).
+  const t0s = Number(t0ns) / 1e9;
+  const t0hi = Number(BigInt.asIntN(32, t0ns >> 32n));
+  const t0lo = Number(BigInt.asUintN(32, t0ns));
+  let lastRel = Number.NEGATIVE_INFINITY;
+  const handle = (batch: MessageBatch): void => {
+    const halves = new Int32Array(batch.logTimeNs.buffer, batch.logTimeNs.byteOffset, 2 * batch.count);
+    for (let i = 0; i < batch.count; i++) {
+      const ti = batch.topicIndex[i]!;
+      const targets = route[ti]!;
+      if (targets.length === 0) continue;
+      const relNs = (halves[2 * i + 1]! - t0hi) * 4294967296 + ((halves[2 * i]! >>> 0) - t0lo);
+      if (relNs < lastRel) outOfOrder++;
+      else lastRel = relNs;
+      const rel = relNs / 1e9;
+      const t = t0s + rel;
+      const off = batch.offset[i]!;
+      const len = batch.length[i]!;
+      const ns = sink ? batch.logTimeNs[i]! : 0n;
+      if (sink) sink.write(passThrough.get(ti)!, ns, batch.bytes.subarray(off, off + len));
+      for (let r = 0; r < targets.length; r++) {
+        const { run, kind } = targets[r]!;
+        try {
+          switch (kind) {
+            case 'wrench':
+              decodeWrenchStamped(batch.view, off, len, wrenchRow, 0);
+              onWrench(run, t, ns, rel, wrench);
+              break;
+            case 'joint_states': {
+              const n = run.joint.decode(batch.view, off, len, run.jointRow, 0);
+              // Velocities follow the positions in the row. An empty velocity array (not measured)
+              // decodes as all NaN: then no joint speed is checked. A NaN among measured ones trips.
+              const v = run.jointVel;
+              let measured = false;
+              for (let q = 0; q < n; q++) {
+                v[q] = run.jointRow[2 + 64 + q]!;
+                if (!Number.isNaN(v[q]!)) measured = true;
+              }
+              run.step.setJointState(t, v, measured ? n : 0);
+              break;
+            }
+            case 'tool_pose': {
+              const p = run.pose;
+              decodePoseStamped(batch.view, off, len, p, 0);
+              run.step.setToolPose(t, p[2]!, p[3]!, p[4]!, p[5]!, p[6]!, p[7]!, p[8]!);
+              if (!Number.isNaN(run.lastPoseT) && rel > run.lastPoseT) {
+                run.rec.poseT.push(rel);
+                const dx = p[2]! - run.lastPoseX, dy = p[3]! - run.lastPoseY, dz = p[4]! - run.lastPoseZ;
+                run.rec.poseSpeed.push(Math.sqrt(dx * dx + dy * dy + dz * dz) / (rel - run.lastPoseT));
+              }
+              run.lastPoseT = rel;
+              run.lastPoseX = p[2]!;
+              run.lastPoseY = p[3]!;
+              run.lastPoseZ = p[4]!;
+              break;
+            }
+            case 'zone_view': {
+              const m = decoders.decode(topics[ti]!.type, batch.bytes.subarray(off, off + len), { topic: topics[ti]!.name }) as { zones: string[]; state: ArrayLike<number> };
+              run.zoneStates.fill(ZONE_UNKNOWN);
+              for (let z = 0; z < m.zones.length; z++) {
+                const idx = run.zoneIndex.get(m.zones[z]!);
+                if (idx !== undefined) run.zoneStates[idx] = m.state[z]! <= 2 ? m.state[z]! : ZONE_UNKNOWN;
+              }
+              run.step.setZoneView(t, run.zoneStates);
+              break;
+            }
+          }
+        } catch (err) {
+          if (!(err instanceof InputError)) throw err;
+          const p = err.problems[0]!;
+          throw new InputError({ ...p, where: { ...p.where, file: bag.path, topic: topics[ti]!.name }, message: `${p.message} (message at ${batch.logTimeNs[i]} ns)` });
+        }
+      }
+      done++;
+      if (opts.progress && done >= nextProgress) {
+        opts.progress(total ? done / total : 1);
+        nextProgress = done + Math.max(1, Math.floor(total / 200));
+      }
+    }
+  };
+
+  const onWrench = (run: ArmRun, t: number, ns: bigint, rel: number, w: Float64Array): void => {
+    const o = run.step.step(t, w);
+    const f = run.step.filter;
+    const rec = run.rec;
+    const c = f.compensated;
+    rec.t.push(rel);
+    rec.raw.push(Math.sqrt(c[0]! * c[0]! + c[1]! * c[1]! + c[2]! * c[2]!));
+    const k = o.correction;
+    rec.corr.push(Math.sqrt(k[0]! * k[0]! + k[1]! * k[1]! + k[2]! * k[2]!));
+    const m = o.impact;
+    rec.imp.push(Math.sqrt(m[0]! * m[0]! + m[1]! * m[1]! + m[2]! * m[2]!));
+    rec.score.push(o.impactScore);
+    rec.role.push(o.role);
+    rec.held.push(o.held ? 1 : 0);
+    rec.speed.push(Math.sqrt(o.twist[0]! * o.twist[0]! + o.twist[1]! * o.twist[1]! + o.twist[2]! * o.twist[2]!));
+    rec.corrY.push(correctionAlongY(run));
+    if (o.beliefUpdated) {
+      rec.beliefT.push(rel);
+      for (let z = 0; z < o.hiddenOccupied.length; z++) rec.marg.push(o.hiddenOccupied[z]!);
+    }
+    const changed = o.role !== run.lastRole || o.held !== run.lastHeld;
+    trackEvents(run, rel, o);
+    if (sink) writeOutputs(run, ns, o, sink, changed);
+  };
+
+  for (const batch of bag.batches(readOpts)) handle(batch);
+  opts.progress?.(1);
+  if (outOfOrder > 0) warnings.push({ code: 'replay.out_of_order', message: `${outOfOrder} messages arrived out of log-time order; replayed as read`, where: { file: bag.path } });
+  for (const w of bag.warnings) warnings.push(w);
+  for (const w of warnings) log.warn({ code: w.code, where: w.where }, w.message);
+
+  const arms = runs.map((run): ArmReplayRecord => ({
+    arm: run.arm,
+    config: run.step.config,
+    topics: run.topics,
+    hiddenZones: Array.from(run.step.task.hidden, (z) => run.step.config.task.zones[z]!.name),
+    t: run.rec.t.view(),
+    rawForce: run.rec.raw.view(),
+    correctionForce: run.rec.corr.view(),
+    impactForce: run.rec.imp.view(),
+    impactScore: run.rec.score.view(),
+    role: run.rec.role.view(),
+    held: run.rec.held.view(),
+    recommendedSpeed: run.rec.speed.view(),
+    correctionAlongObject: run.rec.corrY.view(),
+    poseT: run.rec.poseT.view(),
+    measuredSpeed: run.rec.poseSpeed.view(),
+    beliefT: run.rec.beliefT.view(),
+    beliefMarginals: run.rec.marg.view(),
+    events: run.events,
+    samples: run.rec.t.length,
+  }));
+  const record: ReplayRecord = {
+    bag: bag.path,
+    storage: bag.storage,
+    startNs: t0ns,
+    duration_s: Number(bag.endNs - bag.startNs) / 1e9,
+    arms,
+    ...(arms.length === 2 ? { internalForce: internalForce(arms[0]!, arms[1]!) } : {}),
+    warnings,
+  };
+  return record;
+}
+
+/** Correction-band force rotated into the cell frame, y component (the object axis). */
+function correctionAlongY(run: ArmRun): number {
+  const c = run.step.filter.correction;
+  const q = run.pose;
+  const qx = q[5]!, qy = q[6]!, qz = q[7]!, qw = q[8]!;
+  const n = qx * qx + qy * qy + qz * qz + qw * qw;
+  if (!(n > 0)) return c[1]!;
+  const r10 = 2 * (qx * qy + qz * qw), r11 = 1 - 2 * (qx * qx + qz * qz), r12 = 2 * (qy * qz - qx * qw);
+  return r10 * c[0]! + r11 * c[1]! + r12 * c[2]!;
+}
+
+/** Internal force at the first arm's samples, with the other arm's latest value (positive: squeeze). */
+function internalForce(a: ArmReplayRecord, b: ArmReplayRecord): { t: Float64Array; y: Float64Array } {
+  const [left, right] = a.arm === 'left' ? [a, b] : [b, a];
+  const y = new Float64Array(left.samples);
+  let j = 0;
+  for (let i = 0; i < left.samples; i++) {
+    const t = left.t[i]!;
+    while (j + 1 < right.samples && right.t[j + 1]! <= t) j++;
+    const fr = right.samples > 0 && right.t[j]! <= t ? right.correctionAlongObject[j]! : 0;
+    y[i] = (left.correctionAlongObject[i]! - fr) / 2;
+  }
+  return { t: left.t, y };
+}
+
+function trackEvents(run: ArmRun, rel: number, o: ArmOutputs): void {
+  const wd = run.step.watchdog;
+  if (o.tared && !run.tared) {
+    run.tared = true;
+    run.events.push({ arm: run.arm, t_s: rel, kind: 'tared', text: 'force-torque sensor tared on a still window' });
+  }
+  if (o.held && !run.lastHeld) run.events.push({ arm: run.arm, t_s: rel, kind: 'hold', text: 'safe hold latched: recommended twist zero until reset' });
+  run.lastHeld = o.held;
+  if (wd.tripsLength > run.trips) {
+    for (let k = run.trips; k < wd.tripsLength; k++) {
+      const r = wd.tripAt(k);
+      const check = CHECKS[r.check] ?? 'unknown';
+      run.events.push({ arm: run.arm, t_s: rel, kind: 'trip', text: `${check} on ${r.input}: ${fmt(r.value)} (limit ${fmt(r.limit)})`, check, value: r.value, limit: r.limit });
+    }
+  }
+  run.trips = wd.tripsLength;
+  if (o.role !== run.lastRole) {
+    if (run.lastRole !== -1) run.events.push({ arm: run.arm, t_s: rel, kind: 'role', text: o.role === 0 ? 'speaker' : 'listener' });
+    run.lastRole = o.role;
+  }
+  if (o.impactFlag !== run.lastImpact) {
+    run.events.push({ arm: run.arm, t_s: rel, kind: o.impactFlag ? 'impact_start' : 'impact_end', text: o.impactFlag ? `impact (score ${fmt(o.impactScore)})` : 'impact over' });
+    run.lastImpact = o.impactFlag;
+  }
+}
+
+function writeOutputs(run: ArmRun, ns: bigint, o: ArmOutputs, sink: OutputSink, changed: boolean): void {
+  const [role, belief, corr, imp, twist, watchdog] = run.outTopics as [number, number, number, number, number, number];
+  const enc = run.enc;
+  sink.write(twist, ns, enc.twist(o.t_s, o.twist));
+  sink.write(corr, ns, enc.wrench(o.t_s, o.correction));
+  sink.write(imp, ns, enc.wrench(o.t_s, o.impact));
+  if (o.beliefUpdated) sink.write(belief, ns, enc.beliefMsg(o));
+  if (changed || o.t_s - run.lastStatusT >= STATUS_PERIOD_S) {
+    sink.write(role, ns, enc.roleState(o));
+    sink.write(watchdog, ns, enc.watchdogStatus(o.t_s, run.step.watchdog));
+    run.lastStatusT = o.t_s;
+  }
+}
+
+function fmt(v: number): string {
+  return Number.isFinite(v) ? (Math.abs(v) >= 100 ? v.toFixed(1) : v.toPrecision(3)) : String(v);
+}
+
+/** Open a bag and replay it (convenience for the CLI and tests). */
+export async function replayPath(path: string, opts: ReplayOptions): Promise<ReplayRecord> {
+  const bag = await openBag(path);
+  try {
+    return await replayBag(bag, opts);
+  } finally {
+    bag.close();
+  }
+}
