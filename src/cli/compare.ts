@@ -74,7 +74,10 @@ export function register(program: Command): void {
           bar?.stop();
         }
         if (opts.json) printJson(compareJson(result));
-        else printText(compareTable(result));
+        else {
+          printText(compareTable(result));
+          if (cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (pass --params config/demo_cell.yaml for the demo cell)');
+        }
         return 0;
       }),
     );
