@@ -5,7 +5,8 @@
  * Exit 0 when every expectation in the model file holds, 1 when one fails, 2 on bad input.
  */
 import type { Command } from 'commander';
-import { analyzeTeam, loadLinearTeam, parsePeriodsOption, type NoiseOptions, type TeamReport } from '../analysis/linear-team.js';
+// The analysis (and mathjs, about a second to load) is imported only when the command runs.
+import type { NoiseOptions, TeamReport } from '../analysis/linear-team.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
 import { logger } from '../util/log.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
@@ -96,10 +97,11 @@ export function register(program: Command): void {
     .option('--json', 'print one JSON document')
     .action(async (opts: AnalyzeOptions) => {
       const json = opts.json === true;
-      await runCommand(json, () => {
+      await runCommand(json, async () => {
         const log = logger('analyze');
         const file = opts.model;
         if (file === undefined) throw new InputError({ code: 'cli.missing_option', message: '--model is required', where: { option: '--model' } });
+        const { analyzeTeam, loadLinearTeam, parsePeriodsOption } = await import('../analysis/linear-team.js');
         const periods = opts.periods !== undefined ? parsePeriodsOption(opts.periods) : undefined;
         const std = numberOption('--noise-std', opts.noiseStd, 0, 1e6);
         const bias = numberOption('--noise-bias', opts.noiseBias, -1e6, 1e6);

@@ -8,7 +8,7 @@
  *     - hold: { arm: left, reason: impact, between_s: [5.0, 6.5] }
  *     - peak_internal_force_below_n: { value: 40.0 }
  *     - peak_correction_force_below_n: { arm: both, value: 50.0 }
- *     - belief_above: { arm: right, zone: clamp_post, occupied: true, value: 0.9, after_s: 5.0 }
+ *     - belief_above: { arm: right, zone: clamp_post, occupied: true, value: 0.9, by_s: 5.0, until_s: 8.0 }
  *     - role_switches: { arm: left, period_s: 0.5, tolerance_s: 0.005 }
  *
  * Every entry holds one kind and may carry `name:`. Times are seconds from the bag start.
@@ -41,9 +41,11 @@ const KIND_SCHEMAS = {
       zone: { type: 'string', minLength: 1 },
       occupied: { type: 'boolean' },
       value: { type: 'number', minimum: 0, maximum: 1 },
-      after_s: { type: 'number', minimum: 0 },
+      from_s: { type: 'number', minimum: 0 },
+      by_s: { type: 'number', minimum: 0 },
+      until_s: { type: 'number', minimum: 0 },
     },
-    required: ['arm', 'zone', 'value', 'after_s'],
+    required: ['arm', 'zone', 'value', 'by_s'],
     additionalProperties: false,
   },
   role_switches: {
@@ -92,11 +94,26 @@ function position(doc: Document, lc: LineCounter, path: (string | number)[], fil
   return { file, line: p.line, column: p.col };
 }
 
+/** Position of a map key (the key itself, not its value). */
+function keyPosition(doc: Document, lc: LineCounter, path: (string | number)[], file: string): { file: string; line?: number; column?: number } {
+  const parent = doc.getIn(path.slice(0, -1), true);
+  const last = path[path.length - 1];
+  if (isMap(parent)) {
+    const pair = parent.items.find((p) => (p.key as { value?: unknown } | null)?.value === last);
+    const range = (pair?.key as { range?: [number, number, number] } | undefined)?.range;
+    if (range) {
+      const p = lc.linePos(range[0]);
+      return { file, line: p.line, column: p.col };
+    }
+  }
+  return position(doc, lc, path, file);
+}
+
 function ajvProblems(errors: ErrorObject[] | null | undefined, base: (string | number)[], doc: Document, lc: LineCounter, file: string, label: string): Problem[] {
   return (errors ?? []).map((e) => {
     const sub = e.instancePath.split('/').filter(Boolean).map((s) => (/^\d+$/.test(s) ? Number(s) : s));
     const extra = e.keyword === 'additionalProperties' ? String((e.params as { additionalProperty: string }).additionalProperty) : undefined;
-    const where = position(doc, lc, [...base, ...sub, ...(extra ? [extra] : [])], file);
+    const where = extra ? keyPosition(doc, lc, [...base, ...sub, extra], file) : position(doc, lc, [...base, ...sub], file);
     const at = [label, ...sub].join('.');
     let message = `${at} ${e.message ?? 'is not allowed'}`;
     if (extra) message = `${at}: unknown key '${extra}'`;
@@ -138,7 +155,7 @@ export function parseExpectations(text: string, file: string): Expectation[] {
     }
     const kind = keys[0]!;
     if (!(KINDS as string[]).includes(kind)) {
-      problems.push({ code: 'expect.unknown_kind', message: `expect[${k}]: unknown kind '${kind}'`, where: position(doc, lc, ['expect', k, kind], file), hint: `did you mean ${closest(kind, KINDS)}? kinds: ${KINDS.join(', ')}` });
+      problems.push({ code: 'expect.unknown_kind', message: `expect[${k}]: unknown kind '${kind}'`, where: keyPosition(doc, lc, ['expect', k, kind], file), hint: `did you mean ${closest(kind, KINDS)}? kinds: ${KINDS.join(', ')}` });
       return;
     }
     const args = item[kind] as Record<string, unknown>;
@@ -200,14 +217,33 @@ export function evaluate(record: ReplayRecord, list: readonly Expectation[]): Ve
         if (z < 0) throw new InputError({ code: 'expect.unknown_zone', message: `expectation '${e.name}': '${a.zone}' is not a zone the ${r.arm} arm infers`, ...(e.line !== undefined ? { where: { line: e.line } } : {}), hint: `the ${r.arm} arm's hidden zones: ${r.hiddenZones.join(', ') || 'none'}` });
         const occupied = a.occupied !== false;
         const w = r.hiddenZones.length;
-        let min = Number.POSITIVE_INFINITY;
-        for (let i = 0; i < r.beliefT.length; i++) {
-          if (r.beliefT[i]! < a.after_s) continue;
-          const p = r.beliefMarginals[i * w + z]!;
-          min = Math.min(min, occupied ? p : 1 - p);
+        const from = (a.from_s as number | undefined) ?? 0;
+        // Reached: the first update in [from_s, by_s] at or above the value.
+        let reached = -1;
+        let best = 0;
+        for (let i = 0; i < r.beliefT.length && r.beliefT[i]! <= a.by_s; i++) {
+          if (r.beliefT[i]! < from) continue;
+          const p = occupied ? r.beliefMarginals[i * w + z]! : 1 - r.beliefMarginals[i * w + z]!;
+          best = Math.max(best, p);
+          if (p >= a.value) {
+            reached = i;
+            break;
+          }
         }
-        const none = !Number.isFinite(min);
-        return { ...base, expected: `P(${a.zone} ${occupied ? 'occupied' : 'free'}) >= ${a.value} from ${a.after_s} s`, measured: none ? 'no belief update after that time' : `min ${f3(min)}`, pass: !none && min >= a.value, value: none ? null : min };
+        // Kept: with until_s, never below the value from then until until_s.
+        let kept = true;
+        let low = Number.POSITIVE_INFINITY;
+        if (reached >= 0 && a.until_s !== undefined) {
+          for (let i = reached; i < r.beliefT.length && r.beliefT[i]! <= a.until_s; i++) {
+            const p = occupied ? r.beliefMarginals[i * w + z]! : 1 - r.beliefMarginals[i * w + z]!;
+            low = Math.min(low, p);
+          }
+          kept = low >= a.value;
+        }
+        const label = `P(${a.zone} ${occupied ? 'occupied' : 'free'})`;
+        const expected = `${label} >= ${a.value} by ${a.by_s} s${a.until_s !== undefined ? ` and until ${a.until_s} s` : ''}`;
+        const measured = reached < 0 ? `at most ${f3(best)} by ${a.by_s} s` : `reached at ${f3(r.beliefT[reached]!)} s${a.until_s !== undefined ? `, lowest after ${f3(low)}` : ''}`;
+        return { ...base, expected, measured, pass: reached >= 0 && kept, value: reached >= 0 ? r.beliefT[reached]! : null };
       }
       case 'role_switches': {
         const tol = (a.tolerance_s as number | undefined) ?? 0.005;

@@ -24,6 +24,8 @@ export interface DemoBagOptions {
   readonly seed: number;
   readonly duration_s: number;
   readonly disturbance_n?: number;
+  /** Keep the closed-loop recommended speeds in the returned run (for comparison with replay). */
+  readonly keepSpeeds?: boolean;
   /** Tool poses every this many wrench samples (default 1). */
   readonly poseEvery?: number;
   /** Run on after reaching the goal until duration_s (default true: a bag of exactly that length). */
@@ -45,7 +47,10 @@ export async function writeDemoBag(dir: string, opts: DemoBagOptions): Promise<{
   const row = new Float64Array(9);
   const buf = new Uint8Array(256);
   const id = (arm: ArmName, kind: InputKind) => ids.get(`${arm}/${kind}`)!;
-  const ns = (t: number) => DEMO_EPOCH_NS + BigInt(Math.round(t * 1e9));
+  // The cell runs on bag time (t0 = the demo epoch): recover the sample's offset exactly.
+  const t0s = Number(DEMO_EPOCH_NS) / 1e9;
+  const fs = opts.left.wrench_filter.sample_rate_hz;
+  const ns = (t: number) => DEMO_EPOCH_NS + BigInt(Math.round((t - t0s) * fs)) * BigInt(Math.round(1e9 / fs));
   const stampRow = (t: number) => {
     const n = ns(t);
     row[0] = Number(n / 1_000_000_000n);
@@ -79,6 +84,8 @@ export async function writeDemoBag(dir: string, opts: DemoBagOptions): Promise<{
   const run = runKinematicCell(opts.left, opts.right, opts.occupied, {
     seed: opts.seed,
     duration_s: opts.duration_s,
+    t0_s: Number(DEMO_EPOCH_NS) / 1e9,
+    keepSpeeds: opts.keepSpeeds === true,
     recorder,
     stopAtGoal: opts.fullDuration === false,
     ...(opts.knock ? { knock: opts.knock } : {}),

@@ -27,6 +27,8 @@ export interface CellRun {
   peakInternalN: number;
   /** Watchdog trips of each arm at the end of the run: `check@input`. */
   trips: { left: string[]; right: string[] };
+  /** Recommended linear speed per sample, when asked for (keepSpeeds). */
+  speeds?: { left: number[]; right: number[] };
   /** Per update (every 10 ms): time, left belief on the true hypothesis, right belief on the true hypothesis. */
   trace: { t: number; leftTrue: number; rightTrue: number; x: number; y: number }[];
 }
@@ -50,6 +52,10 @@ export function runKinematicCell(
     jointEvery?: number;
     /** Tool poses every this many wrench samples (default 1: at the wrench rate). */
     poseEvery?: number;
+    /** Clock of sample 0 (s); sample k is at t0_s + k / rate, as replay computes bag time. */
+    t0_s?: number;
+    /** Keep the recommended speed of every sample in the run (for comparisons with replay). */
+    keepSpeeds?: boolean;
     /** End the run when the object reaches the goal (default true); else run the full duration. */
     stopAtGoal?: boolean;
     /** A half-sine force along the sensor x axis on one arm: the beam tip knocking something. */
@@ -83,15 +89,18 @@ export function runKinematicCell(
   const jl = new Float64Array(3), jr = new Float64Array(3), vl = new Float64Array(3);
   let vx = 0, vy = 0;
   let reached = false;
+  const t0 = opts.t0_s ?? 0;
   const wl = new Float64Array(6);
   const wr = new Float64Array(6);
   let fL = 0, fLy = 0;
   const trueHypL = hypIndex(L, occupied);
   const trueHypR = hypIndex(R, occupied);
   const run: CellRun = { success: false, collided: false, time_s: opts.duration_s, peakInternalN: 0, trips: { left: [], right: [] }, trace: [] };
+  if (opts.keepSpeeds) run.speeds = { left: [], right: [] };
   const n = Math.round(opts.duration_s * fs);
   for (let k = 0; k < n; k++) {
-    const t = k * dt;
+    const tr = k / fs; // time since the start of the run
+    const t = t0 + tr;
     const rec = opts.recorder;
     if (k % Math.round(fs / 10) === 0) {
       L.setZoneView(t, viewL);
@@ -99,9 +108,10 @@ export function runKinematicCell(
       rec?.zoneView('left', t, viewL);
       rec?.zoneView('right', t, viewR);
     }
-    L.setToolPose(t, px, py + off, 0.9, 0, 0, 0, 1);
-    R.setToolPose(t, px, py - off, 0.9, 0, 0, 0, 1);
+    // The arms see exactly what their drivers publish (so a recorded bag replays the same).
     if (k % poseEvery === 0) {
+      L.setToolPose(t, px, py + off, 0.9, 0, 0, 0, 1);
+      R.setToolPose(t, px, py - off, 0.9, 0, 0, 0, 1);
       rec?.toolPose('left', t, px, py + off, 0.9);
       rec?.toolPose('right', t, px, py - off, 0.9);
     }
@@ -115,13 +125,13 @@ export function runKinematicCell(
       rec?.jointState('right', t, jr, vl);
     }
     // The disturbance starts after the start-up tare (a still beam at the pick stand).
-    for (let j = 0; j < 4; j++) ou[j] = t < 1 ? 0 : ouA * ou[j]! + ouB * rng.normal();
+    for (let j = 0; j < 4; j++) ou[j] = tr < 1 ? 0 : ouA * ou[j]! + ouB * rng.normal();
     wl[0] = fL + ou[0]! + noise * rng.normal(); wl[1] = fLy + ou[1]! + noise * rng.normal(); wl[2] = halfWeight + noise * rng.normal();
     wr[0] = -fL + ou[2]! + noise * rng.normal(); wr[1] = -fLy + ou[3]! + noise * rng.normal(); wr[2] = halfWeight + noise * rng.normal();
     for (let a = 3; a < 6; a++) { wl[a] = 0.02 * rng.normal(); wr[a] = 0.02 * rng.normal(); }
     const kn = opts.knock;
-    if (kn && t >= kn.t_s && t < kn.t_s + kn.duration_s) {
-      const f = kn.force_n * Math.sin((Math.PI * (t - kn.t_s)) / kn.duration_s);
+    if (kn && tr >= kn.t_s && tr < kn.t_s + kn.duration_s) {
+      const f = kn.force_n * Math.sin((Math.PI * (tr - kn.t_s)) / kn.duration_s);
       if (kn.arm === 'left') wl[0] = wl[0]! + f;
       else wr[0] = wr[0]! + f;
     }
@@ -129,6 +139,10 @@ export function runKinematicCell(
     rec?.wrench('right', t, wr);
     const oL = L.step(t, wl);
     const oR = R.step(t, wr);
+    if (run.speeds) {
+      run.speeds.left.push(Math.sqrt(oL.twist[0]! ** 2 + oL.twist[1]! ** 2 + oL.twist[2]! ** 2));
+      run.speeds.right.push(Math.sqrt(oR.twist[0]! ** 2 + oR.twist[1]! ** 2 + oR.twist[2]! ** 2));
+    }
     // Rigid beam between two admittances.
     fL = (D * (oR.twist[0]! - oL.twist[0]!)) / 2;
     fLy = (D * (oR.twist[1]! - oL.twist[1]!)) / 2;
@@ -138,11 +152,11 @@ export function runKinematicCell(
     px += dt * vx;
     py += dt * vy;
     for (let z = 0; z < zones.length; z++) if (occupied[z] && L.task.objectTouches(z, px, py)) run.collided = true;
-    if (k % 10 === 0) run.trace.push({ t, leftTrue: oL.belief[trueHypL]!, rightTrue: oR.belief[trueHypR]!, x: px, y: py });
+    if (k % 10 === 0) run.trace.push({ t: t - t0, leftTrue: oL.belief[trueHypL]!, rightTrue: oR.belief[trueHypR]!, x: px, y: py });
     if (!reached && Math.hypot(px - left.task.goal_m[0], py - left.task.goal_m[1]) < left.task.goal_tolerance_m) {
       reached = true;
       run.success = !run.collided;
-      run.time_s = t;
+      run.time_s = t - t0;
       if (opts.stopAtGoal !== false) break;
     }
   }

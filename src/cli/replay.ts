@@ -1,0 +1,119 @@
+/** `antiphon replay <bag>`: what antiphon would have done on a recorded run, with these parameters. */
+import { join } from 'node:path';
+import type { Command } from 'commander';
+import cliProgress from 'cli-progress';
+import { openBag } from '../bag/index.js';
+import { BagWriter } from '../bag/writer.js';
+import { loadCell } from '../params/config.js';
+import type { ArmName } from '../params/spec.js';
+import { evaluate, loadExpectations, type Verdict } from '../replay/expect.js';
+import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
+import { replayReportInput, summarize } from '../replay/summary.js';
+import { renderReport } from '../report/html.js';
+import { parseRemaps } from '../ros/topics.js';
+import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
+import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
+import { numberOption, printJson, printText, runCommand } from './common.js';
+
+interface Opts {
+  params?: string;
+  arm: string;
+  remap: string[];
+  start?: string;
+  end?: string;
+  out?: string;
+  overwrite?: boolean;
+  expect?: string;
+  json?: boolean;
+}
+
+export function verdictTable(verdicts: readonly Verdict[]): string {
+  const rows = verdicts.map((v) => [v.pass ? 'PASS' : 'FAIL', v.name, v.expected, v.measured]);
+  const head = ['verdict', 'expectation', 'expected', 'measured'];
+  const width = head.map((h, k) => Math.max(h.length, ...rows.map((r) => r[k]!.length)));
+  const line = (r: string[]) => r.map((c, k) => c.padEnd(width[k]!)).join('  ').trimEnd();
+  return [line(head), line(width.map((w) => '-'.repeat(w))), ...rows.map(line)].join('\n');
+}
+
+export function register(program: Command): void {
+  program
+    .command('replay')
+    .description('Feed a recorded bag through the same arm step as the live node, on bag time; write an output bag, summary.json and report.html.')
+    .argument('<bag>', 'rosbag2 directory or storage file (MCAP or sqlite3)')
+    .option('--params <file>', 'ROS 2 parameters file (default: built-in defaults)')
+    .option('--arm <arm>', 'left, right or both', 'both')
+    .option('--remap <from:=to>', 'read input topic <from> from bag topic <to> (repeatable)', (v: string, acc: string[]) => [...acc, v], [] as string[])
+    .option('--start <s>', 'start, seconds from the bag start')
+    .option('--end <s>', 'end, seconds from the bag start')
+    .option('--out <dir>', 'write the output bag, summary.json and report.html here')
+    .option('--overwrite', 'replace an existing --out folder')
+    .option('--expect <file>', 'expectations file (YAML); exit 1 when any fails')
+    .option('--json', 'print the summary as JSON on stdout')
+    .action((bagPath: string, opts: Opts) =>
+      runCommand(!!opts.json, async () => {
+        if (!['left', 'right', 'both'].includes(opts.arm)) {
+          throw new InputError({ code: 'cli.bad_arm', message: `--arm must be left, right or both, got '${opts.arm}'`, where: { option: '--arm' } });
+        }
+        const arms: ArmName[] = opts.arm === 'both' ? ['left', 'right'] : [opts.arm as ArmName];
+        const { map: remap, bad } = parseRemaps(opts.remap);
+        if (bad.length) throw new InputError({ code: 'cli.bad_remap', message: `malformed --remap ${bad.join(', ')}`, where: { option: '--remap' }, hint: 'write from:=to, e.g. /left/wrench:=/ft_left/wrench' });
+        const startS = numberOption('--start', opts.start, 0, 1e9);
+        const endS = numberOption('--end', opts.end, 0, 1e9);
+        const cell = loadCell(opts.params);
+        const expectations = opts.expect ? loadExpectations(opts.expect) : undefined;
+        const bag = await openBag(bagPath);
+        try {
+          const showBar = process.stdout.isTTY && !opts.json && !process.env['CI'];
+          const bar = showBar ? new cliProgress.SingleBar({ format: 'replay [{bar}] {percentage}% | {eta}s left', hideCursor: true }, cliProgress.Presets.shades_classic) : undefined;
+          bar?.start(1000, 0);
+          const progress = bar ? (f: number) => bar.update(Math.round(f * 1000)) : undefined;
+          const base = { arms, configs: { left: cell.left.config, right: cell.right.config }, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}) };
+          let record: ReplayRecord;
+          let summary: Record<string, unknown>;
+          let verdicts: Verdict[] | undefined;
+          const finish = (r: ReplayRecord) => {
+            verdicts = expectations ? evaluate(r, expectations) : undefined;
+            summary = summarize(r, opts.params ?? null, verdicts);
+          };
+          if (opts.out) {
+            await withOutputDir(opts.out, !!opts.overwrite, async (tmp) => {
+              const writer = await BagWriter.create(join(tmp, 'bag'), { compression: 'zstd' });
+              try {
+                record = await replayBag(bag, { ...base, sink: writerSink(writer, bag) });
+              } catch (err) {
+                writer.abort();
+                throw err;
+              }
+              await writer.close();
+              finish(record);
+              writeFileAtomic(join(tmp, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
+              const input = replayReportInput(record, `replay of ${bagPath}${opts.params ? ` with ${opts.params}` : ' with built-in defaults'}`, summary, verdicts);
+              writeFileAtomic(join(tmp, 'report.html'), renderReport(input));
+            });
+          } else {
+            record = await replayBag(bag, base);
+            finish(record);
+          }
+          bar?.stop();
+          const ok = !verdicts || verdicts.every((v) => v.pass);
+          if (opts.json) {
+            printJson({ ...summary!, ...(opts.out ? { out: opts.out } : {}) });
+          } else {
+            const lines: string[] = [`replayed ${bagPath} (${record!.storage}, ${record!.duration_s.toFixed(3)} s)`];
+            for (const a of summary!['arms'] as { arm: string; samples: number; holds: { t_s: number; reasons: { check: string }[] }[]; impacts: unknown[]; role_switches: number; peak_correction_force_n: number | null }[]) {
+              lines.push(`  ${a.arm}: ${a.samples} samples, ${a.role_switches} role switches, ${a.impacts.length} impacts, peak correction force ${a.peak_correction_force_n ?? '-'} N, ${a.holds.length ? a.holds.map((h) => `hold at ${h.t_s} s (${h.reasons.map((r) => r.check).join(', ')})`).join('; ') : 'no hold'}`);
+            }
+            const inf = summary!['internal_force'] as { peak_n: number } | undefined;
+            if (inf) lines.push(`  peak internal force ${inf.peak_n} N`);
+            for (const w of record!.warnings) lines.push(`  warning: ${w.message}`);
+            if (verdicts) lines.push('', verdictTable(verdicts));
+            if (opts.out) lines.push('', `wrote ${join(opts.out, 'bag')}, ${join(opts.out, 'summary.json')}, ${join(opts.out, 'report.html')}`);
+            printText(lines.join('\n'));
+          }
+          return ok ? EXIT_OK : EXIT_CHECKS_FAILED;
+        } finally {
+          bag.close();
+        }
+      }),
+    );
+}
