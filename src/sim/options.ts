@@ -66,7 +66,10 @@ export interface SimOptions {
   /** Uniform jitter of the start and goal positions per axis, m. */
   readonly start_jitter_m: number;
   readonly goal_jitter_m: number;
-  /** The motion stacks ignore the recommendation for this long (the still window for the tare), s. */
+  /**
+   * The motion stacks ignore the recommendation for this long, s: the arms hold still for the
+   * tare's still window (the steps themselves also recommend zero until they have tared).
+   */
   readonly settle_s: number;
   /** Success: the beam centre is within goal tolerance and slower than this, m/s. */
   readonly success_speed_m_s: number;
@@ -121,7 +124,7 @@ export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
   occupancy_probability: 0.5,
   start_jitter_m: 0.03,
   goal_jitter_m: 0.03,
-  settle_s: 0.6,
+  settle_s: 0.5,
   success_speed_m_s: 0.03,
   stall_s: 8,
   auto_reset: false,
