@@ -166,7 +166,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
           zones.map((z) => z.name),
           { left: Array.from(arms.left.task.hidden, (k) => zones[k]!.name), right: Array.from(arms.right.task.hidden, (k) => zones[k]!.name) },
           { left: arms.left.hypotheses, right: arms.right.hypotheses },
-          Math.min(nSteps / every + 1, 16384),
+          Math.min(Math.ceil(nSteps / every) + 1, 16384),
         )
       : null;
     const ch = rec ? channelIndices(rec) : null;
