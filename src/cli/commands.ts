@@ -5,9 +5,10 @@ import { register as bag } from './bag.js';
 import { register as checkConfig } from './check-config.js';
 import { register as classify } from './classify.js';
 import { register as compare } from './compare.js';
+import { register as node } from './node.js';
 import { register as replay } from './replay.js';
 import { register as simulate } from './simulate.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node];
