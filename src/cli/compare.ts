@@ -5,6 +5,7 @@ import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
 import { parseStrategyList } from '../sim/strategies.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
+import { armModelOption } from './simulate.js';
 
 export function compareTable(r: CompareResult): string {
   const head = ['strategy', 'k', 'success', 'ci95', 'collisions', 'peak F_int N', 'mean F_int N', 'mean time s'];
@@ -20,13 +21,14 @@ export function compareTable(r: CompareResult): string {
   ]);
   const w = head.map((h, c) => Math.max(h.length, ...rows.map((row) => row[c]!.length)));
   const line = (cells: string[]) => cells.map((x, c) => (c < 2 ? x.padEnd(w[c]!) : x.padStart(w[c]!))).join('  ');
-  return [`${r.worlds} worlds, seed ${r.seed}`, line(head), ...rows.map(line)].join('\n');
+  return [`${r.worlds} worlds, seed ${r.seed}${r.arm_model ? `, arms ${r.arm_model}` : ''}`, line(head), ...rows.map(line)].join('\n');
 }
 
 export function compareJson(r: CompareResult): Record<string, unknown> {
   return {
     worlds: r.worlds,
     seed: r.seed,
+    arm_model: r.arm_model,
     strategies: r.strategies.map((s) => ({
       name: s.name,
       k: s.k,
@@ -53,16 +55,18 @@ export function register(program: Command): void {
     .option('--strategies <list>', 'comma-separated: centralized, explicit[:k], alternating[:k], fixed, independent, adaptive (alternating alone: k = 50, 200, 500, 1000)')
     .option('--params <file>', 'ROS 2 parameters file (default: built-in defaults)')
     .option('--duration <s>', 'simulated time limit per episode, s (default task.time_limit_s)')
+    .option('--arm-model <m>', 'tool_point or six_joint', 'tool_point')
     .option('--json', 'print the result as JSON (no progress bar)')
-    .action(async (opts: { worlds: string; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; json?: boolean }) =>
+    .action(async (opts: { worlds: string; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const worlds = integerOption('--worlds', opts.worlds, 1, 1_000_000)!;
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
         const jobs = integerOption('--jobs', opts.jobs, 1, 256)!;
         const duration = numberOption('--duration', opts.duration, 0.01, 3600);
         const strategies = parseStrategyList(opts.strategies);
+        const armModel = armModelOption(opts.armModel);
         const cell = loadCell(opts.params);
-        const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, ...(duration !== undefined ? { duration_s: duration } : {}) };
+        const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options: { arm_model: armModel }, ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
         const showBar = !opts.json && process.stderr.isTTY === true;
         const bar = showBar ? new cliProgress.SingleBar({ stream: process.stderr, hideCursor: true }, cliProgress.Presets.shades_classic) : null;

@@ -4,7 +4,8 @@ import { join } from 'node:path';
 import type { Command } from 'commander';
 import { loadCell } from '../params/config.js';
 import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/episode.js';
-import { PERIODIC, parseStrategy, strategyLabel, type StrategySpec } from '../sim/strategies.js';
+import { ARM_MODELS, type ArmModel } from '../sim/options.js';
+import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
@@ -30,11 +31,19 @@ export function writeEpisodeArtifacts(dir: string, result: EpisodeResult): strin
   return written;
 }
 
+/** Parse --arm-model. */
+export function armModelOption(raw: string): ArmModel {
+  if (!(ARM_MODELS as readonly string[]).includes(raw)) {
+    throw new InputError({ code: 'cli.bad_arm_model', message: `--arm-model must be ${ARM_MODELS.join(' or ')}, got '${raw}'`, where: { option: '--arm-model' }, hint: ARM_MODELS.join(', ') });
+  }
+  return raw as ArmModel;
+}
+
 export function summaryText(s: EpisodeSummary): string {
   const f = (v: number | null, d = 2) => (v === null ? '-' : v.toFixed(d));
   const occ = Object.entries(s.world.occupied).map(([k, v]) => `${k} ${v ? 'occupied' : 'free'}`).join(', ');
   const lines = [
-    `seed ${s.seed}, strategy ${s.strategy}`,
+    `seed ${s.seed}, strategy ${s.strategy}, arms ${s.arm_model}`,
     `world: ${occ || 'no zones'}; start (${f(s.world.start_m[0], 3)}, ${f(s.world.start_m[1], 3)}) m, goal (${f(s.world.goal_m[0], 3)}, ${f(s.world.goal_m[1], 3)}) m`,
     `outcome: ${s.success ? 'success' : 'failure'} (${s.end_reason}) after ${f(s.duration_s)} s; time to goal ${f(s.time_to_goal_s)} s; final distance ${f(s.final_distance_m, 3)} m`,
     `collisions: ${s.collisions.count}${s.collisions.first_s === null ? '' : `, first at ${f(s.collisions.first_s, 3)} s`}; contact ${f(s.collisions.contact_s, 3)} s`,
@@ -57,13 +66,15 @@ export function register(program: Command): void {
     .option('--strategy <s>', 'centralized, explicit, alternating, fixed, independent or adaptive (name:k sets the period)', 'alternating')
     .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
     .option('--duration <s>', 'simulated time limit, s (default task.time_limit_s)')
+    .option('--arm-model <m>', 'tool_point (three admittance carriages) or six_joint (articulated arm under Cartesian damping)', 'tool_point')
     .option('--out <dir>', 'output directory (default out/sim-<seed>)')
     .option('--json', 'print the summary as JSON')
-    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; out?: string; json?: boolean }) =>
+    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; out?: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
         const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
         const duration = numberOption('--duration', opts.duration, 0.01, 3600);
+        const armModel = armModelOption(opts.armModel);
         const cell = loadCell(opts.params);
         const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
         let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
@@ -73,12 +84,11 @@ export function register(program: Command): void {
           }
           strategy = { name: strategy.name, k: period };
         }
-        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel }, ...(duration !== undefined ? { duration_s: duration } : {}) });
         const dir = opts.out ?? join('out', `sim-${seed}`);
         const written = writeEpisodeArtifacts(dir, result);
         if (opts.json) printJson({ ...result.summary, files: written });
         else printText(`${summaryText(result.summary)}\nwrote ${written.join(', ')}`);
-        void strategyLabel;
         return 0;
       }),
     );

@@ -17,20 +17,23 @@ import { compileMjcf, objectId } from './mujoco.js';
 import { buildMjcf } from './mjcf.js';
 import type { SimOptions } from './options.js';
 import type { ArmSide, SensorDraw, World } from './world.js';
+import { GRIP_LENGTH_M, SIX_JOINTS, SixJointController, solveStartPose, toolRotation, type SixJointViews } from './six-joint.js';
 
-/** Joints per arm reported in joint states: slide x, y, z (m, m/s). */
+/** Joints per arm of the tool point: slide x, y, z (m, m/s). */
 export const ARM_JOINTS = 3;
 export const JOINT_NAMES = ['x', 'y', 'z'] as const;
+export const SIX_JOINT_NAMES = ['j1', 'j2', 'j3', 'j4', 'j5', 'j6'] as const;
 
 interface ArmIds {
-  qposAdr: number; // first of 3 consecutive slide joints
+  qposAdr: number; // first of the arm's consecutive joints
   dofAdr: number;
-  ctrlAdr: number; // vx, vy
+  jointId: number;
+  ctrlAdr: number; // tool point: vx, vy; six joints: six motor torques
   site: number;
   sensorAdr: number; // force (3) then torque (3)
 }
 
-interface Views {
+interface Views extends SixJointViews {
   qpos: Float64Array;
   qvel: Float64Array;
   ctrl: Float64Array;
@@ -72,7 +75,14 @@ export class SimCell {
   /** Geom id per zone (task order), -1 where the zone is free in this world. */
   readonly obstacleGeom: Int32Array;
   readonly xml: string;
+  /** Joints per arm in joint states (3 slides or 6 revolute joints). */
+  readonly jointCount: number;
+  readonly jointNames: readonly string[];
   private readonly arms: Record<ArmSide, ArmIds>;
+  private readonly six: Record<ArmSide, SixJointController> | null;
+  private readonly cmd = { left: new Float64Array(2), right: new Float64Array(2) };
+  /** Six-joint arms: residual of the start-pose inverse kinematics, m and rad. */
+  readonly startPoseError: { left: { position_m: number; orientation_rad: number }; right: { position_m: number; orientation_rad: number } } | null = null;
   private v!: Views;
   private disposed = false;
 
@@ -88,23 +98,42 @@ export class SimCell {
     this.model = model;
     this.data = data;
     const m = model as unknown as { jnt_qposadr: Int32Array; jnt_dofadr: Int32Array; sensor_adr: Int32Array };
+    const sixJoint = options.arm_model === 'six_joint';
+    this.jointCount = sixJoint ? SIX_JOINTS : ARM_JOINTS;
+    this.jointNames = sixJoint ? SIX_JOINT_NAMES : JOINT_NAMES;
     const ids = (side: ArmSide): ArmIds => {
-      const jx = objectId(mj, model, 'joint', `${side}_x`);
+      const j0 = objectId(mj, model, 'joint', sixJoint ? `${side}_j1` : `${side}_x`);
       return {
-        qposAdr: m.jnt_qposadr[jx]!,
-        dofAdr: m.jnt_dofadr[jx]!,
-        ctrlAdr: objectId(mj, model, 'actuator', `${side}_vx`),
+        qposAdr: m.jnt_qposadr[j0]!,
+        dofAdr: m.jnt_dofadr[j0]!,
+        jointId: j0,
+        ctrlAdr: objectId(mj, model, 'actuator', sixJoint ? `${side}_m1` : `${side}_vx`),
         site: objectId(mj, model, 'site', `${side}_ft`),
         sensorAdr: m.sensor_adr[objectId(mj, model, 'sensor', `${side}_force`)]!,
       };
     };
     this.arms = { left: ids('left'), right: ids('right') };
+    this.six = sixJoint
+      ? { left: new SixJointController(this.arms.left, 'left', options, task), right: new SixJointController(this.arms.right, 'right', options, task) }
+      : null;
     this.beamBody = objectId(mj, model, 'body', 'beam');
     const jb = objectId(mj, model, 'joint', 'beam_free');
     this.beamQpos = m.jnt_qposadr[jb]!;
     this.beamDof = m.jnt_dofadr[jb]!;
     this.obstacleGeom = Int32Array.from(names.obstacleGeoms, (n) => (n === '' ? -1 : objectId(mj, model, 'geom', n)));
     this.refreshViews();
+    if (this.six) {
+      // Put each arm at the start grasp pose (the beam's free joint already sits at the start).
+      const errors = { left: { position_m: 0, orientation_rad: 0 }, right: { position_m: 0, orientation_rad: 0 } };
+      for (const side of ['left', 'right'] as const) {
+        const g = task.object.grasp_offset_m;
+        const target = [world.start_m[0], world.start_m[1] + (side === 'left' ? g : -g), options.beam_height_m + GRIP_LENGTH_M];
+        errors[side] = solveStartPose(mj, model, data, this.arms[side], target, toolRotation(side), side);
+        this.six[side].zRef = target[2]!;
+      }
+      (this as { startPoseError: typeof errors }).startPoseError = errors;
+      this.refreshViews();
+    }
     // Positions of the initial state (tool poses valid before the first step).
     mj.mj_forward(model, data);
   }
@@ -121,6 +150,8 @@ export class SimCell {
       xpos: d.xpos,
       xmat: d.xmat,
       energy: d.energy,
+      xanchor: d.xanchor,
+      xaxis: d.xaxis,
     };
   }
 
@@ -144,10 +175,27 @@ export class SimCell {
 
   /** Motion stack command of one arm: tool velocity in the cell frame (x, y), m/s. */
   setCommand(side: ArmSide, vx: number, vy: number): void {
+    if (this.six) {
+      const u = this.cmd[side];
+      u[0] = vx;
+      u[1] = vy;
+      return;
+    }
     const c = this.views.ctrl;
     const a = this.arms[side].ctrlAdr;
     c[a] = vx;
     c[a + 1] = vy;
+  }
+
+  /**
+   * Run the motion stacks' servo laws for this step (after step1, before step2). The tool
+   * point's servo is MuJoCo's velocity actuator; the six-joint arm's torques are computed here.
+   */
+  control(): void {
+    if (!this.six) return;
+    const v = this.views;
+    this.six.left.apply(v, this.cmd.left[0]!, this.cmd.left[1]!);
+    this.six.right.apply(v, this.cmd.right[0]!, this.cmd.right[1]!);
   }
 
   /**
@@ -179,17 +227,18 @@ export class SimCell {
     matToQuat(v.site_xmat, 9 * i, out, offset + 3);
   }
 
-  /** Slide joint positions (x, y, z), m, relative to the start pose. */
+  /** Joint positions: slides x, y, z (m, from the start pose) or six angles (rad). */
   jointPositions(side: ArmSide, out: Float64Array, offset = 0): void {
     const q = this.views.qpos;
     const a = this.arms[side].qposAdr;
-    for (let k = 0; k < ARM_JOINTS; k++) out[offset + k] = q[a + k]!;
+    for (let k = 0; k < this.jointCount; k++) out[offset + k] = q[a + k]!;
   }
 
+  /** Joint velocities (m/s or rad/s). */
   jointVelocities(side: ArmSide, out: Float64Array, offset = 0): void {
     const q = this.views.qvel;
     const a = this.arms[side].dofAdr;
-    for (let k = 0; k < ARM_JOINTS; k++) out[offset + k] = q[a + k]!;
+    for (let k = 0; k < this.jointCount; k++) out[offset + k] = q[a + k]!;
   }
 
   /** Beam pose (centre x y z, quaternion qx qy qz qw) from qpos. */

@@ -62,6 +62,7 @@ export interface StrategyRow {
 export interface CompareResult {
   readonly worlds: number;
   readonly seed: number;
+  readonly arm_model: string;
   readonly strategies: readonly StrategyRow[];
   readonly runs: readonly RunOutcome[];
 }
@@ -143,7 +144,7 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
   }
   const runs = results as RunOutcome[];
   const rows = input.strategies.map((s, si) => aggregate(s, runs.slice(si * input.worlds, (si + 1) * input.worlds)));
-  return { worlds: input.worlds, seed: input.seed, strategies: rows, runs };
+  return { worlds: input.worlds, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs };
 }
 
 export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): StrategyRow {

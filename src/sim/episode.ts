@@ -11,7 +11,7 @@ import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN, type ArmOutputs } from
 import { CHECKS } from '../core/watchdog.js';
 import type { ArmConfig, TaskParams } from '../params/config.js';
 import { InputError, type Problem } from '../util/errors.js';
-import { ARM_JOINTS, SensorModel, SimCell } from './cell.js';
+import { SensorModel, SimCell } from './cell.js';
 import { loadMujoco } from './mujoco.js';
 import { simOptions, type SimOptions, type SimOptionsOverrides } from './options.js';
 import { Recorder, type EpisodeRecord, type ZoneMessage } from './record.js';
@@ -40,6 +40,8 @@ export interface EpisodeSummary {
   readonly seed: number;
   readonly strategy: string;
   readonly k: number | null;
+  /** Which arms the cell had: tool_point or six_joint. */
+  readonly arm_model: string;
   readonly world: {
     readonly occupied: Readonly<Record<string, boolean>>;
     readonly start_m: readonly [number, number];
@@ -139,9 +141,10 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
   const zones = task.zones;
   const nz = zones.length;
 
-  const cell = new SimCell(mj, task, world, o);
+  const cell = new SimCell(mj, nominal, world, o);
+  const nj = cell.jointCount;
   try {
-    const arms = { left: new ArmStep(cfg.left, { jointCount: ARM_JOINTS }), right: new ArmStep(cfg.right, { jointCount: ARM_JOINTS }) };
+    const arms = { left: new ArmStep(cfg.left, { jointCount: nj }), right: new ArmStep(cfg.right, { jointCount: nj }) };
     const sensors = {
       left: new SensorModel(world.sensors.left, o.sensor.noise_force_n, o.sensor.noise_torque_nm),
       right: new SensorModel(world.sensors.right, o.sensor.noise_force_n, o.sensor.noise_torque_nm),
@@ -167,6 +170,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
           { left: Array.from(arms.left.task.hidden, (k) => zones[k]!.name), right: Array.from(arms.right.task.hidden, (k) => zones[k]!.name) },
           { left: arms.left.hypotheses, right: arms.right.hypotheses },
           Math.min(Math.ceil(nSteps / every) + 1, 16384),
+          nj,
         )
       : null;
     const ch = rec ? channelIndices(rec) : null;
@@ -174,7 +178,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     // Scratch.
     const meas = { left: new Float64Array(6), right: new Float64Array(6) };
     const truthW = { left: new Float64Array(6), right: new Float64Array(6) };
-    const jv = new Float64Array(ARM_JOINTS);
+    const jv = new Float64Array(nj);
     const pose = { left: new Float64Array(7), right: new Float64Array(7) };
     const fCell = { left: new Float64Array(3), right: new Float64Array(3) };
     const cmd = { left: new Float64Array(2), right: new Float64Array(2) };
@@ -253,7 +257,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
           cell.wrenchTruth(s, truthW[s]);
           sensors[s].measure(t, truthW[s], meas[s]);
           cell.jointVelocities(s, jv);
-          arm.setJointState(t, jv, ARM_JOINTS);
+          arm.setJointState(t, jv, nj);
           const p = pose[s];
           cell.toolPose(s, p);
           arm.setToolPose(t, p[0]!, p[1]!, p[2]!, p[3]!, p[4]!, p[5]!, p[6]!);
@@ -333,6 +337,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
         }
         if (endReason !== 'time_limit') break;
       }
+      cell.control();
       cell.step2();
     }
     // Holds still open at the end keep their reasons so far.
@@ -350,6 +355,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       seed: input.seed,
       strategy: strategyLabel(input.strategy),
       k: input.strategy.k,
+      arm_model: o.arm_model,
       world: { occupied: occupiedRec, start_m: [world.start_m[0], world.start_m[1]], goal_m: [world.goal_m[0], world.goal_m[1]] },
       success: endReason === 'success',
       end_reason: endReason,
@@ -407,8 +413,8 @@ function put1(r: Recorder, ch: number, v: number): void {
   r.array(ch)[r.base(ch)] = v;
 }
 
-const jpScratch = new Float64Array(ARM_JOINTS);
-const jvScratch = new Float64Array(ARM_JOINTS);
+const jpScratch = new Float64Array(8);
+const jvScratch = new Float64Array(8);
 const objScratch = new Float64Array(2);
 
 function record(
@@ -438,8 +444,8 @@ function record(
     put(r, c.forceCell, fCell[s]);
     cell.jointPositions(s, jpScratch);
     cell.jointVelocities(s, jvScratch);
-    put(r, c.jointPosition, jpScratch);
-    put(r, c.jointVelocity, jvScratch);
+    put(r, c.jointPosition, jpScratch, cell.jointCount);
+    put(r, c.jointVelocity, jvScratch, cell.jointCount);
     put(r, c.toolPose, pose[s]);
     put(r, c.zoneView, view[s]);
     put(r, c.twist, out.twist);

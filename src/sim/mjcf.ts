@@ -18,13 +18,16 @@
  * negates it so that the sensor reports the wrench the beam side exerts on the arm.
  *
  * The beam (a free body) is welded to both grippers: the welds carry every internal force
- * and moment. Only the beam and the obstacles collide (contype/conaffinity 1); the floor,
+ * and moment. Each weld's anchor is its grasp point on the beam's centre line (MuJoCo's
+ * default, the beam's origin, would make the soft welds carry a spurious internal moment
+ * pair of the half weight times the grasp offset). Only the beam and the obstacles collide (contype/conaffinity 1); the floor,
  * the stand, the fixture and the arms are visual only.
  */
 import type { TaskParams, ZoneConfig } from '../params/config.js';
 import { STANDARD_GRAVITY } from '../core/filter/index.js';
 import type { SimOptions } from './options.js';
 import type { World } from './world.js';
+import { sixJointActuators, sixJointBodies, sixJointWeld } from './six-joint.js';
 
 /** Height of the ceiling the cable trays hang from, m. */
 export const CEILING_M = 2.2;
@@ -94,7 +97,10 @@ function arm(side: 'left' | 'right', task: TaskParams, world: World, o: SimOptio
     </body>`;
 }
 
-/** The cell's MJCF for one world. */
+/**
+ * The cell's MJCF for one world. `task` is the nominal task (the arms' bases stand where the
+ * cell was built); the world gives the jittered start and goal.
+ */
 export function buildMjcf(task: TaskParams, world: World, o: SimOptions): { xml: string; names: CellNames } {
   const L = task.object.length_m;
   const s = o.beam_section_m;
@@ -114,8 +120,21 @@ export function buildMjcf(task: TaskParams, world: World, o: SimOptions): { xml:
   const fmax = f(o.servo_force_limit_n);
   const servo = (side: string, axis: string) =>
     `    <velocity name="${side}_v${axis}" joint="${side}_${axis}" kv="${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
-  const weld = (side: string) => `    <weld name="${side}_grasp" body1="${side}_tool" body2="beam" solref="${f(o.grasp_timeconst_s)} 1"/>`;
+  const six = o.arm_model === 'six_joint';
+  const weld = (side: 'left' | 'right') =>
+    six
+      ? sixJointWeld(side, task, o)
+      : `    <weld name="${side}_grasp" body1="${side}_tool" body2="beam" anchor="0 ${f(side === 'left' ? task.object.grasp_offset_m : -task.object.grasp_offset_m)} 0" solref="${f(o.grasp_timeconst_s)} 1"/>`;
+  const arms = six ? sixJointBodies('left', task, o) + sixJointBodies('right', task, o) : arm('left', task, world, o) + arm('right', task, world, o);
+  const actuators = six
+    ? `${sixJointActuators('left', o)}
+${sixJointActuators('right', o)}`
+    : `${servo('left', 'x')}
+${servo('left', 'y')}
+${servo('right', 'x')}
+${servo('right', 'y')}`;
   const xml = `<mujoco model="antiphon_cell">
+  <compiler angle="radian"/>
   <option timestep="${f(o.timestep_s)}" integrator="implicitfast" gravity="0 0 ${f(-STANDARD_GRAVITY)}">
     <flag island="disable"${o.energy ? ' energy="enable"' : ''}/>
   </option>
@@ -128,17 +147,14 @@ ${obstacles.join('\n')}
     <body name="beam" pos="${v3(sx, sy, h)}">
       <freejoint name="beam_free"/>
       <geom name="beam" type="box" size="${v3(s / 2, L / 2, s / 2)}" mass="${f(task.object.mass_kg)}" contype="1" conaffinity="1" condim="3" rgba="0.75 0.75 0.8 1"/>
-    </body>${arm('left', task, world, o)}${arm('right', task, world, o)}
+    </body>${arms}
   </worldbody>
   <equality>
 ${weld('left')}
 ${weld('right')}
   </equality>
   <actuator>
-${servo('left', 'x')}
-${servo('left', 'y')}
-${servo('right', 'x')}
-${servo('right', 'y')}
+${actuators}
   </actuator>
   <sensor>
     <force name="left_force" site="left_ft"/>

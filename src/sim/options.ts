@@ -21,7 +21,28 @@ export interface SensorNoiseOptions {
   readonly drift_torque_nm_s: number;
 }
 
+/** Settings of the six-joint arm (used when `arm_model` is `six_joint`). */
+export interface SixJointOptions {
+  /** Orientation hold of the tool: stiffness and damping, N*m/rad and N*m*s/rad. */
+  readonly rotational_stiffness_nm_rad: number;
+  readonly rotational_damping_nms_rad: number;
+  /** Vertical hold damping (the apparent mass is larger than the tool point's), N*s/m. */
+  readonly z_damping_n_s_m: number;
+  /** Motor torque limits: shoulder and elbow joints (1-3), wrist joints (4-6), N*m. */
+  readonly torque_limit_arm_nm: number;
+  readonly torque_limit_wrist_nm: number;
+}
+
+export type ArmModel = 'tool_point' | 'six_joint';
+export const ARM_MODELS: readonly ArmModel[] = ['tool_point', 'six_joint'];
+
 export interface SimOptions {
+  /**
+   * tool_point: three carriages on slide joints (x, y, z) with velocity servos.
+   * six_joint: an articulated arm of six revolute joints under Cartesian damping control.
+   */
+  readonly arm_model: ArmModel;
+  readonly six_joint: SixJointOptions;
   /** Physics step, s. The wrench is sampled every round(1 / (rate * timestep)) steps. */
   readonly timestep_s: number;
   /** Height of the beam's centre line above the floor, m. */
@@ -102,7 +123,17 @@ export const DEFAULT_SENSOR_NOISE: SensorNoiseOptions = Object.freeze({
   drift_torque_nm_s: 0.0005,
 });
 
+export const DEFAULT_SIX_JOINT: SixJointOptions = Object.freeze({
+  rotational_stiffness_nm_rad: 300,
+  rotational_damping_nms_rad: 12,
+  z_damping_n_s_m: 900,
+  torque_limit_arm_nm: 200,
+  torque_limit_wrist_nm: 50,
+});
+
 export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
+  arm_model: 'tool_point',
+  six_joint: DEFAULT_SIX_JOINT,
   timestep_s: 0.001,
   beam_height_m: 0.8,
   beam_section_m: 0.04,
@@ -136,11 +167,11 @@ export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
   energy: false,
 }) as SimOptions;
 
-export type SimOptionsOverrides = Partial<Omit<SimOptions, 'sensor'>> & { sensor?: Partial<SensorNoiseOptions> };
+export type SimOptionsOverrides = Partial<Omit<SimOptions, 'sensor' | 'six_joint'>> & { sensor?: Partial<SensorNoiseOptions>; six_joint?: Partial<SixJointOptions> };
 
 /** Defaults with overrides, validated. Throws InputError naming each bad key and its allowed range. */
 export function simOptions(overrides: SimOptionsOverrides = {}): SimOptions {
-  const o: SimOptions = { ...DEFAULT_SIM_OPTIONS, ...overrides, sensor: { ...DEFAULT_SENSOR_NOISE, ...overrides.sensor } };
+  const o: SimOptions = { ...DEFAULT_SIM_OPTIONS, ...overrides, sensor: { ...DEFAULT_SENSOR_NOISE, ...overrides.sensor }, six_joint: { ...DEFAULT_SIX_JOINT, ...overrides.six_joint } };
   const problems = checkSimOptions(o);
   if (problems.length) throw new InputError(problems);
   return o;
@@ -182,6 +213,14 @@ const SENSOR_RANGES: ReadonlyArray<[string, number, number]> = [
   ['drift_torque_nm_s', 0, 1],
 ];
 
+const SIX_JOINT_RANGES: ReadonlyArray<[string, number, number]> = [
+  ['rotational_stiffness_nm_rad', 1, 1e5],
+  ['rotational_damping_nms_rad', 0.01, 1e4],
+  ['z_damping_n_s_m', 0, 1e5],
+  ['torque_limit_arm_nm', 1, 1e4],
+  ['torque_limit_wrist_nm', 0.1, 1e4],
+];
+
 export function checkSimOptions(o: SimOptions): Problem[] {
   const out: Problem[] = [];
   const check = (key: string, v: unknown, lo: number, hi: number): void => {
@@ -191,6 +230,10 @@ export function checkSimOptions(o: SimOptions): Problem[] {
   };
   for (const [k, lo, hi] of RANGES) check(k, (o as unknown as Record<string, unknown>)[k], lo, hi);
   for (const [k, lo, hi] of SENSOR_RANGES) check(`sensor.${k}`, (o.sensor as unknown as Record<string, unknown>)[k], lo, hi);
+  for (const [k, lo, hi] of SIX_JOINT_RANGES) check(`six_joint.${k}`, (o.six_joint as unknown as Record<string, unknown>)[k], lo, hi);
+  if (!ARM_MODELS.includes(o.arm_model)) {
+    out.push({ code: 'sim.bad_arm_model', message: `sim.arm_model = ${String(o.arm_model)} is not allowed`, where: { key: 'sim.arm_model' }, hint: ARM_MODELS.join(' or ') });
+  }
   if (o.grasp_timeconst_s < 2 * o.timestep_s) {
     out.push({ code: 'sim.weld_too_stiff', message: `sim.grasp_timeconst_s = ${o.grasp_timeconst_s} s is below twice the timestep`, where: { key: 'sim.grasp_timeconst_s' }, hint: `at least ${2 * o.timestep_s} s` });
   }

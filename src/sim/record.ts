@@ -27,7 +27,7 @@ export interface ArmRecord {
   readonly wrenchTrue: Float64Array;
   /** Noise-free force on the arm in the cell frame (fx fy fz), N. */
   readonly forceCell: Float64Array;
-  /** Slide joints x y z: position (m, from the start pose) and velocity (m/s), as fed. */
+  /** Joints (tool point: slides x y z, m from the start pose; six-joint arm: j1..j6, rad), and velocities, as fed. */
   readonly jointPosition: Float64Array;
   readonly jointVelocity: Float64Array;
   /** Tool pose fed: x y z qx qy qz qw, cell frame. */
@@ -68,6 +68,8 @@ export interface ZoneMessage {
 
 export interface EpisodeRecord {
   readonly samples: number;
+  /** Joints per arm (width of jointPosition and jointVelocity). */
+  readonly jointCount: number;
   readonly sample_rate_hz: number;
   readonly zoneNames: readonly string[];
   /** Hidden zones of each arm (bit order of its belief hypotheses). */
@@ -97,12 +99,12 @@ interface Spec {
   readonly description: string;
 }
 
-const ARM_SPECS = (nz: number, nh: number, hyp: number): Array<[keyof ArmRecord, number, Ctor, string, string]> => [
+const ARM_SPECS = (nz: number, nh: number, hyp: number, nj = 3): Array<[keyof ArmRecord, number, Ctor, string, string]> => [
   ['wrench', 6, Float64Array, 'N, N*m', 'measured wrench fed to the step (sensor frame)'],
   ['wrenchTrue', 6, Float64Array, 'N, N*m', 'noise-free wrench of the beam side on the arm (sensor frame)'],
   ['forceCell', 3, Float64Array, 'N', 'noise-free force on the arm (cell frame)'],
-  ['jointPosition', 3, Float64Array, 'm', 'slide joints x y z from the start pose'],
-  ['jointVelocity', 3, Float64Array, 'm/s', 'slide joint velocities x y z'],
+  ['jointPosition', nj, Float64Array, nj === 3 ? 'm' : 'rad', nj === 3 ? 'slide joints x y z from the start pose' : 'joint angles j1..j6'],
+  ['jointVelocity', nj, Float64Array, nj === 3 ? 'm/s' : 'rad/s', nj === 3 ? 'slide joint velocities x y z' : 'joint velocities j1..j6'],
   ['toolPose', 7, Float64Array, 'm, 1', 'tool pose x y z qx qy qz qw (cell frame)'],
   ['zoneView', nz, Uint8Array, '1', 'zone view fed: 0 free, 1 occupied, 2 unknown'],
   ['twist', 6, Float64Array, 'm/s, rad/s', 'recommended twist (cell frame)'],
@@ -135,6 +137,7 @@ export class Recorder {
     readonly hidden: { left: readonly string[]; right: readonly string[] },
     readonly hypotheses: { left: number; right: number },
     initialCapacity = 8192,
+    readonly jointCount = 3,
   ) {
     this.capacity = Math.max(16, initialCapacity);
     const nz = zoneNames.length;
@@ -144,7 +147,7 @@ export class Recorder {
     };
     add('t', 1, Float64Array, 's', 'sample time (shared clock)');
     for (const side of ['left', 'right'] as const) {
-      for (const [k, w, c, u, d] of ARM_SPECS(nz, hidden[side].length, hypotheses[side])) add(`${side}.${k}`, w, c, u, d);
+      for (const [k, w, c, u, d] of ARM_SPECS(nz, hidden[side].length, hypotheses[side], jointCount)) add(`${side}.${k}`, w, c, u, d);
     }
     add('beam.pose', 7, Float64Array, 'm, 1', 'true beam pose x y z qx qy qz qw (cell frame)');
     add('beam.velocity', 6, Float64Array, 'm/s, rad/s', 'true beam velocity: linear (cell frame), angular (beam frame)');
@@ -201,6 +204,7 @@ export class Recorder {
     const specs = this.specs;
     return {
       samples: n,
+      jointCount: this.jointCount,
       sample_rate_hz: sampleRate,
       zoneNames: this.zoneNames,
       hiddenZones: this.hidden,

@@ -36,6 +36,18 @@ describe('determinism', () => {
     expect(a.record!.t[1]! - a.record!.t[0]!).toBeCloseTo(1 / left.wrench_filter.sample_rate_hz, 12);
   });
 
+  it('the six-joint arm repeats bit for bit too', () => {
+    const run = () => runEpisodeWith(mj, { left, right, strategy: { name: 'alternating', k: 500 }, seed: 7, duration_s: 2, options: { arm_model: 'six_joint' } });
+    const a = run();
+    const b = run();
+    expect(JSON.stringify(b.summary)).toBe(JSON.stringify(a.summary));
+    const x = a.record!.left.jointVelocity;
+    const y = b.record!.left.jointVelocity;
+    expect(a.record!.jointCount).toBe(6);
+    expect(x.length).toBe(6 * a.record!.samples);
+    expect(Buffer.from(y.buffer, y.byteOffset, y.byteLength).equals(Buffer.from(x.buffer, x.byteOffset, x.byteLength))).toBe(true);
+  });
+
   it('recording does not change the outcome', () => {
     const on = runEpisodeWith(mj, { left, right, strategy: { name: 'fixed', k: null }, seed: 4, duration_s: 2 });
     const off = runEpisodeWith(mj, { left, right, strategy: { name: 'fixed', k: null }, seed: 4, duration_s: 2, options: { record: false } });

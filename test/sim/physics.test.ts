@@ -12,6 +12,7 @@ import { runEpisodeWith } from '../../src/sim/episode.js';
 import { loadMujoco } from '../../src/sim/mujoco.js';
 import { simOptions } from '../../src/sim/options.js';
 import { sampleWorld, type World } from '../../src/sim/world.js';
+import { ARM_MODELS, type ArmModel } from '../../src/sim/options.js';
 
 let mj: MainModule;
 let left: ArmConfig;
@@ -43,12 +44,13 @@ function cellForce(wrench: Float64Array, pose: Float64Array, i: number): [number
   return [0, 1, 2].map((r) => R[r]![0]! * f[0]! + R[r]![1]! * f[1]! + R[r]![2]! * f[2]!) as [number, number, number];
 }
 
+describe.each(ARM_MODELS.map((m) => [m]))('%s', (arm_model: ArmModel) => {
 describe('beam held still (handbook mechanics: static equilibrium)', () => {
   it('the vertical wrist forces sum to the weight carried below the sensors within sensor noise', () => {
     const noise = 0.2;
     const r = runEpisodeWith(mj, {
       left, right, strategy: { name: 'centralized', k: null }, seed: 5, world: quietWorld(), duration_s: 1.0,
-      options: { sensor: { ...quietSensors, noise_force_n: noise }, settle_s: 10 },
+      options: { arm_model, sensor: { ...quietSensors, noise_force_n: noise }, settle_s: 10 },
     });
     const rec = r.record!;
     const o = simOptions();
@@ -69,14 +71,14 @@ describe('beam held still (handbook mechanics: static equilibrium)', () => {
     expect(Math.abs(sum / n + weight)).toBeLessThan((5 * noise * Math.SQRT2) / Math.sqrt(n));
     // The noise-free sensors agree to well below the noise (the beam is at rest).
     const last = rec.samples - 1;
-    const tz = rec.left.wrenchTrue[6 * last + 2]! + rec.right.wrenchTrue[6 * last + 2]!;
+    const tz = rec.left.forceCell[3 * last + 2]! + rec.right.forceCell[3 * last + 2]!;
     expect(Math.abs(tz + weight)).toBeLessThan(1e-3);
   });
 
   it('each arm carries half the beam when the grasps are symmetric (moment balance)', () => {
     const r = runEpisodeWith(mj, {
       left, right, strategy: { name: 'centralized', k: null }, seed: 5, world: quietWorld(), duration_s: 0.5,
-      options: { sensor: { ...quietSensors, noise_force_n: 0, noise_torque_nm: 0 }, settle_s: 10 },
+      options: { arm_model, sensor: { ...quietSensors, noise_force_n: 0, noise_torque_nm: 0 }, settle_s: 10 },
     });
     const rec = r.record!;
     const last = rec.samples - 1;
@@ -84,6 +86,8 @@ describe('beam held still (handbook mechanics: static equilibrium)', () => {
     const half = (left.task.object.mass_kg / 2 + o.tool_mass_kg) * STANDARD_GRAVITY;
     expect(rec.left.forceCell[3 * last + 2]!).toBeCloseTo(-half, 3);
     expect(rec.right.forceCell[3 * last + 2]!).toBeCloseTo(-half, 3);
+    // Rigid-body statics: two vertical supports, no moment needed at either grasp.
+    for (const a of [rec.left, rec.right]) for (let k = 3; k < 6; k++) expect(Math.abs(a.wrenchTrue[6 * last + k]!)).toBeLessThan(1e-3);
   });
 });
 
@@ -92,8 +96,8 @@ describe('pure squeeze (handbook mechanics: internal force of a rigid body betwe
     const v = 0.05;
     const D = simOptions().admittance_damping_n_s_m;
     const r = runEpisodeWith(mj, {
-      left, right, strategy: { name: 'centralized', k: null }, seed: 5, world: quietWorld(), duration_s: 1.2,
-      options: { sensor: { ...quietSensors, noise_force_n: 0, noise_torque_nm: 0 }, settle_s: 0 },
+      left, right, strategy: { name: 'centralized', k: null }, seed: 5, world: quietWorld(), duration_s: 2.0,
+      options: { arm_model, sensor: { ...quietSensors, noise_force_n: 0, noise_torque_nm: 0 }, settle_s: 0 },
       // Left sits at +y, right at -y: commanding them toward each other squeezes the beam.
       commandOverride: (t, side, out) => {
         out[0] = 0;
@@ -101,7 +105,7 @@ describe('pure squeeze (handbook mechanics: internal force of a rigid body betwe
       },
     });
     const rec = r.record!;
-    const i = rec.samples - 1; // 0.6 s into the squeeze: many admittance time constants M / D
+    const i = rec.samples - 1; // 1.4 s into the squeeze: many admittance time constants M / D
     const fl = [rec.left.forceCell[3 * i]!, rec.left.forceCell[3 * i + 1]!];
     const fr = [rec.right.forceCell[3 * i]!, rec.right.forceCell[3 * i + 1]!];
     // Equal and opposite along the beam (y): Newton's third law through a beam at rest.
@@ -120,8 +124,8 @@ describe('pure squeeze (handbook mechanics: internal force of a rigid body betwe
     const v = 0.08;
     const D = simOptions().admittance_damping_n_s_m;
     const r = runEpisodeWith(mj, {
-      left, right, strategy: { name: 'centralized', k: null }, seed: 5, world: quietWorld(), duration_s: 1.5,
-      options: { sensor: { ...quietSensors, noise_force_n: 0, noise_torque_nm: 0 }, settle_s: 0 },
+      left, right, strategy: { name: 'centralized', k: null }, seed: 5, world: quietWorld(), duration_s: 2.0,
+      options: { arm_model, sensor: { ...quietSensors, noise_force_n: 0, noise_torque_nm: 0 }, settle_s: 0 },
       commandOverride: (_t, side, out) => {
         out[0] = side === 'left' ? v : 0;
         out[1] = 0;
@@ -134,9 +138,10 @@ describe('pure squeeze (handbook mechanics: internal force of a rigid body betwe
     expect(rec.right.forceCell[3 * i]!).toBeCloseTo(c * (v - 0), 2);
   });
 });
+});
 
 describe('dissipation (handbook mechanics: a passive system with dampers loses energy)', () => {
-  it('with zero commands the mechanical energy never grows', () => {
+  it('tool point: with zero commands the mechanical energy never grows', () => {
     const o = simOptions({ energy: true, start_jitter_m: 0, goal_jitter_m: 0, occupancy_probability: 0 });
     const cell = new SimCell(mj, left.task, quietWorld(), o);
     try {
