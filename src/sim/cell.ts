@@ -88,6 +88,7 @@ export class SimCell {
 
   constructor(
     private readonly mj: MainModule,
+    /** The nominal task (the arms' bases stand where the cell was built); the world jitters start and goal. */
     readonly task: TaskParams,
     readonly world: World,
     readonly options: SimOptions,
@@ -128,7 +129,11 @@ export class SimCell {
       for (const side of ['left', 'right'] as const) {
         const g = task.object.grasp_offset_m;
         const target = [world.start_m[0], world.start_m[1] + (side === 'left' ? g : -g), options.beam_height_m + GRIP_LENGTH_M];
-        errors[side] = solveStartPose(mj, model, data, this.arms[side], target, toolRotation(side), side);
+        errors[side] = solveStartPose(mj, model, data, this.arms[side], target, toolRotation(side));
+        if (!(errors[side].position_m < 1e-6 && errors[side].orientation_rad < 1e-6)) {
+          this.dispose();
+          throw new Error(`the ${side} six-joint arm cannot reach the start grasp pose (residual ${errors[side].position_m.toExponential(2)} m, ${errors[side].orientation_rad.toExponential(2)} rad)`);
+        }
         this.six[side].zRef = target[2]!;
       }
       (this as { startPoseError: typeof errors }).startPoseError = errors;

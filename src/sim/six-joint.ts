@@ -232,7 +232,7 @@ function views(data: MjData): DataViews {
  * kinematics. Writes the joint angles into qpos. Returns the final position and orientation
  * errors (m, rad).
  */
-export function solveStartPose(mj: MainModule, model: MjModel, data: MjData, ids: SixJointIds, target: readonly number[], Rd: Float64Array, side: ArmSide): { position_m: number; orientation_rad: number } {
+export function solveStartPose(mj: MainModule, model: MjModel, data: MjData, ids: SixJointIds, target: readonly number[], Rd: Float64Array): { position_m: number; orientation_rad: number } {
   let v = views(data);
   const q = ids.qposAdr;
   // Seed: shoulder up, elbow bent down, flange pointing down, toward the target.
@@ -275,7 +275,6 @@ export function solveStartPose(mj: MainModule, model: MjModel, data: MjData, ids
       v.qpos[q + k]! += step * dq;
     }
   }
-  void side;
   return { position_m: pe, orientation_rad: oe };
 }
 
