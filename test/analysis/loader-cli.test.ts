@@ -2,43 +2,23 @@
  * The model loader's refusals (file:line:col of the bad value) and the `analyze` command:
  * its JSON shape and its exit codes (0 ok, 1 an expectation failed, 2 bad input).
  */
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { Command } from 'commander';
-import { afterAll, afterEach, describe, expect, it, vi } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { parseLinearTeamModel, buildTeam, loadLinearTeam, parsePeriodsOption } from '../../src/analysis/linear-team.js';
 import { register } from '../../src/cli/analyze.js';
-import { InputError, type Problem } from '../../src/util/errors.js';
+import { lineCol, problemsOf, tempFiles } from '../support/files.js';
+import { runRegistered } from '../support/run-command.js';
 
 const EXAMPLE = fileURLToPath(new URL('../../examples/linear-team.yaml', import.meta.url));
 const BASE = readFileSync(EXAMPLE, 'utf8');
-const dir = mkdtempSync(join(tmpdir(), 'antiphon-analyze-'));
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
-
-function problemsOf(fn: () => unknown): Problem[] {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof InputError) return [...e.problems];
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
+const { dir, write } = tempFiles('analyze');
 
 /** Replace one exact piece of the example, failing loudly if it is not there. */
 function edit(from: string, to: string): string {
   expect(BASE.includes(from), from).toBe(true);
   return BASE.replace(from, to);
-}
-
-/** 1-based line and column of the first occurrence of `needle` in `text` (after `after`, if given). */
-function lineCol(text: string, needle: string, after = ''): { line: number; column: number } {
-  const start = after ? text.indexOf(after) : 0;
-  const at = text.indexOf(needle, start);
-  const before = text.slice(0, at).split('\n');
-  return { line: before.length, column: before[before.length - 1]!.length + 1 };
 }
 
 const load = (text: string) => () => {
@@ -152,27 +132,7 @@ describe('model loader', () => {
 });
 
 describe('antiphon analyze', () => {
-  let out = '';
-  let err = '';
-  afterEach(() => {
-    vi.restoreAllMocks();
-    process.exitCode = undefined;
-  });
-
-  async function run(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
-    out = '';
-    err = '';
-    vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => ((out += String(s)), true));
-    vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => ((err += String(s)), true));
-    const program = new Command('antiphon').exitOverride();
-    register(program);
-    process.exitCode = undefined;
-    await program.parseAsync(['node', 'antiphon', 'analyze', ...args]);
-    const code = Number(process.exitCode ?? 0);
-    vi.restoreAllMocks();
-    process.exitCode = undefined;
-    return { code, stdout: out, stderr: err };
-  }
+  const run = (args: string[]) => runRegistered(register, 'analyze', args);
 
   it('--json prints the documented shape and exits 0', async () => {
     // common practice (the command's documented output)
@@ -210,8 +170,7 @@ describe('antiphon analyze', () => {
   });
 
   it('exits 1 when an expectation of the model file fails', async () => {
-    const f = join(dir, 'wrong-expect.yaml');
-    writeFileSync(f, edit('  fixed_stable: false', '  fixed_stable: true'));
+    const f = write(edit('  fixed_stable: false', '  fixed_stable: true'));
     const r = await run(['--model', f, '--json']);
     expect(r.code).toBe(1);
     const j = JSON.parse(r.stdout);
@@ -220,9 +179,8 @@ describe('antiphon analyze', () => {
   });
 
   it('bad model file: exit 2 with file:line:col', async () => {
-    const f = join(dir, 'bad-period.yaml');
     const text = edit('periods: [1, 2, 4, 8, 16]', 'periods: [1, 2, 0]');
-    writeFileSync(f, text);
+    const f = write(text);
     const { line, column } = lineCol(text, '0]', 'periods:');
     const r = await run(['--model', f]);
     expect(r.code).toBe(2);

@@ -265,36 +265,27 @@ describe('bag directories', () => {
   });
 
   it.skipIf(!FIXTURES)('a damaged .db3 is an InputError naming the file, never a crash', async () => {
+    /** Open the bag and read every message (either step may be the one that fails). */
+    const readAll = async (path: string) => {
+      const bag = await openBag(path);
+      try {
+        rows(bag);
+      } finally {
+        bag.close();
+      }
+    };
     const dir = copyFixture('sqlite3-cdr_test');
     const f = join(dir, 'cdr_test_0.db3');
     const bytes = readFileSync(f);
     for (let i = 100; i < bytes.length; i += 7) bytes[i] = 0xa5;
     // Source: SQLite file format (pages after the 100-byte header); common practice: report, do not crash.
     writeFileSync(f, bytes);
-    const p = await inputError(
-      (async () => {
-        const bag = await openBag(dir);
-        try {
-          rows(bag);
-        } finally {
-          bag.close();
-        }
-      })(),
-    );
+    const p = await inputError(readAll(dir));
     expect(p.code).toBe('bag.sqlite_error');
     expect(p.where?.file).toBe(f);
     const cut = copyFixture('sqlite3-talker');
     truncateSync(join(cut, 'talker.db3'), 9000);
-    const q = await inputError(
-      (async () => {
-        const bag = await openBag(cut);
-        try {
-          rows(bag);
-        } finally {
-          bag.close();
-        }
-      })(),
-    );
+    const q = await inputError(readAll(cut));
     expect(q.where?.file).toBe(join(cut, 'talker.db3'));
   });
 

@@ -1,35 +1,17 @@
 /** `antiphon bag info` and `antiphon bag dump`, run in-process through commander. */
-import { Command } from 'commander';
 import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterEach, describe, expect, it, vi } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { register } from '../../src/cli/bag.js';
 import { createBagWriter, encodeWrenchStamped } from '../../src/bag/index.js';
+import { runRegistered } from '../support/run-command.js';
 import { copyFixture, FIXTURES, fixture, tempDir, writeCellBag } from './helpers.js';
 
-async function run(...args: string[]): Promise<{ code: number; out: string; err: string }> {
-  const program = new Command('antiphon').exitOverride();
-  register(program);
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => ((out += String(s)), true));
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => ((err += String(s)), true));
-  const before = process.exitCode;
-  process.exitCode = undefined;
-  try {
-    await program.parseAsync(['node', 'antiphon', ...args]);
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-  const code = Number(process.exitCode ?? 0);
-  process.exitCode = before;
-  return { code, out, err };
+/** `antiphon <name> <args…>` in-process (`name` is `bag`), with stdout and stderr as `out` and `err`. */
+async function run(name: string, ...args: string[]): Promise<{ code: number; out: string; err: string }> {
+  const r = await runRegistered(register, name, args);
+  return { code: r.code, out: r.stdout, err: r.stderr };
 }
-
-afterEach(() => {
-  vi.restoreAllMocks();
-});
 
 describe.skipIf(!FIXTURES)('bag info / bag dump on the ROS 2 fixtures', () => {
   it('info --json: storage, times, counts, topics with QoS', async () => {

@@ -4,69 +4,16 @@
  * `register`, plus an end-to-end run of the built binary for the exit codes.
  */
 import { spawn, spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, symlinkSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { Command } from 'commander';
-import { afterAll, afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
 import { register } from '../../src/cli/check-config.js';
 import { SCHEMA } from '../../src/params/schema.js';
+import { DEMO, DEMO_TEXT, edit, lineCol, ROOT, tempFiles } from '../support/files.js';
+import { runRegistered } from '../support/run-command.js';
 
-const ROOT = fileURLToPath(new URL('../..', import.meta.url));
-const DEMO = join(ROOT, 'config/demo_cell.yaml');
-const DEMO_TEXT = readFileSync(DEMO, 'utf8');
-const dir = mkdtempSync(join(tmpdir(), 'antiphon-check-config-'));
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
-
-function lineCol(text: string, needle: string, after = ''): { line: number; column: number } {
-  const start = after ? text.indexOf(after) : 0;
-  const at = text.indexOf(needle, start);
-  expect(at, needle).toBeGreaterThanOrEqual(0);
-  const before = text.slice(0, at).split('\n');
-  return { line: before.length, column: before[before.length - 1]!.length + 1 };
-}
-
-function edit(from: string, to: string, text = DEMO_TEXT): string {
-  expect(text.split(from).length - 1, from).toBe(1);
-  return text.replace(from, to);
-}
-
-let fileNo = 0;
-function write(text: string): string {
-  const f = join(dir, `cc${fileNo++}.yaml`);
-  writeFileSync(f, text);
-  return f;
-}
-
-interface Run {
-  code: number;
-  stdout: string;
-  stderr: string;
-}
-
-afterEach(() => {
-  vi.restoreAllMocks();
-  process.exitCode = undefined;
-});
-
-async function run(args: string[]): Promise<Run> {
-  let out = '';
-  let err = '';
-  vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => ((out += String(s)), true));
-  vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => ((err += String(s)), true));
-  const program = new Command('antiphon').exitOverride();
-  register(program);
-  process.exitCode = undefined;
-  try {
-    await program.parseAsync(['node', 'antiphon', 'check-config', ...args]);
-  } finally {
-    vi.restoreAllMocks();
-  }
-  const code = Number(process.exitCode ?? 0);
-  process.exitCode = undefined;
-  return { code, stdout: out, stderr: err };
-}
+const { dir, write } = tempFiles('check-config');
+const run = (args: string[]) => runRegistered(register, 'check-config', args);
 
 const MISSPELT = edit('      cutoff_hz: 5.0', '      cuttoff_hz: 5.0');
 const MISSPELT_AT = lineCol(MISSPELT, 'cuttoff_hz');

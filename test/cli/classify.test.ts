@@ -4,56 +4,23 @@
  * a single-sample electrical spike at 3.0 s, the beam tip knocking the clamp post at 5.8 s).
  * Run in-process through the command's own `register`.
  */
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { Command, CommanderError } from 'commander';
-import { afterAll, afterEach, describe, expect, it, vi } from 'vitest';
+import { afterEach, describe, expect, it, vi } from 'vitest';
 import { register } from '../../src/cli/classify.js';
 import { beamCarryWrench, toCsv } from '../../src/sim/synthetic-wrench.js';
+import { DEMO, ROOT, tempFiles } from '../support/files.js';
+import { runRegistered } from '../support/run-command.js';
 
-const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 const EXAMPLE = join(ROOT, 'examples/beam-carry-wrench.csv');
-const DEMO = join(ROOT, 'config/demo_cell.yaml');
-const dir = mkdtempSync(join(tmpdir(), 'antiphon-classify-'));
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
+const { dir, write } = tempFiles('classify', 'csv');
+const run = (args: string[]) => runRegistered(register, 'classify', args);
 
-let fileNo = 0;
-function write(text: string, ext = 'csv'): string {
-  const f = join(dir, `in${fileNo++}.${ext}`);
-  writeFileSync(f, text);
-  return f;
-}
-
-interface Run {
-  code: number;
-  stdout: string;
-  stderr: string;
-}
-
+// The usage-error test below captures stderr itself.
 afterEach(() => {
   vi.restoreAllMocks();
   process.exitCode = undefined;
 });
-
-async function run(args: string[]): Promise<Run> {
-  let out = '';
-  let err = '';
-  vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => ((out += String(s)), true));
-  vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => ((err += String(s)), true));
-  const program = new Command('antiphon').exitOverride();
-  register(program);
-  process.exitCode = undefined;
-  try {
-    await program.parseAsync(['node', 'antiphon', 'classify', ...args]);
-  } finally {
-    vi.restoreAllMocks();
-  }
-  const code = Number(process.exitCode ?? 0);
-  process.exitCode = undefined;
-  return { code, stdout: out, stderr: err };
-}
 
 interface ClassifyJson {
   rate_hz: number;

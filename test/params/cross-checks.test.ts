@@ -3,48 +3,11 @@
  * zone geometry, hypothesis count, phases, speed below the watchdog limit, cut-off below
  * Nyquist, a speaker whose velocity depends on what it sees.
  */
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { buildArmConfig, loadCell, segmentHitsZone, type ZoneConfig } from '../../src/params/config.js';
-import { InputError, type Problem } from '../../src/util/errors.js';
+import { DEMO_TEXT, edit, lineCol, problemsOf, tempFiles } from '../support/files.js';
 
-const DEMO = fileURLToPath(new URL('../../config/demo_cell.yaml', import.meta.url));
-const DEMO_TEXT = readFileSync(DEMO, 'utf8');
-const dir = mkdtempSync(join(tmpdir(), 'antiphon-cross-'));
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
-
-let fileNo = 0;
-function write(text: string): string {
-  const f = join(dir, `c${fileNo++}.yaml`);
-  writeFileSync(f, text);
-  return f;
-}
-
-function problemsOf(fn: () => unknown): Problem[] {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof InputError) return [...e.problems];
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
-
-function edit(from: string, to: string, text = DEMO_TEXT): string {
-  expect(text.split(from).length - 1, from).toBe(1);
-  return text.replace(from, to);
-}
-
-function lineCol(text: string, needle: string, after = ''): { line: number; column: number } {
-  const start = after ? text.indexOf(after) : 0;
-  const at = text.indexOf(needle, start);
-  expect(at, needle).toBeGreaterThanOrEqual(0);
-  const before = text.slice(0, at).split('\n');
-  return { line: before.length, column: before[before.length - 1]!.length + 1 };
-}
+const { write } = tempFiles('cross');
 
 const cell = (text: string) => {
   const file = write(text);

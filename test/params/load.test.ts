@@ -2,55 +2,17 @@
  * The ROS 2 parameters-file loader: the demo cell resolves for both arms with the right
  * sources, and every refusal names the dotted key, file, line and column, all at once.
  */
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import fc from 'fast-check';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { loadCell } from '../../src/params/config.js';
 import { loadParamsFile, parseParamsText, resolveForArm, SECTIONS } from '../../src/params/load.js';
 import { SCHEMA } from '../../src/params/schema.js';
 import type { ParamSpec, ParamValue } from '../../src/params/spec.js';
 import { InputError, type Problem } from '../../src/util/errors.js';
+import { DEMO, DEMO_TEXT, edit, lineCol, problemsOf, tempFiles } from '../support/files.js';
 
-const DEMO = fileURLToPath(new URL('../../config/demo_cell.yaml', import.meta.url));
-const DEMO_TEXT = readFileSync(DEMO, 'utf8');
-const dir = mkdtempSync(join(tmpdir(), 'antiphon-params-'));
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
-
-let fileNo = 0;
-function write(text: string): string {
-  const f = join(dir, `p${fileNo++}.yaml`);
-  writeFileSync(f, text);
-  return f;
-}
-
-function problemsOf(fn: () => unknown): Problem[] {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof InputError) return [...e.problems];
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
-
-/** Replace one exact piece of the demo file, failing loudly if it is not there exactly once. */
-function edit(from: string, to: string, text = DEMO_TEXT): string {
-  expect(text.split(from).length - 1, from).toBe(1);
-  return text.replace(from, to);
-}
-
-/** 1-based line and column of `needle` in `text`, searching from the first `after` (if given). */
-function lineCol(text: string, needle: string, after = ''): { line: number; column: number } {
-  const start = after ? text.indexOf(after) : 0;
-  expect(start, after).toBeGreaterThanOrEqual(0);
-  const at = text.indexOf(needle, start);
-  expect(at, needle).toBeGreaterThanOrEqual(0);
-  const before = text.slice(0, at).split('\n');
-  return { line: before.length, column: before[before.length - 1]!.length + 1 };
-}
+const { dir, write } = tempFiles('params');
 
 /** Problems from loading `text` as a file with loadCell (file checks, then cross-checks). */
 function cellProblems(text: string): { file: string; problems: Problem[] } {
