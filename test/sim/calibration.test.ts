@@ -24,4 +24,14 @@ describe('coupling calibration', () => {
     expect(cell.left.config.coupling.damping_n_s_m).toBe(D / 2);
     expect(fit.residual_sd_n).toBeLessThan(cell.left.config.belief.noise_force_n);
   });
+
+  it('the six-joint arm gives the same quasi-static constant; its larger apparent mass lowers the fitted one more', async () => {
+    const cell = loadCell('config/demo_cell.yaml');
+    const r = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy: { name: 'alternating', k: 500 }, seed: 7, duration_s: 10, options: { arm_model: 'six_joint', record: true } });
+    const fit = fitCoupling(r.record!);
+    const D = simOptions().admittance_damping_n_s_m;
+    expect(fit.c_n_s_m).toBeGreaterThan(0.7 * (D / 2));
+    expect(fit.c_n_s_m).toBeLessThan(1.02 * (D / 2));
+    expect(fit.residual_sd_n).toBeLessThan(cell.left.config.belief.noise_force_n);
+  });
 });
