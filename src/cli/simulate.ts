@@ -1,34 +1,31 @@
 /** `antiphon simulate`: one episode of the simulated cell; prints the summary and writes summary.json. */
-import { mkdirSync, renameSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Command } from 'commander';
 import { loadCell } from '../params/config.js';
+import { renderReport } from '../report/html.js';
+import { writeEpisodeBag } from '../sim/episode-bag.js';
 import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/episode.js';
 import { ARM_MODELS, type ArmModel } from '../sim/options.js';
 import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
+import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
-/** Write a file under a temporary name and rename it when complete. */
-export function writeAtomic(path: string, text: string): void {
-  const tmp = `${path}.tmp-${process.pid}`;
-  writeFileSync(tmp, text);
-  renameSync(tmp, path);
-}
-
 /**
- * Everything an episode leaves in its output directory. The bag (both arms' inputs and
- * outputs from `result.record`) and the HTML report are written here too, once they exist.
+ * Everything an episode leaves in its output folder, written whole or not at all:
+ * `bag/` (both arms' inputs and every output, under the live topic names), `summary.json`
+ * and `report.html`.
  */
-export function writeEpisodeArtifacts(dir: string, result: EpisodeResult): string[] {
-  mkdirSync(dir, { recursive: true });
-  const written: string[] = [];
-  const summaryPath = join(dir, 'summary.json');
-  writeAtomic(summaryPath, JSON.stringify(result.summary, null, 2) + '\n');
-  written.push(summaryPath);
-  // Bag: write result.record (see src/sim/record.ts, EpisodeRecord.channels()) here.
-  // Report: render the summary and the record here.
-  return written;
+export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean): Promise<{ files: string[]; replayMatches: boolean }> {
+  let replayMatches = false;
+  await withOutputDir(dir, overwrite, async (tmp) => {
+    const art = await writeEpisodeBag(tmp, result, result.configs);
+    replayMatches = art.matchingSamples === art.samples;
+    const summary = { ...result.summary, bag_replay_matches_closed_loop: replayMatches };
+    writeFileAtomic(join(tmp, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
+    writeFileAtomic(join(tmp, 'report.html'), renderReport(art.report));
+  });
+  return { files: [join(dir, 'bag'), join(dir, 'summary.json'), join(dir, 'report.html')], replayMatches };
 }
 
 /** Parse --arm-model. */
@@ -67,9 +64,10 @@ export function register(program: Command): void {
     .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
     .option('--duration <s>', 'simulated time limit, s (default task.time_limit_s)')
     .option('--arm-model <m>', 'tool_point (three admittance carriages) or six_joint (articulated arm under Cartesian damping)', 'tool_point')
-    .option('--out <dir>', 'output directory (default out/sim-<seed>)')
+    .option('--out <dir>', 'output folder for bag/, summary.json and report.html (default out/sim-<seed>)')
+    .option('--overwrite', 'replace an existing output folder')
     .option('--json', 'print the summary as JSON')
-    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; out?: string; json?: boolean }) =>
+    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; out?: string; overwrite?: boolean; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
         const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
@@ -86,9 +84,9 @@ export function register(program: Command): void {
         }
         const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel }, ...(duration !== undefined ? { duration_s: duration } : {}) });
         const dir = opts.out ?? join('out', `sim-${seed}`);
-        const written = writeEpisodeArtifacts(dir, result);
-        if (opts.json) printJson({ ...result.summary, files: written });
-        else printText(`${summaryText(result.summary)}\nwrote ${written.join(', ')}`);
+        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite);
+        if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });
+        else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
         return 0;
       }),
     );

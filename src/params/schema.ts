@@ -32,7 +32,7 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('wrench_filter.payload.mass_kg', 'kg', 0, 0, 50, 'Payload mass hanging below the sensor (gripper, not the shared object).'),
   v('wrench_filter.payload.com_m', 'm', [0, 0, 0], 3, -1, 1, 'Payload centre of mass in the sensor frame.'),
   d('wrench_filter.impact.force_n', 'N', 15, 0.1, 1000, 'Impact-band force magnitude that scores 1.'),
-  d('wrench_filter.impact.torque_nm', 'N*m', 2, 0.01, 200, 'Impact-band torque magnitude that scores 1.'),
+  d('wrench_filter.impact.torque_nm', 'N*m', 6, 0.01, 200, 'Impact-band torque magnitude that scores 1. Keep it near the force level times the grasp lever: partners disagreeing along a long object twist the wrists without any impact.'),
   d('wrench_filter.impact.release_ratio', '1', 0.5, 0.05, 1, 'Hysteresis: the flag falls once the score stays below this fraction of 1.'),
   d('wrench_filter.impact.min_duration_s', 's', 0.003, 0, 0.5, 'The score must stay at or above 1 this long before an impact is flagged.'),
   d('wrench_filter.correction_force_n', 'N', 2.0, 0, 1000, 'Correction-band force above which a sample counts as a partner correction (labels and reports).'),

@@ -96,6 +96,8 @@ export interface EpisodeInput {
 
 export interface EpisodeResult {
   readonly summary: EpisodeSummary;
+  /** The configurations the two arm steps ran with (the strategy applied). */
+  readonly configs: { readonly left: ArmConfig; readonly right: ArmConfig };
   readonly record: EpisodeRecord | null;
   readonly world: World;
   readonly xml: string;
@@ -136,6 +138,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
   const rate = cfg.left.wrench_filter.sample_rate_hz;
   const every = Math.round(1 / (rate * o.timestep_s));
   const dt = o.timestep_s;
+  const physicsHz = Math.round(1 / dt);
   const duration = input.duration_s ?? task.time_limit_s;
   const nSteps = Math.ceil(duration / dt - 1e-9);
   const zones = task.zones;
@@ -212,9 +215,11 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     const copyTrips = (a: ArmStep): HoldReason[] => a.watchdog.trips.map((r) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s }));
 
     let step = 0;
+    zoneFed.left = zoneFed.right = 0;
     for (; step < nSteps; step++) {
       cell.step1();
-      const t = step * dt;
+      // Exactly step / rate: the value a replay recomputes from integer-nanosecond log times.
+      const t = step / physicsHz;
       lastT = t;
       // Contacts of the current positions (collision detection runs in step1).
       const mask = cell.contactMask();
@@ -273,6 +278,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
               else view[z] = ZONE_UNKNOWN;
             }
             arm.setZoneView(t, view);
+            zoneFed[s] = 1;
           }
           const out: ArmOutputs = arm.step(t, meas[s]);
           if (out.tared && taredAt[s] === null) taredAt[s] = t;
@@ -370,14 +376,14 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       tared_at_s: { left: taredAt.left, right: taredAt.right },
       samples: sampleIndex,
     };
-    return { summary, record: rec ? rec.finish(rate, messages) : null, world, xml: cell.xml };
+    return { summary, configs: cfg, record: rec ? rec.finish(rate, messages) : null, world, xml: cell.xml };
   } finally {
     cell.dispose();
   }
 }
 
 interface ArmChannels {
-  wrench: number; wrenchTrue: number; forceCell: number; jointPosition: number; jointVelocity: number; toolPose: number; zoneView: number;
+  wrench: number; wrenchTrue: number; forceCell: number; jointPosition: number; jointVelocity: number; toolPose: number; zoneView: number; zoneFed: number;
   twist: number; command: number; role: number; slot: number; held: number; inhibited: number; tared: number; impactFlag: number;
   beliefUpdated: number; impactScore: number; correction: number; impact: number; belief: number; hiddenOccupied: number; entropy: number; objectEstimate: number;
 }
@@ -396,7 +402,7 @@ function channelIndices(r: Recorder): Channels {
     const i = (k: string) => r.index(`${s}.${k}`);
     return {
       wrench: i('wrench'), wrenchTrue: i('wrenchTrue'), forceCell: i('forceCell'), jointPosition: i('jointPosition'), jointVelocity: i('jointVelocity'),
-      toolPose: i('toolPose'), zoneView: i('zoneView'), twist: i('twist'), command: i('command'), role: i('role'), slot: i('slot'), held: i('held'),
+      toolPose: i('toolPose'), zoneView: i('zoneView'), zoneFed: i('zoneFed'), twist: i('twist'), command: i('command'), role: i('role'), slot: i('slot'), held: i('held'),
       inhibited: i('inhibited'), tared: i('tared'), impactFlag: i('impactFlag'), beliefUpdated: i('beliefUpdated'), impactScore: i('impactScore'),
       correction: i('correction'), impact: i('impact'), belief: i('belief'), hiddenOccupied: i('hiddenOccupied'), entropy: i('entropy'), objectEstimate: i('objectEstimate'),
     };
@@ -414,6 +420,8 @@ function put1(r: Recorder, ch: number, v: number): void {
 }
 
 const jpScratch = new Float64Array(8);
+/** 1 when the arm's zone view was fed at the current sample (recorded, then cleared). */
+const zoneFed: Record<ArmSide, number> = { left: 0, right: 0 };
 const jvScratch = new Float64Array(8);
 const objScratch = new Float64Array(2);
 
@@ -448,6 +456,8 @@ function record(
     put(r, c.jointVelocity, jvScratch, cell.jointCount);
     put(r, c.toolPose, pose[s]);
     put(r, c.zoneView, view[s]);
+    put1(r, c.zoneFed, zoneFed[s]);
+    zoneFed[s] = 0;
     put(r, c.twist, out.twist);
     put(r, c.command, cmd[s]);
     put1(r, c.role, out.role);

@@ -34,6 +34,8 @@ export interface ArmRecord {
   readonly toolPose: Float64Array;
   /** Zone view last fed, one state per zone (0 free, 1 occupied, 2 unknown). */
   readonly zoneView: Uint8Array;
+  /** 1 at the samples where the zone view was fed (the area sensor reported). */
+  readonly zoneFed: Uint8Array;
   /** Recommended twist vx vy vz wx wy wz, cell frame. */
   readonly twist: Float64Array;
   /** Velocity command applied to the motion stack (vx, vy), cell frame. */
@@ -107,6 +109,7 @@ const ARM_SPECS = (nz: number, nh: number, hyp: number, nj = 3): Array<[keyof Ar
   ['jointVelocity', nj, Float64Array, nj === 3 ? 'm/s' : 'rad/s', nj === 3 ? 'slide joint velocities x y z' : 'joint velocities j1..j6'],
   ['toolPose', 7, Float64Array, 'm, 1', 'tool pose x y z qx qy qz qw (cell frame)'],
   ['zoneView', nz, Uint8Array, '1', 'zone view fed: 0 free, 1 occupied, 2 unknown'],
+  ['zoneFed', 1, Uint8Array, '1', '1 where the zone view was fed at this sample'],
   ['twist', 6, Float64Array, 'm/s, rad/s', 'recommended twist (cell frame)'],
   ['command', 2, Float64Array, 'm/s', 'velocity command applied to the motion stack (cell frame)'],
   ['role', 1, Uint8Array, '1', '0 speaker, 1 listener'],
