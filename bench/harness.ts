@@ -77,7 +77,7 @@ export function timeSamples(n: number, warmup: number, body: (k: number) => void
 }
 
 export function round(x: number): number {
-  return Math.round(x * 100) / 100;
+  return Math.round(x * 1000) / 1000;
 }
 
 export function machine(): Record<string, unknown> {

@@ -121,8 +121,12 @@ export class JointStateDecoder {
     this.stride = 2 + 3 * maxJoints;
   }
 
-  /** Decode one message into out[at .. at + stride); returns its joint (name) count. */
-  decode(view: DataView, offset: number, length: number, out: Float64Array, at: number): number {
+  /**
+   * Decode one message into out[at .. at + stride); returns its joint (name) count. Values past
+   * a shorter array read NaN up to `fill` joints (default all `maxJoints`; a caller that reads
+   * only the first `count` joints may pass a smaller `fill` and save the writes).
+   */
+  decode(view: DataView, offset: number, length: number, out: Float64Array, at: number, fill: number = this.maxJoints): number {
     const le = encapsulation(view, offset, length);
     const origin = offset + 4;
     const end = offset + length;
@@ -155,20 +159,22 @@ export class JointStateDecoder {
         for (let i = 0; i < n; i++) out[base + i] = view.getFloat64(origin + p + 8 * i, le);
         p += 8 * n;
       }
-      for (let i = n; i < J; i++) out[base + i] = NaN;
+      const fillTo = fill < J ? Math.max(fill, nNames) : J;
+      for (let i = n; i < fillTo; i++) out[base + i] = NaN;
     }
     if (nNames > J) layoutError(`${nNames} joint names, more than maxJoints ${J}`, namesStart + 4);
     return nNames;
   }
 
   #checkNames(view: DataView, from: number, to: number, n: number, le: boolean): void {
-    const bytes = new Uint8Array(view.buffer, view.byteOffset + from, to - from);
+    // Compare in place (no view object per message); copy only when the names changed.
     const prev = this.#nameBytes;
-    let same = prev.length === bytes.length;
-    for (let i = 0; same && i < bytes.length; i++) if (prev[i] !== bytes[i]) same = false;
+    const len = to - from;
+    let same = prev.length === len;
+    for (let i = 0; same && i < len; i++) if (prev[i] !== view.getUint8(from + i)) same = false;
     this.namesChanged = !same;
     if (same) return;
-    this.#nameBytes = bytes.slice();
+    this.#nameBytes = new Uint8Array(view.buffer, view.byteOffset + from, len).slice();
     const names: string[] = [];
     let p = 4;
     const local = new DataView(this.#nameBytes.buffer);

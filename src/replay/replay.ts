@@ -205,10 +205,18 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
       topics: resolved,
       outTopics: [],
       inTopics: new Map(),
-      rec: {
-        t: new Column(), raw: new Column(), corr: new Column(), imp: new Column(), score: new Column(), role: new Column(), held: new Column(),
-        speed: new Column(), corrY: new Column(), poseT: new Column(), poseSpeed: new Column(), beliefT: new Column(), marg: new Column(),
-      },
+      rec: (() => {
+        // Sized from the recorded counts, so the columns never regrow during the replay.
+        const count = (kind: InputKind) => (resolved[kind] === null ? 16 : Math.max(16, topics[topicIndex.get(resolved[kind]!)!]!.count));
+        const n = count('wrench');
+        const nb = Math.ceil(n / Math.max(1, Math.round(config.wrench_filter.sample_rate_hz / config.belief.update_rate_hz))) + 16;
+        const col = () => new Column(n);
+        return {
+          t: col(), raw: col(), corr: col(), imp: col(), score: col(), role: col(), held: col(), speed: col(), corrY: col(),
+          poseT: new Column(count('tool_pose')), poseSpeed: new Column(count('tool_pose')),
+          beliefT: new Column(nb), marg: new Column(nb * Math.max(1, config.task.zones.length)),
+        };
+      })(),
       events: [],
       joint: new JointStateDecoder(64),
       jointRow: new Float64Array(2 + 3 * 64),
@@ -275,7 +283,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
               onWrench(run, t, ns, rel, wrench);
               break;
             case 'joint_states': {
-              const n = run.joint.decode(batch.view, off, len, run.jointRow, 0);
+              const n = run.joint.decode(batch.view, off, len, run.jointRow, 0, 0);
               // Velocities follow the positions in the row. An empty velocity array (not measured)
               // decodes as all NaN: then no joint speed is checked. A NaN among measured ones trips.
               const v = run.jointVel;

@@ -126,7 +126,7 @@ export class ArmNode {
 
   onJointState(m: Uint8Array): void {
     this.guard(LIVE_INPUTS.joint_states, () => {
-      const n = this.joint.decode(view(m), 0, m.byteLength, this.jointRow, 0);
+      const n = this.joint.decode(view(m), 0, m.byteLength, this.jointRow, 0, 0);
       let measured = false;
       for (let q = 0; q < n; q++) {
         this.jointVel[q] = this.jointRow[2 + 64 + q]!;
