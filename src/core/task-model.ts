@@ -9,8 +9,9 @@
  * enough that the object's end clears it; the object waits short of the zone until it has.
  *
  * The field is evaluated for many occupancy hypotheses per update, so `prepare()` computes
- * each zone's contribution once for the current position and `velocity()` only sums the
- * contributions of the zones set in a bitmask. Nothing here allocates after construction.
+ * each zone's contribution once for the current position, `tabulate()` sums them for every
+ * subset of a set of zones, and `velocityOf()` reads one subset in O(1). Nothing here
+ * allocates after construction.
  */
 import type { ArmName } from '../params/spec.js';
 import type { PolicyParams, TaskParams, ZoneConfig } from '../params/config.js';
@@ -149,25 +150,6 @@ export class TaskModel {
   }
 
   /**
-   * Object velocity (x, y) when the zones set in `mask` are occupied, saturated at the
-   * policy speed. Call `prepare()` first.
-   */
-  velocity(mask: number, out: Float64Array, offset = 0): void {
-    let ly = 0;
-    let cap = Infinity;
-    let lo = -Infinity;
-    let hi = Infinity;
-    for (let z = 0; z < this.n; z++) {
-      if (((mask >>> z) & 1) === 0) continue;
-      ly += this.lat[z]!;
-      if (this.cap[z]! < cap) cap = this.cap[z]!;
-      if (this.lo[z]! > lo) lo = this.lo[z]!;
-      if (this.hi[z]! < hi) hi = this.hi[z]!;
-    }
-    this.finish(ly, cap, lo, hi, out, offset);
-  }
-
-  /**
    * Tabulate, for every subset h of `zones` (bit b of h: zones[b] occupied) together with
    * the zones of `baseMask`, the summed contributions, so that `velocityOf(table, h)` is
    * O(1). Each subset extends a smaller one by a single zone. Call `prepare()` first.
@@ -220,13 +202,6 @@ export class TaskModel {
     }
     out[offset] = vx;
     out[offset + 1] = vy;
-  }
-
-  /** Bitmask with bit `zoneIndex[bit]` set for each set bit of `h` (hypothesis over a zone subset). */
-  static expand(h: number, zoneIndex: Int32Array): number {
-    let m = 0;
-    for (let b = 0; b < zoneIndex.length; b++) if ((h >>> b) & 1) m |= 1 << zoneIndex[b]!;
-    return m;
   }
 
   /** Does the object (a segment at x = px, y in [py - L/2, py + L/2]) touch zone z? */
