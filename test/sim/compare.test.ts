@@ -45,16 +45,16 @@ describe.skipIf(!built)('CLI', () => {
     for (const key of ['name', 'k', 'success_rate', 'ci95', 'collision_rate', 'mean_peak_internal_force_n', 'mean_time_s']) expect(j.strategies[0]).toHaveProperty(key);
   });
 
-  it('simulate writes summary.json (renamed into place) and prints the same summary', () => {
+  it('simulate writes bag/, summary.json and report.html (renamed into place) and prints the same summary', () => {
     const dir = mkdtempSync(join(tmpdir(), 'antiphon-simulate-'));
     const r = cli('simulate', '--seed', '2', '--strategy', 'alternating', '--period-steps', '200', '--duration', '1', '--params', 'config/demo_cell.yaml', '--out', dir, '--json');
     expect(r.status).toBe(0);
     const printed = JSON.parse(r.stdout) as { seed: number; strategy: string; files: string[] };
     expect(printed.strategy).toBe('alternating:200');
-    expect(readdirSync(dir)).toEqual(['summary.json']);
+    expect(readdirSync(dir).sort()).toEqual(['bag', 'report.html', 'summary.json']);
     const written = JSON.parse(readFileSync(join(dir, 'summary.json'), 'utf8')) as Record<string, unknown>;
     const { files, ...summary } = printed;
-    expect(files).toEqual([join(dir, 'summary.json')]);
+    expect(files).toEqual([join(dir, 'bag'), join(dir, 'summary.json'), join(dir, 'report.html')]);
     expect(written).toEqual(summary);
     expect(cli('simulate', '--strategy', 'fixed', '--period-steps', '10').status).toBe(2);
   });
