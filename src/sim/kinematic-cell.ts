@@ -25,6 +25,8 @@ export interface CellRun {
   collided: boolean;
   time_s: number;
   peakInternalN: number;
+  /** When the peak occurred (s from the start). */
+  peakInternalT?: number;
   /** Watchdog trips of each arm at the end of the run: `check@input`. */
   trips: { left: string[]; right: string[] };
   /** Recommended linear speed per sample, when asked for (keepSpeeds). */
@@ -146,7 +148,11 @@ export function runKinematicCell(
     // Rigid beam between two admittances.
     fL = (D * (oR.twist[0]! - oL.twist[0]!)) / 2;
     fLy = (D * (oR.twist[1]! - oL.twist[1]!)) / 2;
-    run.peakInternalN = Math.max(run.peakInternalN, Math.hypot(fL, fLy));
+    const fi = Math.hypot(fL, fLy);
+    if (fi > run.peakInternalN) {
+      run.peakInternalN = fi;
+      run.peakInternalT = tr;
+    }
     vx = (oL.twist[0]! + oR.twist[0]!) / 2;
     vy = (oL.twist[1]! + oR.twist[1]!) / 2;
     px += dt * vx;
