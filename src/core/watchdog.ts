@@ -216,7 +216,8 @@ export class Watchdog {
   /** Ticks without a new wrench sample (live node timer): staleness and the clear timer. */
   tick(t: number, lastSeen: Float64Array, required: Uint8Array): boolean {
     let bad = false;
-    if (t < this.lastT) return this.held;
+    // A non-finite time cannot date anything: it must not reach the clear timer (NaN there would pass the reset check).
+    if (!Number.isFinite(t) || t < this.lastT) return this.held;
     for (let k = 0; k < INPUTS.length; k++) {
       if (required[k] === 0 || Number.isNaN(lastSeen[k]!)) continue;
       const age = t - lastSeen[k]!;
@@ -246,7 +247,7 @@ export class Watchdog {
    */
   requestReset(): { released: boolean; reason: string } {
     if (!this.held) return { released: true, reason: 'not held' };
-    if (this.clearFor_s < this.p.release_clear_s) {
+    if (!(this.clearFor_s >= this.p.release_clear_s)) {
       return { released: false, reason: `conditions clear for ${this.clearFor_s.toFixed(3)} s of the ${this.p.release_clear_s} s required` };
     }
     this.held = false;
