@@ -250,7 +250,6 @@ export class ArmStep {
   /** One wrench sample (sensor frame, N and N*m) at time t (s, shared clock). */
   step(t: number, wrench: Float64Array): ArmOutputs {
     const out = this.out;
-    this.lastSeen[INPUT.wrench] = t;
     let finite = true;
     for (let k = 0; k < 6; k++) {
       const v = wrench[k]!;
@@ -268,6 +267,9 @@ export class ArmStep {
     // A non-finite raw sample must trip even though the filter skipped it.
     wd.compensated = finite ? f.compensated : this.rawFinite;
     let stop = this.watchdog.checkInputs(wd);
+    // Only after the check: it sees the wrench's age as the gap since the previous sample, which
+    // replay and the simulated cell (no timer tick) would otherwise never see.
+    this.lastSeen[INPUT.wrench] = t;
     stop = stop || !f.tared;
     const dt = Number.isNaN(this.lastT) ? 0 : Math.min(Math.max(t - this.lastT, 0), 0.1);
     if (t >= this.lastT || Number.isNaN(this.lastT)) this.lastT = t;
