@@ -187,6 +187,12 @@ export class Watchdog {
         waiting = true;
         continue;
       }
+      if (!Number.isFinite(last)) {
+        // An input stamped at infinity would never look old: a non-finite time trips.
+        this.trip(CHECK.non_finite, INPUTS[k]!, last, 0, t);
+        bad = true;
+        continue;
+      }
       const age = t - last;
       if (age > this.staleLimit[k]!) {
         this.trip(CHECK.stale_input, INPUTS[k]!, age, this.staleLimit[k]!, t);
