@@ -227,7 +227,11 @@ export class ArmStep {
 
   /** What this arm's own area sensor reports, one state per zone in task order. */
   setZoneView(t: number, states: ArrayLike<number>): void {
-    for (let z = 0; z < this.task.n; z++) this.zoneState[z] = states[z] ?? ZONE_UNKNOWN;
+    for (let z = 0; z < this.task.n; z++) {
+      // Anything but exactly FREE or OCCUPIED is UNKNOWN (a Uint8Array would turn NaN or 256 into FREE).
+      const v = states[z];
+      this.zoneState[z] = v === ZONE_FREE || v === ZONE_OCCUPIED ? v : ZONE_UNKNOWN;
+    }
     this.lastSeen[INPUT.zone_view] = t;
   }
 
