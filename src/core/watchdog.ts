@@ -110,6 +110,7 @@ export class Watchdog {
         if (r.check === check && Math.abs(value) > Math.abs(r.value)) {
           r.value = value;
           r.input = input;
+          r.limit = limit;
         }
       }
       return;
