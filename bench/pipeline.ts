@@ -37,7 +37,7 @@ export function benchFilterWatchdog(n = 1_000_000): SampleStats & { config: stri
   const joints = new Float64Array(6);
   const x: WatchdogInputs = {
     t_s: 0, compensated: filter.compensated, correction: filter.correction, impactFlag: false, impactScore: 0,
-    jointVelocity: joints, jointCount: 6, jointFinite: true, poseFinite: true, lastSeen, required,
+    jointVelocity: joints, jointCount: 6, jointFinite: true, poseFinite: true, zoneFinite: true, lastSeen, required,
   };
   const views: Float64Array[] = Array.from({ length: STREAM }, (_, k) => stream.subarray(6 * k, 6 * k + 6));
   const stats = timeSamples(n, 20_000, (k) => {

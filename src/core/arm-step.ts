@@ -92,6 +92,7 @@ export class ArmStep {
   private jointCount: number;
   private jointFinite = true;
   private poseFinite = true;
+  private zoneFinite = true;
   private readonly pose = Float64Array.of(0, 0, 0, 0, 0, 0, 1);
   private readonly zoneState: Uint8Array;
   private readonly lastSeen = new Float64Array(INPUTS.length).fill(Number.NaN);
@@ -171,6 +172,7 @@ export class ArmStep {
       jointCount: this.jointCount,
       jointFinite: true,
       poseFinite: true,
+      zoneFinite: true,
       lastSeen: this.lastSeen,
       required: this.required,
     };
@@ -233,6 +235,7 @@ export class ArmStep {
       this.zoneState[z] = v === ZONE_FREE || v === ZONE_OCCUPIED ? v : ZONE_UNKNOWN;
     }
     this.lastSeen[INPUT.zone_view] = t;
+    this.zoneFinite = Number.isFinite(t);
   }
 
   requestTare(): void {
@@ -268,6 +271,7 @@ export class ArmStep {
     wd.impactScore = f.impactScore;
     wd.jointFinite = this.jointFinite;
     wd.poseFinite = this.poseFinite;
+    wd.zoneFinite = this.zoneFinite;
     // A non-finite raw sample must trip even though the filter skipped it.
     wd.compensated = finite ? f.compensated : this.rawFinite;
     let stop = this.watchdog.checkInputs(wd);
@@ -521,7 +525,7 @@ export class ArmStep {
       belief: this.belief.snapshot(),
       replica: this.replica.snapshot(),
       numbers: Float64Array.of(this.beliefCount, this.policyCount, this.accFx, this.accFy, this.accVx, this.accVy, this.windowClean ? 1 : 0,
-        this.targetVx, this.targetVy, this.cmdVx, this.cmdVy, this.lastT, this.jointCount, this.jointFinite ? 1 : 0, this.poseFinite ? 1 : 0,
+        this.targetVx, this.targetVy, this.cmdVx, this.cmdVy, this.lastT, this.jointCount, this.jointFinite ? 1 : 0, this.poseFinite ? 1 : 0, this.zoneFinite ? 1 : 0,
         this.lastRole, this.committedHidden, this.committedOwn, this.windowRole),
       lastSeen: Float64Array.from(this.lastSeen),
       joint: Float64Array.from(this.jointVel),
@@ -544,7 +548,8 @@ export class ArmStep {
     this.wdIn.jointCount = this.jointCount;
     this.jointFinite = n[13] === 1;
     this.poseFinite = n[14] === 1;
-    [this.lastRole, this.committedHidden, this.committedOwn, this.windowRole] = [n[15]!, n[16]!, n[17]!, n[18]!];
+    this.zoneFinite = n[15] === 1;
+    [this.lastRole, this.committedHidden, this.committedOwn, this.windowRole] = [n[16]!, n[17]!, n[18]!, n[19]!];
     this.lastSeen.set(s.lastSeen);
     this.jointVel.set(s.joint);
     this.pose.set(s.pose);

@@ -56,6 +56,8 @@ export interface WatchdogInputs {
   /** Whether the non-wrench inputs hold non-finite values (checked where they arrive). */
   jointFinite: boolean;
   poseFinite: boolean;
+  /** False when the last zone view came with a non-finite time. */
+  zoneFinite: boolean;
   /** Last arrival time per input (s), NaN when never received. */
   lastSeen: Float64Array;
   /** Which inputs are required (1) or ignored (0), per INPUTS order. */
@@ -157,6 +159,10 @@ export class Watchdog {
     }
     if (!x.poseFinite) {
       this.trip(CHECK.non_finite, 'tool_pose', Number.NaN, 0, t);
+      bad = true;
+    }
+    if (!x.zoneFinite) {
+      this.trip(CHECK.non_finite, 'zone_view', Number.NaN, 0, t);
       bad = true;
     }
     if (finite) {

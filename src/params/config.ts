@@ -172,6 +172,10 @@ function crossCheck(c: ArmConfig, values: ReadonlyMap<string, ResolvedValue>): v
   if (wf.cutoff_hz >= 0.45 * wf.sample_rate_hz) {
     problems.push({ code: 'param.cutoff_too_high', message: `wrench_filter.cutoff_hz = ${wf.cutoff_hz} Hz is too close to the Nyquist frequency of ${wf.sample_rate_hz} Hz`, where: where('wrench_filter.cutoff_hz'), hint: `below ${0.45 * wf.sample_rate_hz} Hz` });
   }
+  // A wrench gap of one sample must not read as stale: allow at least two sample periods.
+  if (c.watchdog.stale_after_s.wrench < 2 / wf.sample_rate_hz) {
+    problems.push({ code: 'param.stale_below_period', message: `watchdog.stale_after_s.wrench = ${c.watchdog.stale_after_s.wrench} s is shorter than two wrench samples at ${wf.sample_rate_hz} Hz`, where: where('watchdog.stale_after_s.wrench'), hint: `at least ${(2 / wf.sample_rate_hz).toPrecision(3)} s` });
+  }
   for (const k of ['belief.update_rate_hz', 'policy.update_rate_hz'] as const) {
     const rate = k === 'belief.update_rate_hz' ? c.belief.update_rate_hz : c.policy.update_rate_hz;
     if (rate > wf.sample_rate_hz) problems.push({ code: 'param.rate_above_sample_rate', message: `${k} = ${rate} Hz exceeds wrench_filter.sample_rate_hz = ${wf.sample_rate_hz} Hz`, where: where(k), hint: 'at most the sample rate' });

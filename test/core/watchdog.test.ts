@@ -29,6 +29,7 @@ function inputs(): WatchdogInputs {
     jointCount: 6,
     jointFinite: true,
     poseFinite: true,
+    zoneFinite: true,
     lastSeen: new Float64Array(INPUTS.length).fill(Number.NaN),
     required: Uint8Array.of(1, 1, 1, 1),
   };

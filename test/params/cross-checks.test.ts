@@ -120,12 +120,22 @@ describe('speeds, rates and phases', () => {
 
   it('update rates above the sample rate', () => {
     // src/params/config.ts: belief and policy update at most once per wrench sample
-    const text = edit('sample_rate_hz: 1000.0', 'sample_rate_hz: 80.0');
+    // (a 50 ms wrench staleness limit keeps this file clear of the staleness check below)
+    const text = edit('        wrench: 0.02', '        wrench: 0.05', edit('sample_rate_hz: 1000.0', 'sample_rate_hz: 80.0'));
     const { problems } = cell(text);
     expect(problems.map((p) => [p.code, p.where?.key])).toEqual([
       ['param.rate_above_sample_rate', 'belief.update_rate_hz'],
       ['param.rate_above_sample_rate', 'policy.update_rate_hz'],
     ]);
+  });
+
+  it('a wrench staleness limit shorter than two sample periods', () => {
+    // src/params/config.ts: one late sample must not read as a stale stream (common practice:
+    // a timeout of at least two periods of the expected rate)
+    const text = edit('sample_rate_hz: 1000.0', 'sample_rate_hz: 50.0');
+    const { problems } = cell(edit('    belief:\n      update_rate_hz: 100.0', '    belief:\n      update_rate_hz: 50.0', edit('      update_rate_hz: 100.0\n    task:', '      update_rate_hz: 50.0\n    task:', text)));
+    expect(problems.map((p) => [p.code, p.where?.key])).toEqual([['param.stale_below_period', 'watchdog.stale_after_s.wrench']]);
+    expect(problems[0]!.hint).toContain('0.0400');
   });
 
   it('a grasp point beyond the end of the object', () => {

@@ -15,7 +15,7 @@ describe('review: trip record', () => {
     const wd = new Watchdog(P);
     const x: WatchdogInputs = {
       t_s: 0, compensated: new Float64Array(6), correction: new Float64Array(6), impactFlag: false, impactScore: 0,
-      jointVelocity: new Float64Array(0), jointCount: 0, jointFinite: true, poseFinite: true,
+      jointVelocity: new Float64Array(0), jointCount: 0, jointFinite: true, poseFinite: true, zoneFinite: true,
       lastSeen: new Float64Array(INPUTS.length).fill(0), required: Uint8Array.of(1, 0, 1, 1),
     };
     for (let k = 0; k <= 1000; k++) {

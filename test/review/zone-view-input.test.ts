@@ -32,3 +32,23 @@ describe('review: zone view inputs', () => {
     expect(s.watchdog.trips.some((r) => r.input === 'zone_view' && (r.check === CHECK.non_finite || r.check === CHECK.stale_input))).toBe(true);
   });
 });
+
+describe('review: zone view with a non-finite time', () => {
+  it('latches a non_finite hold like every other input (SAFETY.md)', async () => {
+    const { ArmStep } = await import('../../src/core/arm-step.js');
+    const { CHECK } = await import('../../src/core/watchdog.js');
+    const { loadCell } = await import('../../src/params/config.js');
+    const s = new ArmStep(loadCell('config/demo_cell.yaml').left.config);
+    const w = Float64Array.of(0.1, -0.2, -11.8, 0, 0, 0);
+    for (let k = 0; k < 800; k++) {
+      const t = k / 1000;
+      s.setToolPose(t, 0, 0.55, 0.9, 0, 0, 0, 1);
+      if (k % 100 === 0) s.setZoneView(t, [0, 2]);
+      s.step(t, w);
+    }
+    s.setZoneView(Number.NaN, [0, 2]);
+    const o = s.step(0.8, w);
+    expect(o.held).toBe(true);
+    expect(s.watchdog.trips.some((r) => r.check === CHECK.non_finite && r.input === 'zone_view')).toBe(true);
+  });
+});
