@@ -10,9 +10,6 @@
  */
 import { rmSync } from 'node:fs';
 import { join } from 'node:path';
-import { MessageWriter } from '@foxglove/rosmsg2-serialization';
-import { builtinDefinition, parseDefinition } from '../bag/definitions.js';
-import { encodeJointState, encodePoseStamped, encodeWrenchStamped } from '../bag/fast.js';
 import { openBag } from '../bag/index.js';
 import { BagWriter } from '../bag/writer.js';
 import type { ArmConfig } from '../params/config.js';
@@ -20,42 +17,27 @@ import type { ArmName } from '../params/spec.js';
 import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
 import { replayReportInput, summarize } from '../replay/summary.js';
 import type { ReportEvent, ReportInput } from '../report/types.js';
-import { CELL_FRAME, INPUT_KINDS, INPUT_TYPES, inputTopic, sensorFrame } from '../ros/topics.js';
 import type { EpisodeResult } from './episode.js';
+import { InputBagWriter } from './input-bag.js';
 import type { EpisodeRecord } from './record.js';
 
-const SENSOR_QOS = [{ history: 1, depth: 5, reliability: 2, durability: 2, deadline: { sec: 0, nsec: 0 }, lifespan: { sec: 0, nsec: 0 }, liveliness: 1, liveliness_lease_duration: { sec: 0, nsec: 0 }, avoid_ros_namespace_conventions: false }];
 const SIDES: readonly ArmName[] = ['left', 'right'];
 
 /** Write what each arm's step was fed, on sim time (log time = sim time, as with use_sim_time). */
 export async function writeEpisodeInputs(dir: string, record: EpisodeRecord): Promise<void> {
-  const w = await BagWriter.create(dir, { compression: 'zstd', overwrite: true });
-  const ids = new Map<string, number>();
-  for (const arm of SIDES) for (const kind of INPUT_KINDS) ids.set(`${arm}/${kind}`, await w.addTopic({ name: inputTopic(arm, kind), type: INPUT_TYPES[kind], offeredQos: SENSOR_QOS }));
-  const zoneWriter = new MessageWriter(parseDefinition('antiphon/msg/ZoneView', builtinDefinition('antiphon/msg/ZoneView')!));
+  const w = await InputBagWriter.create(dir, record.zoneNames);
   const nz = record.zoneNames.length;
   const nj = record.left.jointVelocity.length / Math.max(1, record.samples);
   const names = { left: Array.from({ length: nj }, (_, k) => `left_joint_${k + 1}`), right: Array.from({ length: nj }, (_, k) => `right_joint_${k + 1}`) };
-  const row = new Float64Array(9);
-  const buf = new Uint8Array(256);
   for (let i = 0; i < record.samples; i++) {
-    const t = record.t[i]!;
-    const ns = BigInt(Math.round(t * 1e9));
-    const sec = Number(ns / 1_000_000_000n);
-    const nanosec = Number(ns % 1_000_000_000n);
-    row[0] = sec;
-    row[1] = nanosec;
+    const ns = BigInt(Math.round(record.t[i]! * 1e9));
+    // In the order each arm's step was fed: joints, pose, zone view (when fed), then the wrench.
     for (const arm of SIDES) {
       const a = record[arm];
-      void w.write(ids.get(`${arm}/joint_states`)!, ns, encodeJointState(sec, nanosec, `${arm}_base`, names[arm], a.jointPosition.subarray(i * nj, i * nj + nj), a.jointVelocity.subarray(i * nj, i * nj + nj), []));
-      for (let k = 0; k < 7; k++) row[2 + k] = a.toolPose[7 * i + k]!;
-      void w.write(ids.get(`${arm}/tool_pose`)!, ns, encodePoseStamped(row, 0, CELL_FRAME, buf));
-      if (a.zoneFed[i] === 1) {
-        const msg = zoneWriter.writeMessage({ header: { stamp: { sec, nanosec }, frame_id: `${arm}_area_sensor` }, zones: record.zoneNames, state: a.zoneView.subarray(i * nz, i * nz + nz) });
-        void w.write(ids.get(`${arm}/zone_view`)!, ns, msg);
-      }
-      for (let k = 0; k < 6; k++) row[2 + k] = a.wrench[6 * i + k]!;
-      void w.write(ids.get(`${arm}/wrench`)!, ns, encodeWrenchStamped(row, 0, sensorFrame(arm), buf));
+      w.jointState(arm, ns, names[arm], a.jointPosition.subarray(i * nj, i * nj + nj), a.jointVelocity.subarray(i * nj, i * nj + nj));
+      w.toolPose(arm, ns, a.toolPose.subarray(7 * i, 7 * i + 7));
+      if (a.zoneFed[i] === 1) w.zoneView(arm, ns, a.zoneView.subarray(i * nz, i * nz + nz));
+      w.wrench(arm, ns, a.wrench.subarray(6 * i, 6 * i + 6));
     }
   }
   await w.close();
