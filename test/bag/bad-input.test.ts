@@ -13,7 +13,7 @@ import { describe, expect, it } from 'vitest';
 import { bagDecoders, createBagWriter, encodeWrenchStamped, openBag, parseMetadataYaml, type Bag } from '../../src/bag/index.js';
 import { zstdCompressor } from '../../src/bag/zstd.js';
 import { InputError, type Problem } from '../../src/util/errors.js';
-import { copyFixture, FIXTURES, fixture, T0, tempDir, writeCellBag } from './helpers.js';
+import { copyFixture, FIXTURES, fixture, T0, tempDir, writeCellBag, mcapSummary } from './helpers.js';
 
 type Row = { topic: string; t: bigint; data: string };
 const rows = (bag: Bag): Row[] => [...bag.messages()].map((m) => ({ topic: m.topic, t: m.logTimeNs, data: Buffer.from(m.data).toString('hex') }));
@@ -45,14 +45,6 @@ async function streamReference(bytes: Uint8Array): Promise<Row[]> {
   return out;
 }
 
-async function summary(file: string) {
-  const fh = await open(file);
-  try {
-    return await McapIndexedReader.Initialize({ readable: new FileHandleReadable(fh) });
-  } finally {
-    await fh.close();
-  }
-}
 
 /** A generated bag with many small chunks. */
 async function multiChunk(compression: 'zstd' | 'none'): Promise<{ dir: string; file: string }> {
@@ -66,7 +58,7 @@ describe('truncated MCAP files', () => {
     for (const compression of ['none', 'zstd'] as const) {
       const { file } = await multiChunk(compression);
       const full = readFileSync(file);
-      const chunks = (await summary(file)).chunkIndexes;
+      const chunks = (await mcapSummary(file)).chunkIndexes;
       expect(chunks.length).toBeGreaterThan(4);
       const third = chunks[3]!;
       for (const cut of [Number(third.chunkStartOffset) + 5, Number(third.chunkStartOffset) + Number(third.chunkLength) - 1, Math.floor(full.length * 0.6)]) {
@@ -123,7 +115,7 @@ describe('truncated MCAP files', () => {
 describe('corrupt chunks', () => {
   it('a CRC mismatch skips that chunk with a warning (file, byte offset, topics); the rest is read', async () => {
     const { file } = await multiChunk('none');
-    const ref = await summary(file);
+    const ref = await mcapSummary(file);
     const victim = ref.chunkIndexes[2]!;
     const bytes = readFileSync(file);
     // Flip a byte in the last message of the chunk (its records end 1 byte before the record end).
@@ -196,7 +188,7 @@ describe('MCAP without a summary', () => {
         repeatChannels: false,
       });
       await writer.start({ profile: 'ros2', library: 'test' });
-      const ref = await summary(file);
+      const ref = await mcapSummary(file);
       for (const s of ref.schemasById.values()) await writer.registerSchema({ name: s.name, encoding: s.encoding, data: s.data });
       for (const c of ref.channelsById.values()) await writer.registerChannel({ topic: c.topic, schemaId: c.schemaId, messageEncoding: c.messageEncoding, metadata: c.metadata });
       for await (const m of (await McapIndexedReader.Initialize({ readable: new FileHandleReadable(await open(file)), decompressHandlers: handlers })).readMessages()) {

@@ -1,5 +1,8 @@
 /** Shared by the bag tests: where the rosbag2 fixtures are, temp dirs, generated bags. */
+import { McapIndexedReader } from '@mcap/core';
+import { FileHandleReadable } from '@mcap/nodejs';
 import { cpSync, existsSync, mkdtempSync, rmSync } from 'node:fs';
+import { open } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -89,4 +92,14 @@ export async function writeCellBag(dir: string, seconds: number, opts: BagWriter
     }
   }
   return w.close();
+}
+
+/** The summary of an MCAP file as the MCAP library's indexed reader sees it (the reference reader). */
+export async function mcapSummary(file: string) {
+  const fh = await open(file);
+  try {
+    return await McapIndexedReader.Initialize({ readable: new FileHandleReadable(fh) });
+  } finally {
+    await fh.close();
+  }
 }

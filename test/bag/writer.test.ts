@@ -3,11 +3,9 @@
  * (checked with @mcap/core's reference reader), metadata.yaml, temporary names.
  */
 import { McapIndexedReader } from '@mcap/core';
-import { FileHandleReadable } from '@mcap/nodejs';
 import { parse as parseMsg } from '@foxglove/rosmsg';
 import { MessageReader, MessageWriter } from '@foxglove/rosmsg2-serialization';
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
-import { open } from 'node:fs/promises';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parse as parseYaml } from 'yaml';
@@ -24,21 +22,13 @@ import {
   type Bag,
 } from '../../src/bag/index.js';
 import { InputError } from '../../src/util/errors.js';
-import { FIXTURES, fixture, T0, tempDir, writeCellBag } from './helpers.js';
+import { FIXTURES, fixture, T0, tempDir, writeCellBag, mcapSummary } from './helpers.js';
 
 const snapshot = (bag: Bag) => ({
   topics: bag.topics().map((t) => ({ name: t.name, type: t.type, count: t.count, qos: t.offeredQosText, fmt: t.serializationFormat })),
   messages: [...bag.messages()].map((m) => ({ topic: m.topic, type: m.type, t: m.logTimeNs, data: Buffer.from(m.data).toString('hex') })),
 });
 
-async function mcapSummary(file: string) {
-  const fh = await open(file);
-  try {
-    return await McapIndexedReader.Initialize({ readable: new FileHandleReadable(fh) });
-  } finally {
-    await fh.close();
-  }
-}
 
 describe.skipIf(!FIXTURES)('round trip of the ROS 2 fixtures', () => {
   for (const name of ['mcap-talker', 'sqlite3-talker', 'mcap-cdr_test', 'sqlite3-cdr_test']) {
