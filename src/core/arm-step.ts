@@ -57,6 +57,15 @@ export interface ArmOutputs {
   /** Object centre estimated from this arm's tool pose (cell frame). */
   objectX: number;
   objectY: number;
+  /**
+   * Common knowledge committed at the last role switches, as zone-index bit masks (bit z:
+   * zone z committed occupied). `committedHidden`: the partner's zones this arm committed when
+   * it turned speaker; `committedOwn`: this arm's zones it holds the partner committed (from
+   * the replica) when it turned listener. Across the two arms, left.committedHidden should equal
+   * right.committedOwn and vice versa; a difference is a disagreeing commitment.
+   */
+  committedHidden: number;
+  committedOwn: number;
 }
 
 export interface ArmStepSnapshot {
@@ -197,6 +206,8 @@ export class ArmStep {
       tared: false,
       objectX: 0,
       objectY: 0,
+      committedHidden: 0,
+      committedOwn: 0,
     };
     this.belief.marginals(this.task.hidden.length, this.out.hiddenOccupied);
   }
@@ -348,6 +359,8 @@ export class ArmStep {
     out.tared = f.tared;
     out.objectX = px;
     out.objectY = py;
+    out.committedHidden = this.committedHidden;
+    out.committedOwn = this.committedOwn;
     return out;
   }
 
