@@ -65,7 +65,7 @@ export function calibrationText(c: CalibrationSummary): string {
 }
 
 export function commitmentText(c: CommitmentSummary): string {
-  return `${c.disagreeing} of ${c.switches} switches disagree (${pct(c.rate, 1)}), ${c.onsets} onsets; repair max ${num(c.repair_s.max)} s, p95 ${num(c.repair_s.p95)} s, max ${c.repair_slots_max ?? '-'} slots; unrepaired ${c.unrepaired}`;
+  return `${c.disagreeing} of ${c.switches} switches disagree (${pct(c.rate, 1)}; just committed ${c.fresh_disagreeing}, ${pct(c.fresh_rate, 1)}), ${c.onsets} onsets; repair max ${num(c.repair_s.max)} s, p95 ${num(c.repair_s.p95)} s, max ${c.repair_slots_max ?? '-'} slots; unrepaired ${c.unrepaired}`;
 }
 
 export function partnerHoldText(p: PartnerHoldSummary): string {

@@ -31,6 +31,14 @@ export interface CommitmentSummary {
   readonly disagreeing: number;
   /** disagreeing / switches; null with no switch. */
   readonly rate: number | null;
+  /**
+   * Evaluated switches where the pair committed at that switch disagrees (the new speaker's
+   * committedHidden against the new listener's committedOwn; both pairs when the roles are
+   * equal): a disagreement that persists counts at every other switch here, at every switch in
+   * `disagreeing`.
+   */
+  readonly fresh_disagreeing: number;
+  readonly fresh_rate: number | null;
   /** Disagreements that began (a switch that disagrees after one that agreed). */
   readonly onsets: number;
   /** Time from the switch where a disagreement began to the switch that repaired it, s. */
@@ -44,6 +52,7 @@ export interface CommitmentSummary {
 export interface CommitmentSums {
   readonly switches: number;
   readonly disagreeing: number;
+  readonly fresh_disagreeing: number;
   readonly onsets: number;
   readonly repairs_s: readonly number[];
   readonly repair_slots: readonly number[];
@@ -100,12 +109,13 @@ export function percentile(xs: readonly number[], q: number): number | null {
 }
 
 export function commitmentSummary(all: readonly CommitmentSums[]): CommitmentSummary {
-  let switches = 0, disagreeing = 0, onsets = 0, unrepaired = 0;
+  let switches = 0, disagreeing = 0, fresh = 0, onsets = 0, unrepaired = 0;
   const rep: number[] = [];
   const slots: number[] = [];
   for (const c of all) {
     switches += c.switches;
     disagreeing += c.disagreeing;
+    fresh += c.fresh_disagreeing;
     onsets += c.onsets;
     unrepaired += c.unrepaired;
     rep.push(...c.repairs_s);
@@ -115,6 +125,8 @@ export function commitmentSummary(all: readonly CommitmentSums[]): CommitmentSum
     switches,
     disagreeing,
     rate: switches > 0 ? disagreeing / switches : null,
+    fresh_disagreeing: fresh,
+    fresh_rate: switches > 0 ? fresh / switches : null,
     onsets,
     repair_s: { max: rep.length ? Math.max(...rep) : null, p95: percentile(rep, 0.95) },
     repair_slots_max: slots.length ? Math.max(...slots) : null,
@@ -133,6 +145,7 @@ export class EpisodeMeasures {
   private readonly nSwitch = { left: 0, right: 0 };
   private evaluated = 0;
   private disagreeing = 0;
+  private freshDisagreeing = 0;
   private onsets = 0;
   private openAt = Number.NaN;
   private openK = 0;
@@ -231,7 +244,13 @@ export class EpisodeMeasures {
     const k = Math.min(this.nSwitch.left, this.nSwitch.right);
     if (k <= this.evaluated) return;
     this.evaluated = k;
-    const agree = l.committedHidden === r.committedOwn && r.committedHidden === l.committedOwn;
+    const leftPair = l.committedHidden === r.committedOwn;
+    const rightPair = r.committedHidden === l.committedOwn;
+    const agree = leftPair && rightPair;
+    const lSpeaks = l.role === SPEAKER;
+    const rSpeaks = r.role === SPEAKER;
+    const freshAgree = lSpeaks && !rSpeaks ? leftPair : rSpeaks && !lSpeaks ? rightPair : agree;
+    if (!freshAgree) this.freshDisagreeing++;
     if (!agree) {
       this.disagreeing++;
       if (Number.isNaN(this.openAt)) {
@@ -250,6 +269,7 @@ export class EpisodeMeasures {
     const commitment_sums: CommitmentSums = {
       switches: this.evaluated,
       disagreeing: this.disagreeing,
+      fresh_disagreeing: this.freshDisagreeing,
       onsets: this.onsets,
       repairs_s: [...this.repairs],
       repair_slots: [...this.repairSlots],
