@@ -9,7 +9,9 @@
  * fact): x[k+1] = a x[k] + sigma sqrt(1 - a^2) w[k], a = exp(-dt / tau), w ~ N(0, 1).
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { loadCell } from '../../src/params/config.js';
 import { runEpisode } from '../../src/sim/episode.js';
@@ -150,5 +152,26 @@ describe('validation of the measurement options', () => {
     expect(s['same_role']).toHaveProperty('total_s');
     expect(s['partner_hold'].runs).toBe(1);
     expect(s['partner_hold']).toHaveProperty('never_rate');
+  });
+});
+
+describe.skipIf(!built)('simulate with --inject-hold and --disturbance-n', () => {
+  it('writes a bag that replays to the closed loop exactly (the NaN sample included), the measures in summary.json and the reliability diagram in the report', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'antiphon-measure-'));
+    try {
+      const out = join(dir, 'ep');
+      const r = cli('simulate', '--params', 'config/demo_cell.yaml', '--seed', '5', '--duration', '2.5', '--inject-hold', 'right:1.5', '--disturbance-n', '1.5', '--out', out, '--json');
+      expect(r.status, r.stderr).toBe(0);
+      const s = JSON.parse(readFileSync(join(out, 'summary.json'), 'utf8')) as Record<string, any>;
+      expect(s['bag_replay_matches_closed_loop']).toBe(true);
+      expect(s['disturbance_n']).toBe(1.5);
+      expect(s['partner_hold'].injected_at_s).toBe(1.5);
+      expect(s['belief'].calibration.bins).toHaveLength(10);
+      const html = readFileSync(join(out, 'report.html'), 'utf8');
+      expect(html).toContain('<section id="calibration">');
+      expect(html).toContain('<th scope="row">partner hold</th>');
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 });
