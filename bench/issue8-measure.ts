@@ -107,7 +107,7 @@ export async function benchIssue8(jobs = Number(process.env['ANTIPHON_BENCH_JOBS
   const ada = runsA.slice(worlds.length);
   const sameRole = (rs: readonly RunOutcome[]) => {
     const each = rs.map((r) => r.same_role_s);
-    const time = rs.reduce((a, r) => a + r.duration_s, 0);
+    const time = rs.reduce((a, r) => a + r.sampled_s, 0);
     const total = each.reduce((a, b) => a + b, 0);
     return { runs: rs.length, total_s: total, max_per_run_s: Math.max(...each), p95_per_run_s: percentile(each, 0.95), runs_with_any: each.filter((x) => x > 0).length, fraction_of_time: time > 0 ? total / time : 0, successes: rs.filter((r) => r.success).length };
   };

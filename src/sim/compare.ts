@@ -48,6 +48,8 @@ export interface RunOutcome {
   readonly calibration: CalibrationSums;
   readonly commitments: CommitmentSums;
   readonly same_role_s: number;
+  /** Sampled time of the run (samples x sample period), s. */
+  readonly sampled_s: number;
   readonly partner_hold: PartnerHoldSummary | null;
 }
 
@@ -123,6 +125,7 @@ export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: Epi
     calibration: m.calibration_sums,
     commitments: m.commitment_sums,
     same_role_s: m.same_role.total_s,
+    sampled_s: m.same_role.sampled_s,
     partner_hold: m.partner_hold,
   };
 }
@@ -262,7 +265,7 @@ function sameRoleAggregate(runs: readonly RunOutcome[]): { total_s: number; mean
   let time = 0;
   for (const r of runs) {
     total += r.same_role_s;
-    time += r.duration_s;
+    time += r.sampled_s;
   }
   return { total_s: total, mean_s: runs.length ? total / runs.length : 0, fraction: time > 0 ? total / time : 0 };
 }

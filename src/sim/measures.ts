@@ -66,6 +66,8 @@ export interface SameRoleSummary {
   readonly both_listener_s: number;
   /** total_s over the episode's sampled time. */
   readonly fraction: number;
+  /** The episode's sampled time: samples x sample period, s. */
+  readonly sampled_s: number;
 }
 
 export interface PartnerHoldSummary {
@@ -282,6 +284,7 @@ export class EpisodeMeasures {
       both_speaker_s: this.bothSpeaker * dt,
       both_listener_s: this.bothListener * dt,
       fraction: this.samples > 0 ? this.same / this.samples : 0,
+      sampled_s: this.samples * dt,
     };
     let partner_hold: PartnerHoldSummary | null = null;
     if (this.inject) {

@@ -94,7 +94,7 @@ describe('MuJoCo cell: injected hold and the new summary fields', () => {
     expect(Object.keys(s.belief.calibration)).toEqual(['updates', 'ece', 'p_truth_below_0_05_rate', 'bins']);
     expect(s.belief.calibration.bins).toHaveLength(10);
     expect(Object.keys(s.commitments)).toEqual(['switches', 'disagreeing', 'rate', 'fresh_disagreeing', 'fresh_rate', 'onsets', 'repair_s', 'repair_slots_max', 'unrepaired']);
-    expect(Object.keys(s.same_role)).toEqual(['total_s', 'both_speaker_s', 'both_listener_s', 'fraction']);
+    expect(Object.keys(s.same_role)).toEqual(['total_s', 'both_speaker_s', 'both_listener_s', 'fraction', 'sampled_s']);
     const plain = await episode({}, 0.5);
     expect(plain.summary.partner_hold).toBeNull();
   }, 60_000);

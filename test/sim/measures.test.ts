@@ -69,6 +69,7 @@ describe('episode measures on constructed streams', () => {
     expect(s.same_role.total_s).toBeCloseTo(0.001, 12);
     expect(s.same_role.both_listener_s).toBeCloseTo(0.001, 12);
     expect(s.same_role.fraction).toBeCloseTo(1 / 7, 12);
+    expect(s.same_role.sampled_s).toBeCloseTo(0.007, 12);
   });
 
   it('pools commitment sums, with the nearest-rank 95th percentile (common practice)', () => {
