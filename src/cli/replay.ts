@@ -105,7 +105,8 @@ export function register(program: Command): void {
             }
             const inf = summary!['internal_force'] as { peak_n: number } | undefined;
             if (inf) lines.push(`  peak internal force ${inf.peak_n} N`);
-            for (const w of record!.warnings) lines.push(`  warning: ${w.message}`);
+            // The warnings themselves went to stderr once, as they were found.
+            if (record!.warnings.length > 0) lines.push(`  ${record!.warnings.length} warning${record!.warnings.length === 1 ? '' : 's'} (on stderr; in summary.json with --out)`);
             if (verdicts) lines.push('', verdictTable(verdicts));
             if (opts.out) lines.push('', `wrote ${join(opts.out, 'bag')}, ${join(opts.out, 'summary.json')}, ${join(opts.out, 'report.html')}`);
             printText(lines.join('\n'));

@@ -15,7 +15,7 @@ import type { ArmName } from '../params/spec.js';
 import { OutputEncoder } from '../ros/encode.js';
 import { INPUT_KINDS, INPUT_TYPES, inputTopic, OUTPUT_KINDS, OUTPUT_TYPES, outputTopic, type InputKind } from '../ros/topics.js';
 import { InputError, type Problem } from '../util/errors.js';
-import { logger } from '../util/log.js';
+import { warnOnce } from '../util/log.js';
 import { Column } from './series.js';
 
 export interface ReplayEvent {
@@ -173,7 +173,6 @@ function resolveTopics(bag: Bag, arm: ArmName, remap: ReadonlyMap<string, string
 }
 
 export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRecord> {
-  const log = logger('replay');
   const warnings: Problem[] = [];
   const remap = opts.remap ?? new Map<string, string>();
   const topics = bag.topics();
@@ -364,7 +363,8 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
   opts.progress?.(1);
   if (outOfOrder > 0) warnings.push({ code: 'replay.out_of_order', message: `${outOfOrder} messages arrived out of log-time order; replayed as read`, where: { file: bag.path } });
   for (const w of bag.warnings) warnings.push(w);
-  for (const w of warnings) log.warn({ code: w.code, where: w.where }, w.message);
+  // The bag's own warnings were logged when it was opened: each reaches the user once.
+  for (const w of warnings) warnOnce('replay', w);
 
   const arms = runs.map((run): ArmReplayRecord => ({
     arm: run.arm,
