@@ -491,6 +491,8 @@ function parseIdlEntry(e: Entry): Parsed {
       let fields = d.definitions.map((f) => (f.isComplex === true ? { ...f, type: canonicalType(f.type) } : { ...f }));
       // The IDL parser renames Time/Duration `nanosec` to `nsec`; ROS 2 calls it nanosec.
       if (name === 'builtin_interfaces/msg/Time' || name === 'builtin_interfaces/msg/Duration') fields = fields.map((f) => (f.name === 'nsec' ? { ...f, name: 'nanosec' } : f));
+      // rosidl gives an empty .msg this one placeholder member in IDL: it is the same empty struct.
+      if (fields.length === 1 && fields[0]!.name === 'structure_needs_at_least_one_member') fields = [];
       out.push({ name, definitions: fields });
     }
     const root = out.find((d) => d.name === e.type) ?? out.find((d) => !(d.definitions.length > 0 && d.definitions.every((f) => f.isConstant === true)));
