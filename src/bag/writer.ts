@@ -367,7 +367,7 @@ export function storageOption(raw: string | undefined, option = '--storage'): St
 }
 
 /**
- * Copy (some of) a bag into a new MCAP bag: every topic with its type, QoS, hash and the
+ * Copy (some of) a bag into a new bag (MCAP, or sqlite3 with `storage`): every topic with its type, QoS, hash and the
  * definition the source carries (or a shipped one); messages in log-time order, bytes unchanged.
  */
 export async function copyBag(bag: Bag, dir: string, opts: BagWriterOptions & ReadOptions = {}): Promise<WrittenBag> {
@@ -378,7 +378,8 @@ export async function copyBag(bag: Bag, dir: string, opts: BagWriterOptions & Re
     for (const t of bag.topics()) {
       if (wanted && !wanted.has(t.name)) continue;
       const d = bag.definition(t.type);
-      const usable = d && d.text.trim() !== '';
+      // An empty text recorded as ros2msg is a type with no fields, not a missing definition.
+      const usable = d && (d.text.trim() !== '' || d.encoding === 'ros2msg');
       ids.set(
         t.name,
         await w.addTopic({
