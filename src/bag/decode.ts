@@ -168,9 +168,10 @@ export class MessageDecoders {
       }
       return value;
     }
-    if (!anyReader) {
-      const r = s.candidates[s.preferred]!.resolution as Extract<Resolution, { ok: false }>;
-      throw new InputError({ ...r.problem, message: `${reasons.join('; ')}`, where: { ...place, ...r.problem.where } });
+    const unresolved = s.candidates.map((c) => c.resolution).find((r): r is Extract<Resolution, { ok: false }> => !r.ok);
+    if (!anyReader && unresolved) {
+      // No definition resolves: the first one's own problem (its file and line) is the reason.
+      throw new InputError({ ...unresolved.problem, message: reasons.join('; '), where: { ...place, ...unresolved.problem.where } });
     }
     throw new InputError({
       code: 'bag.decode_failed',

@@ -3,7 +3,7 @@
  * topics, definitions and messages as the MCAP one of the same seed (our own simulated scenario).
  */
 import { spawnSync } from 'node:child_process';
-import { readdirSync } from 'node:fs';
+import { existsSync, readdirSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { openBag, type Bag } from '../../src/bag/index.js';
@@ -12,10 +12,11 @@ import { tempDir } from './helpers.js';
 const root = resolve(__dirname, '../..');
 const cli = join(root, 'dist/src/cli/main.js');
 const sim = (out: string, storage: string) =>
-  spawnSync(process.execPath, [cli, 'simulate', '--params', 'config/demo_cell.yaml', '--seed', '7', '--duration', '2', '--out', out, '--storage', storage, '--json'], { cwd: root, encoding: 'utf8', env: { ...process.env, CI: '1' } });
+  spawnSync(process.execPath, [cli, 'simulate', '--params', 'config/demo_cell.yaml', '--seed', '7', '--duration', '1', '--out', out, '--storage', storage, '--json'], { cwd: root, encoding: 'utf8', env: { ...process.env, CI: '1' } });
 
 beforeAll(() => {
-  spawnSync('npx', ['tsc', '-p', 'tsconfig.build.json'], { cwd: root, stdio: 'ignore' });
+  // `npm test` builds first; build here only when run alone on a fresh clone.
+  if (!existsSync(cli)) spawnSync('npx', ['tsc', '-p', 'tsconfig.build.json'], { cwd: root, stdio: 'ignore' });
 }, 120_000);
 
 const contents = (bag: Bag) => ({

@@ -6,7 +6,7 @@
  * demo bags of our own scenario (invented data), cut to damage them.
  */
 import { spawnSync } from 'node:child_process';
-import { copyFileSync, readFileSync, statSync, truncateSync } from 'node:fs';
+import { copyFileSync, existsSync, readFileSync, statSync, truncateSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { createBagWriter, openBag } from '../../src/bag/index.js';
@@ -31,7 +31,8 @@ const antiphon = (args: string[], extra: Record<string, string> = {}) => spawnSy
 const count = (hay: string, needle: string): number => hay.split(needle).length - 1;
 
 beforeAll(async () => {
-  spawnSync('npx', ['tsc', '-p', 'tsconfig.build.json'], { cwd: root, stdio: 'ignore' });
+  // `npm test` builds first; build here only when run alone on a fresh clone.
+  if (!existsSync(cli)) spawnSync('npx', ['tsc', '-p', 'tsconfig.build.json'], { cwd: root, stdio: 'ignore' });
   demo = join(tempDir(), 'demo');
   await writeDemoBag(demo, { ...configs, occupied: [true, false], seed: 3, duration_s: 4 });
   cut = join(tempDir(), 'cut.mcap');
