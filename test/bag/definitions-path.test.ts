@@ -316,4 +316,16 @@ describe('bad definitions: reported with file and line, the topic undecoded, eve
       bag.close();
     }
   });
+
+  it('--definitions that names nothing is bad input (exit 2) naming the option', async () => {
+    const dir = join(tempDir(), 'one');
+    const w = await createBagWriter(dir);
+    await w.write(await w.addTopic({ name: '/w', type: 'geometry_msgs/msg/WrenchStamped' }), 1n, encodeWrenchStamped([0, 1, 1, 2, 3, 4, 5, 6], 0, 'ft'));
+    await w.close();
+    const r = await run('dump', dir, '--definitions', join(dir, 'nowhere'));
+    // Source: src/util/errors.ts (exit 2 for bad input, with the option).
+    expect(r.code).toBe(2);
+    expect(r.err).toContain('option --definitions');
+    expect(r.out).toBe('');
+  });
 });
