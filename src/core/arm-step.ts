@@ -638,11 +638,28 @@ export class ArmStep {
       this.scoreSpeaker(this.hiddenTable, known | bit, fx, fy, vx, vy, this.loglik);
       this.scoreSpeaker(this.hiddenTable2, known & ~bit, fx, fy, vx, vy, this.loglik2);
       const lw = Math.log(w), lw0 = Math.log(1 - w);
+      // The commitment is a hidden variable too: what the speaker does tells whether it
+      // committed the zone. Its posterior, P(c | window) ∝ w Σ_h p(h) L1(h) against
+      // (1 − w) Σ_h p(h) L0(h), becomes the weight of the next window (and, rounded, this arm's
+      // view of the partner's commitment), so a disagreement repairs itself while listening.
+      let top = Number.NEGATIVE_INFINITY;
+      for (let h = 0; h < this.hypotheses; h++) top = Math.max(top, this.loglik[h]!, this.loglik2[h]!);
+      const p = this.belief.p;
+      let e1 = 0, e0 = 0;
       for (let h = 0; h < this.hypotheses; h++) {
-        const a = lw + this.loglik[h]!;
-        const b = lw0 + this.loglik2[h]!;
+        const l1 = this.loglik[h]!, l0 = this.loglik2[h]!;
+        e1 += p[h]! * Math.exp(l1 - top);
+        e0 += p[h]! * Math.exp(l0 - top);
+        const a = lw + l1;
+        const b = lw0 + l0;
         const m = a > b ? a : b;
         this.loglik[h] = m + Math.log(Math.exp(a - m) + Math.exp(b - m));
+      }
+      const post = (w * e1) / (w * e1 + (1 - w) * e0);
+      if (Number.isFinite(post)) {
+        const wp = Math.min(Math.max(post, 1e-9), 1 - 1e-9);
+        this.commitWeight[doubt] = wp;
+        this.committedOwn = wp >= 0.5 ? this.committedOwn | bit : this.committedOwn & ~bit;
       }
     }
     this.belief.update(this.loglik, this.config.belief.forgetting);
