@@ -8,7 +8,7 @@ import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/epis
 import { ARM_MODELS, type ArmModel } from '../sim/options.js';
 import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
-import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
+import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
 /**
@@ -16,9 +16,9 @@ import { integerOption, numberOption, printJson, printText, runCommand } from '.
  * `bag/` (both arms' inputs and every output, under the live topic names), `summary.json`
  * and `report.html`.
  */
-export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean): Promise<{ files: string[]; replayMatches: boolean }> {
+export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean, inputs: readonly (string | undefined)[] = []): Promise<{ files: string[]; replayMatches: boolean }> {
   let replayMatches = false;
-  await withOutputDir(dir, overwrite, async (tmp) => {
+  await withOutputDir(dir, { overwrite, inputs }, async (tmp) => {
     const art = await writeEpisodeBag(tmp, result, result.configs);
     replayMatches = art.matchingSamples === art.samples;
     const summary = { ...result.summary, bag_replay_matches_closed_loop: replayMatches };
@@ -82,9 +82,11 @@ export function register(program: Command): void {
           }
           strategy = { name: strategy.name, k: period };
         }
-        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        // --out is checked before the episode runs (it may take minutes).
         const dir = opts.out ?? join('out', `sim-${seed}`);
-        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite);
+        checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
+        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, [opts.params]);
         if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });
         else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
         return 0;
