@@ -91,6 +91,8 @@ const FS_ERRORS: Record<string, string> = {
   EINVAL: 'invalid argument',
 };
 
+const PATH_ERRORS = new Set(['ENOENT', 'ENOTDIR', 'EISDIR', 'ENAMETOOLONG', 'EINVAL']);
+
 /** A system error from the file system (has a code and a syscall), not a bug. */
 function systemError(err: unknown): NodeJS.ErrnoException | undefined {
   const e = err as NodeJS.ErrnoException | null;
@@ -116,7 +118,8 @@ async function settleStdout(): Promise<void> {
  * Run a command body, mapping its outcome to an exit code. The body returns the exit code
  * (0 ok, 1 checks failed). An InputError prints its problems (as JSON with `--json`) and exits 2.
  * A file-system error while writing (ENOSPC, EACCES, ...) prints the file and the reason and exits
- * 74 (EX_IOERR). Any other error is a bug: it prints the stack and exits 70 (EX_SOFTWARE).
+ * 74 (EX_IOERR); one naming a path that does not exist or is of the wrong kind (ENOENT, ENOTDIR)
+ * exits 2. Any other error is a bug: it prints the stack and exits 70 (EX_SOFTWARE).
  */
 export async function runCommand(json: boolean, body: () => Promise<number> | number): Promise<void> {
   listen();
@@ -132,7 +135,8 @@ export async function runCommand(json: boolean, body: () => Promise<number> | nu
       const dest = (e as { dest?: string }).dest;
       const what = e.path ? `${e.path}${dest ? ` -> ${dest}` : ''}` : 'an output';
       process.stderr.write(`antiphon: cannot ${e.syscall} ${what}: ${FS_ERRORS[e.code!]} (${e.code})\n`);
-      process.exitCode = EXIT_IO_ERROR;
+      // A path that does not exist or is of the wrong kind is bad input; the rest is an I/O failure.
+      process.exitCode = PATH_ERRORS.has(e.code!) ? EXIT_BAD_INPUT : EXIT_IO_ERROR;
     } else {
       process.stderr.write(`antiphon: internal error: ${(err as Error).stack ?? String(err)}\n`);
       process.exitCode = 70;

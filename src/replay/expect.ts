@@ -211,7 +211,7 @@ export function parseExpectations(text: string, file: string, context?: Expectat
             code: 'expect.unknown_zone',
             message: `expect[${k}].belief_above: '${a.zone}' is not a zone the ${a.arm} arm infers`,
             where: at('zone'),
-            hint: zones.length ? `the ${a.arm} arm infers ${zones.join(', ')}${zones.length ? `; did you mean ${closest(a.zone, [...zones])}?` : ''}` : `the ${a.arm} arm infers no zone (every zone is one it sees itself)`,
+            hint: zones.length ? `the ${a.arm} arm infers ${zones.join(', ')}; did you mean ${closest(a.zone, [...zones])}?` : `the ${a.arm} arm infers no zone (it sees every zone itself)`,
           });
       }
     }

@@ -49,3 +49,13 @@ describe('runCommand exit codes', () => {
     expect(bug.stderr).toMatch(/internal error: TypeError: oops/);
   });
 });
+
+describe('runCommand: a missing path is bad input', () => {
+  it('ENOENT from the file system: the path, exit 2', async () => {
+    const r = await outcome(() => {
+      throw sysError('ENOENT', 'open', '/data/gone/metadata.yaml');
+    });
+    expect(r.code).toBe(2);
+    expect(r.stderr).toBe('antiphon: cannot open /data/gone/metadata.yaml: no such file or folder (ENOENT)\n');
+  });
+});
