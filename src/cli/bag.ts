@@ -10,7 +10,7 @@ import { loadDefinitionSources } from '../bag/definition-sources.js';
 import { howToSupply, SOURCE_WORDS } from '../bag/library.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError, formatPlace, problemToJson } from '../util/errors.js';
 import { warnOnce } from '../util/log.js';
-import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
+import { integerOption, numberOption, printJson, printText, runCommand, stdoutFailed, writeStdout } from './common.js';
 
 /** Warnings meaning some recorded messages could not be read. */
 const DATA_LOSS = new Set(['bag.mcap_chunk_corrupt', 'bag.mcap_truncated', 'bag.mcap_unknown_channel', 'bag.sqlite_unknown_topic']);
@@ -138,31 +138,16 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
     const failures = new Map<string, { type: string; count: number; reason: string }>();
     let failed = 0;
     let broken = false;
-    const onError = (err: NodeJS.ErrnoException): void => {
-      if (err.code === 'EPIPE') broken = true;
-    };
-    process.stdout.on('error', onError);
-    try {
+    {
       let out = '';
       let n = 0;
+      // The one stdout writer (src/cli/common.ts): a closed pipe ends the dump quietly, any other
+      // write error (ENOSPC) is reported by runCommand with a non-zero exit.
       const flush = async (): Promise<void> => {
         if (out === '' || broken) return;
-        const ok = process.stdout.write(out);
+        const ok = await writeStdout(out);
         out = '';
-        if (!ok) {
-          await new Promise<void>((resolve) => {
-            const done = (): void => {
-              process.stdout.off('drain', done);
-              process.stdout.off('error', done);
-              resolve();
-            };
-            process.stdout.on('drain', done);
-            process.stdout.on('error', done);
-          });
-        } else {
-          // Let a closed pipe (EPIPE, e.g. `| head`) be noticed.
-          await new Promise<void>((resolve) => setImmediate(resolve));
-        }
+        if (!ok) broken = true;
       };
       const read = {
         ...(opts.topic ? { topics: opts.topic } : {}),
@@ -200,11 +185,8 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
         if (out.length >= 1 << 16) await flush();
       }
       await flush();
-    } finally {
-      // After a broken pipe, later write errors may still arrive: keep swallowing them.
-      if (!broken) process.stdout.off('error', onError);
     }
-    if (broken) return EXIT_OK;
+    if (broken || stdoutFailed()) return EXIT_OK;
     // One warning per topic, never one per message (the bag's own warnings were given when found).
     for (const n of decoders.notes) warnOnce('bag', n);
     for (const [topic, f] of failures) {

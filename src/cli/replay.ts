@@ -7,13 +7,13 @@ import { loadDefinitionSources } from '../bag/definition-sources.js';
 import { createBagWriter, storageOption } from '../bag/writer.js';
 import { loadCell } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
-import { evaluate, loadExpectations, type Verdict } from '../replay/expect.js';
+import { evaluate, hiddenZonesOf, loadExpectations, type Verdict } from '../replay/expect.js';
 import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
 import { replayReportInput, summarize } from '../replay/summary.js';
 import { renderReport } from '../report/html.js';
 import { parseRemaps } from '../ros/topics.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
-import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
+import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { numberOption, printJson, printText, runCommand } from './common.js';
 
 interface Opts {
@@ -65,8 +65,11 @@ export function register(program: Command): void {
         const startS = numberOption('--start', opts.start, 0, 1e9);
         const endS = numberOption('--end', opts.end, 0, 1e9);
         const cell = loadCell(opts.params);
-        const expectations = opts.expect ? loadExpectations(opts.expect) : undefined;
         const storage = storageOption(opts.storage);
+        // --out is checked before any work; names in the expectations are checked at load.
+        const outOpts = { overwrite: !!opts.overwrite, inputs: [bagPath, opts.params, opts.expect] };
+        if (opts.out !== undefined) checkOutputDir(opts.out, outOpts);
+        const expectations = opts.expect ? loadExpectations(opts.expect, { arms, hiddenZones: hiddenZonesOf(cell) }) : undefined;
         const definitions = await loadDefinitionSources(opts.definitions);
         const bag = await openBag(bagPath);
         try {
@@ -82,8 +85,8 @@ export function register(program: Command): void {
             verdicts = expectations ? evaluate(r, expectations) : undefined;
             summary = summarize(r, opts.params ?? null, verdicts);
           };
-          if (opts.out) {
-            await withOutputDir(opts.out, !!opts.overwrite, async (tmp) => {
+          if (opts.out !== undefined) {
+            await withOutputDir(opts.out, outOpts, async (tmp) => {
               const writer = await createBagWriter(join(tmp, 'bag'), { compression: 'zstd', storage });
               try {
                 record = await replayBag(bag, { ...base, sink: writerSink(writer, bag) });

@@ -12,7 +12,7 @@ import type { CommitmentSummary, PartnerHoldSummary } from '../sim/measures.js';
 import { ARM_MODELS, type ArmModel, type InjectHold, type SimOptionsOverrides } from '../sim/options.js';
 import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
-import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
+import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
 /**
@@ -20,9 +20,9 @@ import { integerOption, numberOption, printJson, printText, runCommand } from '.
  * `bag/` (both arms' inputs and every output, under the live topic names), `summary.json`
  * and `report.html`.
  */
-export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean, storage: StorageId = 'mcap'): Promise<{ files: string[]; replayMatches: boolean }> {
+export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean, storage: StorageId = 'mcap', inputs: readonly (string | undefined)[] = []): Promise<{ files: string[]; replayMatches: boolean }> {
   let replayMatches = false;
-  await withOutputDir(dir, overwrite, async (tmp) => {
+  await withOutputDir(dir, { overwrite, inputs }, async (tmp) => {
     const art = await writeEpisodeBag(tmp, result, result.configs, storage);
     replayMatches = art.matchingSamples === art.samples;
     const summary = { ...result.summary, bag_replay_matches_closed_loop: replayMatches };
@@ -132,9 +132,11 @@ export function register(program: Command): void {
           }
           strategy = { name: strategy.name, k: period };
         }
-        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        // --out is checked before the episode runs (it may take minutes).
         const dir = opts.out ?? join('out', `sim-${seed}`);
-        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage);
+        checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
+        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
         if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });
         else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
         return 0;
