@@ -426,7 +426,7 @@ export class ArmStep {
     const py = this.obj[1]!;
     const role = this.roles.update(t, this.watchdog.held);
     if (role !== this.lastRole) {
-      this.commitAtSwitch(role);
+      this.commitAtSwitch(role, px);
       this.lastRole = role;
     }
 
@@ -695,8 +695,10 @@ export class ArmStep {
    * Commit what was learned into common knowledge when the role changes. Commitments are
    * sticky: a zone is committed once its marginal reaches commit_probability and stays so
    * while it holds release_probability, on both arms by the same rule (belief and replica).
+   * A zone the object has passed is dropped on both arms: no action depends on it any more, so
+   * nothing could repair a disagreement about it (and none can matter).
    */
-  private commitAtSwitch(role: Role): void {
+  private commitAtSwitch(role: Role, px: number): void {
     const bp = this.config.belief;
     if (role === SPEAKER) {
       // Turning speaker: what I inferred of the partner's zones while listening.
@@ -705,7 +707,7 @@ export class ArmStep {
       for (let b = 0; b < this.task.hidden.length; b++) {
         const bit = 1 << this.task.hidden[b]!;
         const th = (this.committedHidden & bit) !== 0 ? bp.release_probability : bp.commit_probability;
-        if (this.marg[b]! >= th) m |= bit;
+        if (this.marg[b]! >= th && !this.task.passed(this.task.hidden[b]!, px)) m |= bit;
       }
       this.committedHidden = m;
     } else {
@@ -720,9 +722,10 @@ export class ArmStep {
         const th = (this.committedOwn & bit) !== 0 ? bp.release_probability : bp.commit_probability;
         const lo = logit(this.marg[b]!);
         const spread = Math.sqrt(Math.max(2 * Math.abs(lo), 0.25));
-        const w = normalCdf((lo - logit(th)) / spread);
+        const passed = this.task.passed(this.task.own[b]!, px);
+        const w = passed ? 0 : normalCdf((lo - logit(th)) / spread);
         this.commitWeight[b] = w;
-        if (this.marg[b]! >= th) m |= bit;
+        if (this.marg[b]! >= th && !passed) m |= bit;
       }
       this.committedOwn = m;
     }
