@@ -14,12 +14,12 @@
  * also under a temporary name. Deterministic: the same topics and messages give the same bytes.
  */
 import Database from 'better-sqlite3';
-import { existsSync, mkdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
-import { basename, join, resolve } from 'node:path';
+import { rmSync } from 'node:fs';
+import { join } from 'node:path';
 import { InputError } from '../util/errors.js';
 import { canonicalType } from './definitions.js';
 import { INT64_MAX } from './metadata.js';
-import { qosText, topicDefinition, writtenMetadataYaml, type BagOutput, type BagWriterOptions, type WriterTopic, type WrittenBag } from './writer.js';
+import { prepareBagDir, publishBag, qosText, topicDefinition, writtenMetadataYaml, type BagOutput, type BagWriterOptions, type WriterTopic, type WrittenBag } from './writer.js';
 
 /** The sqlite3 schema version written (see the file comment). */
 export const SQLITE_SCHEMA_VERSION = 4;
@@ -69,19 +69,7 @@ export class SqliteBagWriter implements BagOutput {
 
   /** Start a bag in directory `dir` (created if missing). */
   static async create(dir: string, opts: BagWriterOptions = {}): Promise<SqliteBagWriter> {
-    const abs = resolve(dir);
-    if (existsSync(join(abs, 'metadata.yaml')) && !opts.overwrite) {
-      throw new InputError({
-        code: 'bag.output_exists',
-        message: 'a bag already exists here (metadata.yaml present)',
-        where: { file: join(abs, 'metadata.yaml') },
-        hint: 'choose a new directory, or pass overwrite',
-      });
-    }
-    mkdirSync(abs, { recursive: true });
-    const stem = opts.fileStem ?? basename(abs);
-    const file = join(abs, `${stem}_0.db3`);
-    const tmp = `${file}.partial`;
+    const { abs, file, tmp } = prepareBagDir(dir, opts, 'db3');
     rmSync(tmp, { force: true });
     const db = new Database(tmp);
     try {
@@ -159,10 +147,7 @@ export class SqliteBagWriter implements BagOutput {
       this.#discard();
       throw err;
     }
-    renameSync(this.#tmp, this.file);
-    const tmpMeta = `${this.metadataPath}.partial`;
-    writeFileSync(tmpMeta, yaml);
-    renameSync(tmpMeta, this.metadataPath);
+    publishBag(this.#tmp, this.file, this.metadataPath, yaml);
     return {
       storage: 'sqlite3',
       dir: this.dir,

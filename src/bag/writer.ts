@@ -105,6 +105,34 @@ export function topicDefinition(t: WriterTopic, type: string, opts: BagWriterOpt
   });
 }
 
+/**
+ * Set up the directory of a new bag: refuse an existing bag unless `overwrite`, create the
+ * directory, and name the storage file (`<stem>_0.<ext>`) and its temporary twin.
+ */
+export function prepareBagDir(dir: string, opts: BagWriterOptions, ext: string): { abs: string; file: string; tmp: string } {
+  const abs = resolve(dir);
+  if (existsSync(join(abs, 'metadata.yaml')) && !opts.overwrite) {
+    throw new InputError({
+      code: 'bag.output_exists',
+      message: 'a bag already exists here (metadata.yaml present)',
+      where: { file: join(abs, 'metadata.yaml') },
+      hint: 'choose a new directory, or pass overwrite',
+    });
+  }
+  mkdirSync(abs, { recursive: true });
+  const stem = opts.fileStem ?? basename(abs);
+  const file = join(abs, `${stem}_0.${ext}`);
+  return { abs, file, tmp: `${file}.partial` };
+}
+
+/** Rename a finished storage file into place, then write metadata.yaml whole (temporary name, rename). */
+export function publishBag(tmp: string, file: string, metadataPath: string, yaml: string): void {
+  renameSync(tmp, file);
+  const tmpMeta = `${metadataPath}.partial`;
+  writeFileSync(tmpMeta, yaml);
+  renameSync(tmpMeta, metadataPath);
+}
+
 /** metadata.yaml (rosbag2 version 5) of a written bag of one storage file. */
 export function writtenMetadataYaml(storage: StorageId, file: string, topics: readonly { name: string; type: string; serializationFormat: string; qosText: string; count: number }[], startNs: bigint | undefined, endNs: bigint | undefined, count: number): string {
   const start = startNs ?? INT64_MAX;
@@ -196,19 +224,7 @@ export class BagWriter implements BagOutput {
 
   /** Start a bag in directory `dir` (created if missing). */
   static async create(dir: string, opts: BagWriterOptions = {}): Promise<BagWriter> {
-    const abs = resolve(dir);
-    if (existsSync(join(abs, 'metadata.yaml')) && !opts.overwrite) {
-      throw new InputError({
-        code: 'bag.output_exists',
-        message: 'a bag already exists here (metadata.yaml present)',
-        where: { file: join(abs, 'metadata.yaml') },
-        hint: 'choose a new directory, or pass overwrite',
-      });
-    }
-    mkdirSync(abs, { recursive: true });
-    const stem = opts.fileStem ?? basename(abs);
-    const file = join(abs, `${stem}_0.mcap`);
-    const tmp = `${file}.partial`;
+    const { abs, file, tmp } = prepareBagDir(dir, opts, 'mcap');
     let compression: 'zstd' | 'none' = opts.compression ?? 'zstd';
     let compressChunk: ((d: Uint8Array) => { compression: string; compressedData: Uint8Array }) | undefined;
     if (compression === 'zstd') {
@@ -316,11 +332,7 @@ export class BagWriter implements BagOutput {
     } finally {
       closeSync(this.#fd);
     }
-    renameSync(this.#tmp, this.file);
-    const yaml = writtenMetadataYaml('mcap', this.file, this.#topics, this.#start, this.#end, this.#count);
-    const tmpMeta = `${this.metadataPath}.partial`;
-    writeFileSync(tmpMeta, yaml);
-    renameSync(tmpMeta, this.metadataPath);
+    publishBag(this.#tmp, this.file, this.metadataPath, writtenMetadataYaml('mcap', this.file, this.#topics, this.#start, this.#end, this.#count));
     return {
       storage: 'mcap',
       dir: this.dir,
