@@ -5,10 +5,14 @@
 import type { Command } from 'commander';
 import { bagDecoders, describeQos, openBag, toJsonValue, type Bag } from '../bag/index.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError, formatProblem, type Problem } from '../util/errors.js';
+import { printable } from '../util/printable.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
 /** Warnings meaning some recorded messages could not be read. */
-const DATA_LOSS = new Set(['bag.mcap_chunk_corrupt', 'bag.mcap_truncated', 'bag.mcap_unknown_channel', 'bag.sqlite_unknown_topic']);
+const DATA_LOSS = new Set([
+  'bag.mcap_chunk_corrupt', 'bag.mcap_truncated', 'bag.mcap_no_footer', 'bag.mcap_unknown_channel', 'bag.sqlite_unknown_topic',
+  'bag.messages_missing', 'bag.invalid_log_time', 'bag.sqlite_bad_timestamp',
+]);
 /** Per topic, this many undecodable messages are reported one by one, then only counted. */
 const REPORT_PER_TOPIC = 20;
 
@@ -19,10 +23,11 @@ function seconds(ns: bigint): string {
 }
 
 function isoTime(ns: bigint): string {
-  const ms = Number(ns / 1_000_000n);
-  const d = new Date(ms);
+  // Floor division, so a time before the epoch keeps a non-negative fraction of a second.
+  const frac = ((ns % 1_000_000_000n) + 1_000_000_000n) % 1_000_000_000n;
+  const d = new Date(Number((ns - frac) / 1_000_000n));
   if (Number.isNaN(d.getTime())) return '?';
-  return d.toISOString().replace(/\.\d{3}Z$/, `.${(ns % 1_000_000_000n).toString().padStart(9, '0')}Z`);
+  return d.toISOString().replace(/\.\d{3}Z$/, `.${frac.toString().padStart(9, '0')}Z`);
 }
 
 function infoJson(bag: Bag): Record<string, unknown> {
@@ -48,9 +53,9 @@ function infoJson(bag: Bag): Record<string, unknown> {
 
 function infoText(bag: Bag): string {
   const L: string[] = [];
-  L.push(`bag:       ${bag.path}`);
+  L.push(`bag:       ${printable(bag.path)}`);
   L.push(`storage:   ${bag.storage} (${bag.files.length} file${bag.files.length === 1 ? '' : 's'})`);
-  for (const f of bag.files) L.push(`           ${f}`);
+  for (const f of bag.files) L.push(`           ${printable(f)}`);
   if (bag.messageCount > 0) {
     L.push(`duration:  ${seconds(bag.endNs - bag.startNs)} s`);
     L.push(`start:     ${isoTime(bag.startNs)} (${seconds(bag.startNs)})`);
@@ -61,14 +66,17 @@ function infoText(bag: Bag): string {
   L.push(`messages:  ${bag.messageCount}`);
   const topics = bag.topics();
   L.push(`topics:    ${topics.length}`);
-  const wName = Math.max(0, ...topics.map((t) => t.name.length));
-  const wType = Math.max(0, ...topics.map((t) => t.type.length));
+  // Names come from the file: control characters are escaped before they reach a terminal.
+  const shown = topics.map((t) => ({ name: printable(t.name), type: printable(t.type), fmt: printable(t.serializationFormat) }));
+  const wName = Math.max(0, ...shown.map((t) => t.name.length));
+  const wType = Math.max(0, ...shown.map((t) => t.type.length));
   const wCount = Math.max(0, ...topics.map((t) => String(t.count).length));
-  for (const t of topics) {
-    L.push(`  ${t.name.padEnd(wName)}  ${t.type.padEnd(wType)}  ${String(t.count).padStart(wCount)} msgs  ${t.serializationFormat}`);
-    for (const q of t.offeredQos) L.push(`  ${''.padEnd(wName)}  QoS: ${describeQos(q)}`);
-  }
-  for (const w of bag.warnings) L.push(`warning:   ${formatProblem(w)}`);
+  topics.forEach((t, k) => {
+    const s = shown[k]!;
+    L.push(`  ${s.name.padEnd(wName)}  ${s.type.padEnd(wType)}  ${String(t.count).padStart(wCount)} msgs  ${s.fmt}`);
+    for (const q of t.offeredQos) L.push(`  ${''.padEnd(wName)}  QoS: ${printable(describeQos(q))}`);
+  });
+  for (const w of bag.warnings) L.push(`warning:   ${printable(formatProblem(w))}`);
   return L.join('\n');
 }
 
@@ -162,11 +170,21 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
           failures.set(m.topic, k);
           if (k <= REPORT_PER_TOPIC) {
             const p: Problem = err.problems[0]!;
-            process.stderr.write(`antiphon: topic ${m.topic}, log time ${m.logTimeNs} ns: ${p.message}${p.hint ? ` (${p.hint})` : ''}\n`);
+            process.stderr.write(`antiphon: topic ${printable(m.topic)}, log time ${m.logTimeNs} ns: ${printable(p.message)}${p.hint ? ` (${printable(p.hint)})` : ''}\n`);
           }
           continue;
         }
-        out += JSON.stringify({ topic: m.topic, type: m.type, log_time_ns: m.logTimeNs.toString(), message: toJsonValue(value) }) + '\n';
+        let line: string;
+        try {
+          line = JSON.stringify({ topic: m.topic, type: m.type, log_time_ns: m.logTimeNs.toString(), message: toJsonValue(value) }) + '\n';
+        } catch (err) {
+          // A message too large for one JavaScript string (about 512 MB of text): reported, counted.
+          if (!(err instanceof RangeError)) throw err;
+          failed++;
+          process.stderr.write(`antiphon: topic ${printable(m.topic)}, log time ${m.logTimeNs} ns: message of ${m.data.length} bytes is too large to print as one JSON line\n`);
+          continue;
+        }
+        out += line;
         if (out.length >= 1 << 16) await flush();
       }
       await flush();
@@ -179,7 +197,7 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
       if (k > REPORT_PER_TOPIC) process.stderr.write(`antiphon: topic ${topic}: ${k - REPORT_PER_TOPIC} more messages could not be decoded\n`);
     }
     const lost = bag.warnings.filter((w) => DATA_LOSS.has(w.code));
-    for (const w of bag.warnings) process.stderr.write(`antiphon: warning: ${formatProblem(w)}\n`);
+    for (const w of bag.warnings) process.stderr.write(`antiphon: warning: ${printable(formatProblem(w))}\n`);
     return failed > 0 || lost.length > 0 ? EXIT_CHECKS_FAILED : EXIT_OK;
   });
 }
@@ -189,7 +207,10 @@ export function register(program: Command): void {
 
   bag
     .command('info')
-    .description('Storage, duration, start and end, message count, topics with types, counts and QoS (read from the storage files).')
+    .description(
+      'Storage, duration, start and end, message count, topics with types, counts and QoS (read from the storage files). ' +
+        'Warnings are listed; the exit code is 1 when some recorded messages cannot be read (a cut or damaged file, invalid times, fewer than metadata.yaml promises).',
+    )
     .argument('<bag>', 'bag directory, .mcap or .db3 file')
     .option('--json', 'one JSON object on stdout')
     .action(async (path: string, opts: { json?: boolean }) =>
@@ -197,7 +218,8 @@ export function register(program: Command): void {
         withBag(path, (b) => {
           if (opts.json) printJson({ ok: true, ...infoJson(b) });
           else printText(infoText(b));
-          return EXIT_OK;
+          // Listed, and exit 1: some recorded messages cannot be read (cut, damaged, bad times).
+          return b.warnings.some((w) => DATA_LOSS.has(w.code)) ? EXIT_CHECKS_FAILED : EXIT_OK;
         }),
       ),
     );
