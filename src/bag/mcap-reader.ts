@@ -537,7 +537,12 @@ export class McapFile {
         table[c.id] = c.id;
       },
     };
+    const looseBad: BadTimes = { count: 0, first: 0 };
     const closeLoose = (): void => {
+      if (looseBad.count > 0) {
+        this.#badTimes(looseBad.first, looseBad, false, looseBad.first);
+        looseBad.count = 0;
+      }
       if (looseStart < 0) return;
       this.chunks.push({
         offset: looseStart,
@@ -590,7 +595,10 @@ export class McapFile {
         try {
           const bad: BadTimes = { count: 0, first: 0 };
           const b = parseRecords(rec, recordChannels(), 0n, 0x7fffffffffffffffn, sink, unknown, bad);
-          this.#badTimes(p, bad);
+          if (bad.count > 0) {
+            if (looseBad.count === 0) looseBad.first = p;
+            looseBad.count += bad.count;
+          }
           if (b.count > 0) {
             const t = b.logTimeNs[0]!;
             if (looseFirst === undefined || t < looseFirst) looseFirst = t;
