@@ -34,6 +34,9 @@ export interface FuzzOptions {
   readonly progress?: (done: number, total: number, failures: number) => void;
   /** Called after every case (the `--trace` option prints these). */
   readonly onCase?: (info: { id: number; target: string; seed: string; mutation: string; args: readonly string[]; outcome: string; code: number; ms: number }) => void;
+  /** Called every `checkpointEvery` cases (default 500) with the report so far (`--checkpoint`). */
+  readonly checkpoint?: (partial: FuzzReport) => void;
+  readonly checkpointEvery?: number;
   /** Extra environment for the worker (the planted-defect test sets ANTIPHON_FUZZ_PLANT here). */
   readonly env?: Readonly<Record<string, string>>;
 }
@@ -435,13 +438,16 @@ export async function runFuzz(opts: FuzzOptions): Promise<FuzzReport> {
           failures.push({ id, target, kind: failKind, seed: seedId, mutation, args, detail: result.detail.slice(0, 1500), ...(saved ? { saved } : {}) });
         }
         opts.progress?.(id + 1, opts.cases, failures.length);
+        if (opts.checkpoint && (id + 1) % (opts.checkpointEvery ?? 500) === 0) opts.checkpoint(report(id + 1));
       }
     } finally {
       await pool.close();
     }
+    return report(opts.cases);
+    function report(done: number): FuzzReport {
     const elapsed = (performance.now() - started) / 1000;
     return {
-      cases: opts.cases,
+      cases: done,
       crashes,
       hangs,
       by_target: by,
@@ -449,12 +455,13 @@ export async function runFuzz(opts: FuzzOptions): Promise<FuzzReport> {
       memory_failures: memoryFailures,
       usage_errors: usage,
       elapsed_s: Math.round(elapsed * 10) / 10,
-      cases_per_s: Math.round((opts.cases / elapsed) * 10) / 10,
+      cases_per_s: Math.round((done / elapsed) * 10) / 10,
       peak_rss_mb: Math.round(peakKb / 1024),
       peak_rss_case: peakCase,
       slowest,
       failures,
     };
+    }
   } finally {
     rmSync(work, { recursive: true, force: true });
   }

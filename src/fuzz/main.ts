@@ -8,6 +8,7 @@
  * Exit 0 when none, 1 otherwise. `--json` prints {"cases","crashes","hangs","by_target",…}.
  */
 import { Command } from 'commander';
+import { writeFileSync } from 'node:fs';
 import { runFuzz, TARGETS, type Target } from './engine.js';
 
 const program = new Command('antiphon-fuzz')
@@ -21,9 +22,10 @@ const program = new Command('antiphon-fuzz')
   .option('--heap-mb <mb>', 'V8 heap limit of the worker', '768')
   .option('--save <dir>', 'save every failing input here (case.json + files)')
   .option('--trace', 'one line per case on stderr')
+  .option('--checkpoint <file>', 'write the JSON report so far to this file every 500 cases')
   .parse();
 
-const o = program.opts<{ cases: string; seed: string; json?: boolean; targets?: string; timeMs: string; memMb: string; heapMb: string; save?: string; trace?: boolean }>();
+const o = program.opts<{ cases: string; seed: string; json?: boolean; targets?: string; timeMs: string; memMb: string; heapMb: string; save?: string; trace?: boolean; checkpoint?: string }>();
 const int = (name: string, v: string, min: number): number => {
   const n = Number(v);
   if (!Number.isInteger(n) || n < min) {
@@ -49,6 +51,7 @@ const report = await runFuzz({
   memMb: int('--mem-mb', o.memMb, 64),
   heapMb: int('--heap-mb', o.heapMb, 64),
   ...(o.save ? { saveDir: o.save } : {}),
+  ...(o.checkpoint ? { checkpoint: (r: object) => writeFileSync(o.checkpoint!, JSON.stringify(r, null, 2) + '\n') } : {}),
   ...(o.trace ? { onCase: (c: { id: number; target: string; seed: string; mutation: string; args: readonly string[]; outcome: string; code: number; ms: number }) => process.stderr.write(`${c.id} ${c.target} ${c.seed} ${c.mutation} -> ${c.outcome} exit ${c.code} ${c.ms} ms: ${c.args.join(' ')}\n`) } : {}),
   progress: (done, total, failures) => {
     if (tty && (done % 50 === 0 || done === total)) process.stderr.write(`\r${done}/${total} cases, ${failures} failing`);
