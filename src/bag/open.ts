@@ -14,7 +14,7 @@ import { logger } from '../util/log.js';
 import { mergeSources, type BatchSource } from './batch.js';
 import { canonicalType } from './definitions.js';
 import { FileSource, MemorySource, readRegularFile, regularFileSize, type ByteSource } from './io.js';
-import { MAX_METADATA_BYTES, maxUncompressedBytes } from './limits.js';
+import { MAX_DEFINITION_BYTES, MAX_METADATA_BYTES, maxUncompressedBytes } from './limits.js';
 import { McapFile } from './mcap-reader.js';
 import { INT64_MAX, parseMetadataYaml, parseQos, type BagMetadata } from './metadata.js';
 import { SqliteFile } from './sqlite-reader.js';
@@ -135,6 +135,14 @@ class OpenedBag implements Bag {
         }
         const dec = new TextDecoder();
         for (const s of f.schemas.values()) {
+          if (s.data.length > MAX_DEFINITION_BYTES) {
+            this.#warn({
+              code: 'bag.definition_too_large',
+              message: `the schema of ${s.name} is ${s.data.length} bytes, more than the ${MAX_DEFINITION_BYTES} a message definition may take; it is ignored`,
+              where: { file: f.path },
+            });
+            continue;
+          }
           if (!this.#definitions.has(s.name)) this.#addDefinition(s.name, { encoding: s.encoding, text: dec.decode(s.data), origin: f.path });
         }
       } else {

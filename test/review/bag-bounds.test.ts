@@ -359,3 +359,42 @@ describe('data lost or nonsense accepted with exit 0', () => {
     expect(fine.warnings.filter((w) => w.code.startsWith('replay.wrench_'))).toEqual([]);
   });
 });
+
+describe('declared counts and lengths against the bytes that are left', () => {
+  it('CDR sequence counts of 2^32-1 (uint8[], string[], float64[]) are decode errors, not allocations or long loops', async () => {
+    const def = 'uint8[] data\nstring[] names\nfloat64[] values';
+    const msgs = [
+      new Bytes().raw(CDR_LE).u32(0xffffffff).done(),
+      new Bytes().raw(CDR_LE).u32(0).u32(0xffffffff).u32(1).done(),
+      new Bytes().raw(CDR_LE).u32(0).u32(0).u32(0xffffffff).done(),
+    ];
+    const file = write('seq.mcap', mcapFile([schemaRecord(1, 'fuzz_msgs/msg/Seq', 'ros2msg', def), channelRecord(1, 1, '/seq'), ...msgs.map((m, k) => messageRecord(1, T0 + BigInt(k), m))]));
+    const b = await openBag(file);
+    const dec = bagDecoders(b);
+    for (const m of b.messages()) expect((await inputError(() => dec.decode(m.type, m.data))).code).toBe('bag.decode_failed');
+    b.close();
+  });
+
+  it('a JointState whose first message declares 2^32-1 names is a layout error naming the topic, not a huge allocation', async () => {
+    const dir = join(tempDir(), 'joints');
+    const w = await createBagWriter(dir);
+    const t = await w.addTopic({ name: '/left/joint_states', type: 'sensor_msgs/msg/JointState' });
+    // header: stamp (8 bytes), frame_id "" (length 1, NUL), then the name count.
+    await w.write(t, T0, new Bytes().raw(CDR_LE).u32(1).u32(2).u32(1).u8(0).u8(0).u8(0).u8(0).u32(0xffffffff).done());
+    await w.close();
+    const b = await openBag(dir);
+    const p = await inputError(() => readTopicSeries(b, '/left/joint_states'));
+    expect(p.where?.topic).toBe('/left/joint_states');
+    b.close();
+  });
+
+  it('lz4 and zstd chunks: a declared size beyond what the compressed bytes can hold is refused before decompressing', async () => {
+    const { declaredSizeProblem } = await import('../../src/bag/zstd.js');
+    // LZ4 expands at most about 255:1 (lz4 block format: one length byte per 255 bytes of match).
+    expect(declaredSizeProblem('lz4', new Uint8Array(1000), 10_000_000, 1 << 30)).toMatch(/more than lz4 can expand 1000 bytes to/);
+    expect(declaredSizeProblem('lz4', new Uint8Array(1000), 200_000, 1 << 30)).toBeUndefined();
+    expect(declaredSizeProblem('zstd', zstdRleBomb(2).frame, 2 * 131072, 1 << 30)).toBeUndefined();
+    expect(declaredSizeProblem('zstd', zstdRleBomb(2).frame, 2 * 131072 + 1, 1 << 30)).toMatch(/can regenerate at most 262144/);
+    expect(declaredSizeProblem('bz2', new Uint8Array(10), 2 ** 31, 1 << 30)).toMatch(/more than the limit/);
+  });
+});
