@@ -67,6 +67,26 @@ describe('tiny files that exhausted memory or hung', () => {
     expect(() => parseDefinition('fuzz_msgs/msg/E', 'Empty[] e\n' + '='.repeat(80) + '\nMSG: fuzz_msgs/Empty\n')).not.toThrow();
   });
 
+  it('the same zero-size path through a bad ZoneView definition in replay: the bag's definition is refused, the shipped one meets the count as a decode error, no hang', async () => {
+    const cell = loadCell(join(__dirname, '../../config/demo_cell.yaml'));
+    const dir = join(tempDir(), 'zone-bad');
+    const w = await createBagWriter(dir);
+    const wrench = await w.addTopic({ name: '/left/wrench', type: 'geometry_msgs/msg/WrenchStamped' });
+    const bad = 'std_msgs/Header header\nZ[] zones\nuint8[] state\n' + '='.repeat(80) + '\nMSG: antiphon/Z\nuint8[0] pad\n' + '='.repeat(80) + '\nMSG: std_msgs/Header\nbuiltin_interfaces/Time stamp\nstring frame_id\n' + '='.repeat(80) + '\nMSG: builtin_interfaces/Time\nint32 sec\nuint32 nanosec';
+    const zone = await w.addTopic({ name: '/left/zone_view', type: 'antiphon/msg/ZoneView', definition: bad });
+    for (let k = 0; k < 200; k++) {
+      const ns = T0 + BigInt(k) * 1_000_000n;
+      await w.write(wrench, ns, encodeWrenchStamped([Number(ns / 1_000_000_000n), Number(ns % 1_000_000_000n), 0, 0, -5, 0, 0, 0], 0, 'left_ft'));
+      // header (sec, nanosec, frame_id ""), then a zone count of 2^32-1.
+      if (k % 100 === 0) await w.write(zone, ns, new Bytes().raw(CDR_LE).u32(1).u32(0).u32(1).u8(0).u8(0).u8(0).u8(0).u32(0xffffffff).done());
+    }
+    await w.close();
+    const p = await inputError(replayPath(dir, { arms: ['left'], configs: { left: cell.left.config, right: cell.right.config } }));
+    expect(p.code).toBe('bag.decode_failed');
+    expect(p.message).toMatch(/takes no bytes/);
+    expect(p.where?.topic).toBe('/left/zone_view');
+  });
+
   it('zstd chunk bomb: a 55 kB chunk declaring 1.8 GB is refused before decompressing (limit checked against the declared size)', async () => {
     const { frame, size } = zstdRleBomb(13733);
     expect(size).toBeGreaterThan(1.7e9);
