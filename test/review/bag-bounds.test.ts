@@ -67,7 +67,7 @@ describe('tiny files that exhausted memory or hung', () => {
     expect(() => parseDefinition('fuzz_msgs/msg/E', 'Empty[] e\n' + '='.repeat(80) + '\nMSG: fuzz_msgs/Empty\n')).not.toThrow();
   });
 
-  it('the same zero-size path through a bad ZoneView definition in replay: the bag's definition is refused, the shipped one meets the count as a decode error, no hang', async () => {
+  it('the same zero-size path through a bad ZoneView definition in replay: the definition in the bag is refused, the shipped one meets the count as a decode error, no hang', async () => {
     const cell = loadCell(join(__dirname, '../../config/demo_cell.yaml'));
     const dir = join(tempDir(), 'zone-bad');
     const w = await createBagWriter(dir);
