@@ -11,7 +11,7 @@
  * cell frame with the tool orientation for inference.
  */
 import type { ArmConfig } from '../params/config.js';
-import { TARE_REFUSAL_TEXT, TARE_REFUSED, TARE_TAKEN, WrenchFilter, noiseCorrelationSamples, type WrenchFilterConfig } from './filter/index.js';
+import { TARE_REFUSAL_TEXT, TARE_REFUSED, TARE_REFUSED_MOVING, TARE_TAKEN, WrenchFilter, noiseCorrelationSamples, type WrenchFilterConfig } from './filter/index.js';
 import { Belief } from './belief.js';
 import { PartnerStopDetector } from './partner-stop.js';
 import { LISTENER, RoleScheduler, SPEAKER, type Role } from './roles.js';
@@ -82,6 +82,8 @@ export interface ArmOutputs {
   tareOutcome: number;
   /** Why the last tare was refused (empty when the last tare was taken or none ended). */
   tareReason: string;
+  /** Held for a reason of its own (not only partner_hold / partner_stop): what the hold link publishes. */
+  heldOwn: boolean;
   /** The last JointState carried velocities, so the joint-speed check runs. */
   jointVelocityAvailable: boolean;
   /** Partner-stop detector: the partner's speed over this arm's, over its window (NaN while not armed). */
@@ -101,6 +103,7 @@ export interface ArmStepSnapshot {
   zones: Uint8Array;
   partnerStop: Float64Array;
   commitWeight: Float64Array;
+  tareReason: string;
 }
 
 export class ArmStep {
@@ -265,6 +268,7 @@ export class ArmStep {
       committedOwn: 0,
       tareOutcome: TARE_OUTCOME_NONE,
       tareReason: '',
+      heldOwn: false,
       jointVelocityAvailable: false,
       partnerSpeedRatio: Number.NaN,
     };
@@ -342,25 +346,46 @@ export class ArmStep {
   requestTare(): TareRequestResult {
     const f = this.filter;
     if (f.tarePending) return { status: 'pending', reason: 'a tare is already waiting for a still window' };
-    if (!this.watchdog.held && !this.out.inhibited) {
-      const tw = this.out.twist;
-      const lin = Math.sqrt(tw[0]! * tw[0]! + tw[1]! * tw[1]! + tw[2]! * tw[2]!);
+    const why = this.moving();
+    if (why !== '') return { status: 'refused', reason: why };
+    f.requestTare();
+    return { status: 'pending', reason: 'waiting for a still window' };
+  }
+
+  /**
+   * Why a tare may not run now ('' when it may): allowed while held or inhibited (from internal
+   * state, so a restored arm answers the same), or with the commanded speed and every joint
+   * speed near zero. Allocates only on a refusal.
+   */
+  private moving(): string {
+    if (this.watchdog.held || this.watchdog.waitingForInputs || !this.filter.tared) return '';
+    {
+      const lin = Math.sqrt(this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy);
       const tp = this.config.wrench_filter.tare;
       if (lin > tp.still_twist_m_s) {
-        return { status: 'refused', reason: `the arm is moving: recommended speed ${lin.toPrecision(3)} m/s exceeds wrench_filter.tare.still_twist_m_s = ${tp.still_twist_m_s} m/s; hold the arm first` };
+        return `the arm is moving: recommended speed ${lin.toPrecision(3)} m/s exceeds wrench_filter.tare.still_twist_m_s = ${tp.still_twist_m_s} m/s; hold the arm first`;
       }
       if (this.required[INPUT.joint_states] === 1 && !this.jointVelAvailable) {
-        return { status: 'refused', reason: 'joint speeds are unknown (JointState carries no velocities), so the arm cannot be shown still; hold the arm first' };
+        return 'joint speeds are unknown (JointState carries no velocities), so the arm cannot be shown still; hold the arm first';
       }
       for (let j = 0; j < this.jointCount; j++) {
         const qd = Math.abs(this.jointVel[j]!);
         if (qd > tp.still_joint_rad_s) {
-          return { status: 'refused', reason: `joint ${j} moves at ${qd.toPrecision(3)} rad/s, above wrench_filter.tare.still_joint_rad_s = ${tp.still_joint_rad_s} rad/s; hold the arm first` };
+          return `joint ${j} moves at ${qd.toPrecision(3)} rad/s, above wrench_filter.tare.still_joint_rad_s = ${tp.still_joint_rad_s} rad/s; hold the arm first`;
         }
       }
     }
-    f.requestTare();
-    return { status: 'pending', reason: 'waiting for a still window' };
+    return '';
+  }
+
+  /** Cheap per-sample form of moving(): true when a pending re-tare must end (no strings built). */
+  private movingNow(): boolean {
+    if (this.watchdog.held || this.watchdog.waitingForInputs || !this.filter.tared) return false;
+    const tp = this.config.wrench_filter.tare;
+    if (this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy > tp.still_twist_m_s * tp.still_twist_m_s) return true;
+    if (this.required[INPUT.joint_states] === 1 && !this.jointVelAvailable) return true;
+    for (let j = 0; j < this.jointCount; j++) if (Math.abs(this.jointVel[j]!) > tp.still_joint_rad_s) return true;
+    return false;
   }
 
   requestReset(): { released: boolean; reason: string } {
@@ -385,8 +410,10 @@ export class ArmStep {
       if (!Number.isFinite(v)) finite = false;
     }
     const f = this.filter;
-    if (finite) f.step(wrench);
+    // A re-tare accepted while held or still ends, refused, once the arm moves again.
+    if (f.tarePending && f.tared && this.movingNow()) f.cancelTare(TARE_REFUSED_MOVING);
     else f.tareOutcome = 0;
+    if (finite) f.step(wrench);
     out.tareOutcome = TARE_OUTCOME_NONE;
     if (f.tareOutcome === TARE_TAKEN) {
       out.tareOutcome = TARE_OUTCOME_TAKEN;
@@ -417,7 +444,8 @@ export class ArmStep {
     // are kept: a NaN-stamped sample must not erase the last arrival.
     if (Number.isFinite(t)) this.lastSeen[INPUT.wrench] = t;
     stop = stop || !f.tared;
-    const dt = Number.isNaN(this.lastT) ? 0 : Math.min(Math.max(t - this.lastT, 0), 0.1);
+    // No time, no dynamics: a NaN time must not turn the command into NaN (it trips non_finite anyway).
+    const dt = Number.isNaN(this.lastT) || !Number.isFinite(t) ? 0 : Math.min(Math.max(t - this.lastT, 0), 0.1);
     if (t >= this.lastT || Number.isNaN(this.lastT)) this.lastT = t;
 
     // Object position from this arm's own tool pose.
@@ -488,6 +516,7 @@ export class ArmStep {
     out.impactFlag = f.impactFlag;
     out.impactScore = f.impactScore;
     out.held = this.watchdog.held;
+    out.heldOwn = this.watchdog.heldForOwnReasons;
     out.inhibited = !this.watchdog.held && stop;
     out.tared = f.tared;
     out.objectX = px;
@@ -791,6 +820,7 @@ export class ArmStep {
       zones: Uint8Array.from(this.zoneState),
       partnerStop: this.partnerStop.snapshot(),
       commitWeight: Float64Array.from(this.commitWeight),
+      tareReason: this.out.tareReason,
     };
   }
 
@@ -816,6 +846,12 @@ export class ArmStep {
     this.partnerHeldFlag = n[23] === 1;
     this.partnerStop.restore(s.partnerStop);
     this.commitWeight.set(s.commitWeight);
+    // Outputs a caller may read before the next step: as they were.
+    this.belief.marginals(this.task.hidden.length, this.out.hiddenOccupied);
+    this.out.held = this.watchdog.held;
+    this.out.heldOwn = this.watchdog.heldForOwnReasons;
+    this.out.tared = this.filter.tared;
+    this.out.tareReason = s.tareReason;
     this.lastSeen.set(s.lastSeen);
     this.jointVel.set(s.joint);
     this.pose.set(s.pose);

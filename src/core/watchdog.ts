@@ -161,6 +161,19 @@ export class Watchdog {
     return this.tripCount;
   }
 
+  /**
+   * Held for a reason of its own: some trip other than partner_hold and partner_stop. This is
+   * what the hold link publishes, so two linked arms never keep each other held for ever.
+   */
+  get heldForOwnReasons(): boolean {
+    if (!this.held) return false;
+    for (let k = 0; k < this.tripCount; k++) {
+      const c = this.tripPool[k]!.check;
+      if (c !== CHECK.partner_hold && c !== CHECK.partner_stop) return true;
+    }
+    return false;
+  }
+
   /** True when a reset would release the hold now. */
   get readyToRelease(): boolean {
     return this.held && this.clearFor_s >= this.p.release_clear_s;
@@ -368,9 +381,14 @@ export class Watchdog {
     if (!(this.clearFor_s >= this.p.release_clear_s)) {
       return { released: false, reason: `conditions clear for ${this.clearFor_s.toFixed(3)} s of the ${this.p.release_clear_s} s required` };
     }
+    const partnerStopped = this.seen[CHECK.partner_stop] === 1;
     this.held = false;
     this.tripCount = 0;
     this.seen.fill(0);
+    // A stopped partner cannot be seen from here while this arm stands still: released, but say so.
+    if (partnerStopped) {
+      return { released: true, reason: 'released; partner_stop was a reason: reset the partner first, or this arm drags it for up to watchdog.partner_stop.window_s before it holds again' };
+    }
     return { released: true, reason: 'released' };
   }
 

@@ -34,6 +34,7 @@ export interface WrenchFilterParams {
     readonly max_bias_nm: number;
     readonly max_change_n: number;
     readonly max_change_nm: number;
+    readonly max_horizontal_bias_n: number;
     readonly still_twist_m_s: number;
     readonly still_joint_rad_s: number;
   };
@@ -164,6 +165,30 @@ export function loadCell(path: string | undefined): { file: ParamsFile | undefin
   if (val(lv, 'roles.scheduler') === 'alternating' && val(rv, 'roles.scheduler') === 'alternating' && val(lv, 'roles.phase') === val(rv, 'roles.phase')) {
     problems.push({ code: 'param.same_phase', message: 'both arms have the same roles.phase, so they would speak at the same time', where: { file: path, key: 'roles.phase' }, hint: 'set roles.phase: 0 for one arm and 1 for the other' });
   }
+  // Everything each arm reproduces of the other (the partner's policy in the likelihood, the
+  // replica, the role clock) must be the same on both arms.
+  const shared = (k: string) => k.startsWith('belief.') || k.startsWith('policy.') || k.startsWith('coupling.') || k === 'roles.scheduler' || k === 'roles.period_s';
+  for (const key of new Set([...lv.keys(), ...rv.keys()])) {
+    if (!shared(key)) continue;
+    const a = JSON.stringify(val(lv, key));
+    const b = JSON.stringify(val(rv, key));
+    if (a !== b) {
+      const src = (rv.get(key)?.source.file ? rv : lv).get(key)?.source;
+      problems.push({
+        code: 'param.arms_differ',
+        message: `${key} is ${a} for the left arm and ${b} for the right: each arm reproduces the other's policy, belief and clock, so both must use the same value`,
+        where: { file: path, key, ...(src?.line !== undefined ? { line: src.line, column: src.column } : {}) },
+        hint: `set ${key} once, in the /** section`,
+      });
+    }
+  }
+  const sched = val(lv, 'roles.scheduler');
+  if (sched === 'adaptive' && val(lv, 'roles.phase') === val(rv, 'roles.phase')) {
+    problems.push({ code: 'param.same_phase', message: 'both arms have the same roles.phase; the adaptive scheduler alternates on it when no zone is private, so they would speak at the same time', where: { file: path, key: 'roles.phase' }, hint: 'set roles.phase: 0 for one arm and 1 for the other' });
+  }
+  if (sched === 'fixed' && val(rv, 'roles.scheduler') === 'fixed' && val(lv, 'roles.fixed_role') === val(rv, 'roles.fixed_role')) {
+    problems.push({ code: 'param.same_fixed_role', message: `both arms have roles.fixed_role ${String(val(lv, 'roles.fixed_role'))}: with fixed roles one arm must speak and the other listen`, where: { file: path, key: 'roles.fixed_role' }, hint: 'speaker for one arm, listener for the other' });
+  }
   if (problems.length) throw new InputError(dedupe(problems));
   return { file, left: left!, right: right! };
 }
@@ -197,6 +222,22 @@ function crossCheck(c: ArmConfig, values: ReadonlyMap<string, ResolvedValue>): v
   }
   if (c.watchdog.partner_stop.enabled && c.watchdog.partner_stop.min_speed_m_s >= c.policy.speed_m_s) {
     problems.push({ code: 'param.partner_stop_never_armed', message: `watchdog.partner_stop.min_speed_m_s = ${c.watchdog.partner_stop.min_speed_m_s} m/s is not below policy.speed_m_s = ${c.policy.speed_m_s} m/s, so the partner-stop check would never run`, where: where('watchdog.partner_stop.min_speed_m_s'), hint: `below ${c.policy.speed_m_s} m/s, or set watchdog.partner_stop.enabled: false` });
+  }
+  if (c.watchdog.partner_stop.enabled && c.watchdog.partner_stop.speed_ratio >= c.policy.confidence_floor) {
+    problems.push({ code: 'param.partner_stop_above_floor', message: `watchdog.partner_stop.speed_ratio = ${c.watchdog.partner_stop.speed_ratio} is not below policy.confidence_floor = ${c.policy.confidence_floor}: a listener slowing down while unsure would read as a stopped partner`, where: where('watchdog.partner_stop.speed_ratio'), hint: `below ${c.policy.confidence_floor}` });
+  }
+  if (c.wrench_filter.tare.still_twist_m_s >= c.policy.speed_m_s) {
+    problems.push({ code: 'param.tare_gate_open', message: `wrench_filter.tare.still_twist_m_s = ${c.wrench_filter.tare.still_twist_m_s} m/s is not below policy.speed_m_s = ${c.policy.speed_m_s} m/s, so a cruising arm would count as still for a tare`, where: where('wrench_filter.tare.still_twist_m_s'), hint: `well below ${c.policy.speed_m_s} m/s (default 0.005)` });
+  }
+  if (c.wrench_filter.tare.still_joint_rad_s >= c.watchdog.joint_velocity_limit_rad_s) {
+    problems.push({ code: 'param.tare_gate_open', message: `wrench_filter.tare.still_joint_rad_s = ${c.wrench_filter.tare.still_joint_rad_s} rad/s is not below watchdog.joint_velocity_limit_rad_s = ${c.watchdog.joint_velocity_limit_rad_s} rad/s`, where: where('wrench_filter.tare.still_joint_rad_s'), hint: 'well below the joint speed limit (default 0.02)' });
+  }
+  {
+    const st = c.watchdog.stale_after_s;
+    const minStale = Math.min(st.joint_states, st.tool_pose, st.zone_view, st.hold_link);
+    if (c.watchdog.future_tolerance_s > minStale) {
+      problems.push({ code: 'param.future_above_stale', message: `watchdog.future_tolerance_s = ${c.watchdog.future_tolerance_s} s exceeds the shortest input staleness limit (${minStale} s): an input stamped that far ahead would go unseen for longer than its limit`, where: where('watchdog.future_tolerance_s'), hint: `at most ${minStale} s` });
+    }
   }
   if (c.watchdog.partner_stop.enabled && c.watchdog.partner_stop.window_s < 2 / c.belief.update_rate_hz) {
     problems.push({ code: 'param.partner_stop_window_short', message: `watchdog.partner_stop.window_s = ${c.watchdog.partner_stop.window_s} s is shorter than two belief updates at ${c.belief.update_rate_hz} Hz`, where: where('watchdog.partner_stop.window_s'), hint: `at least ${(2 / c.belief.update_rate_hz).toPrecision(3)} s` });

@@ -32,6 +32,7 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('wrench_filter.tare.max_bias_nm', 'N*m', 10, 0.01, 200, 'Largest torque bias a tare may set. A larger still-window mean is refused.', 50),
   d('wrench_filter.tare.max_change_n', 'N', 5, 0.01, 100, 'Largest change of the force bias from the start-up tare that a later tare may make (a re-tare corrects drift, not a squeeze).', 30),
   d('wrench_filter.tare.max_change_nm', 'N*m', 1, 0.001, 50, 'Largest change of the torque bias from the start-up tare that a later tare may make.', 10),
+  d('wrench_filter.tare.max_horizontal_bias_n', 'N', 5, 0.01, 100, 'Largest horizontal part of the force bias in the cell frame a tare may set (the start-up tare too). Weight is vertical, so a horizontal bias is sensor offset or a squeeze already in the object: a larger one is refused.', 30),
   d('wrench_filter.tare.still_twist_m_s', 'm/s', 0.005, 0, 1, 'A tare requested while not held and not inhibited is accepted only while the recommended linear speed is at most this.'),
   d('wrench_filter.tare.still_joint_rad_s', 'rad/s', 0.02, 0, 5, 'A tare requested while not held and not inhibited is accepted only while every measured joint speed is at most this.'),
   b('wrench_filter.payload.enabled', false, 'Subtract the gravity wrench of a known payload (uses the tool orientation).'),

@@ -47,7 +47,7 @@ export interface ArmReplayRecord {
    * figures, internal force and expectations use samples from here on only.
    */
   readonly taredFrom: number;
-  /** Whether the joint-speed check could run: the last JointState carried velocities (null: no joint states were replayed). */
+  /** Whether the joint-speed check could run throughout: every JointState carried velocities (null: no joint states were replayed). */
   readonly jointVelocityAvailable: boolean | null;
   readonly impactForce: Float64Array;
   readonly impactScore: Float64Array;
@@ -147,6 +147,7 @@ interface ArmRun {
   tared: boolean;
   taredFrom: number;
   sawJoints: boolean;
+  jointsWithoutVelocity: number;
   lastStatusT: number;
 }
 
@@ -286,7 +287,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
       zoneStates: new Uint8Array(config.task.zones.length).fill(ZONE_UNKNOWN),
       zoneIndex: new Map(config.task.zones.map((z, k) => [z.name, k])),
       lastPoseT: Number.NaN, lastPoseX: 0, lastPoseY: 0, lastPoseZ: 0,
-      lastRole: -1, lastHeld: false, lastImpact: false, trips: 0, tared: false, taredFrom: -1, sawJoints: false, lastStatusT: Number.NEGATIVE_INFINITY,
+      lastRole: -1, lastHeld: false, lastImpact: false, trips: 0, tared: false, taredFrom: -1, sawJoints: false, jointsWithoutVelocity: 0, lastStatusT: Number.NEGATIVE_INFINITY,
     };
     for (const kind of INPUT_KINDS) {
       const name = resolved[kind];
@@ -355,6 +356,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
               }
               run.step.setJointState(t, v, measured ? n : 0);
               run.sawJoints = true;
+              if (!measured) run.jointsWithoutVelocity++;
               break;
             }
             case 'tool_pose': {
@@ -455,7 +457,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
     events: run.events,
     samples: run.rec.t.length,
     taredFrom: run.taredFrom < 0 ? run.rec.t.length : run.taredFrom,
-    jointVelocityAvailable: run.sawJoints ? run.step.out.jointVelocityAvailable : null,
+    jointVelocityAvailable: run.sawJoints ? run.jointsWithoutVelocity === 0 : null,
   }));
   const record: ReplayRecord = {
     bag: bag.path,

@@ -18,7 +18,7 @@ export interface ArmSummary {
   /** Over the samples after the tare (before it the bias is unknown). */
   readonly peak_correction_force_n: number | null;
   readonly peak_raw_force_n: number | null;
-  /** `active`: JointState carried velocities; `unavailable`: it did not (the joint-speed check could not run); `no_joint_states`. */
+  /** `active`: every JointState carried velocities; `unavailable`: some did not (the joint-speed check could not run then); `no_joint_states`. */
   readonly joint_velocity_check: 'active' | 'unavailable' | 'no_joint_states';
   readonly tares_refused: { t_s: number; reason: string }[];
   readonly belief_final: Record<string, number | null>;

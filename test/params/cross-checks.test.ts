@@ -79,7 +79,7 @@ describe('hypotheses and observability', () => {
 
   it('a lower max_hidden_zones lowers the limit', () => {
     // src/params/config.ts: hidden zones > belief.max_hidden_zones is refused
-    const text = edit('      forgetting: 0.002\n', '      forgetting: 0.002\n      max_hidden_zones: 0\n');
+    const text = edit('      forgetting: 0.0005\n', '      forgetting: 0.0005\n      max_hidden_zones: 0\n');
     const { problems } = cell(text);
     expect(problems.map((p) => p.code)).toEqual(['param.too_many_hypotheses']);
     expect(problems[0]!.where).toMatchObject(lineCol(text, '0\n', 'max_hidden_zones:'));
@@ -150,8 +150,9 @@ describe('speeds, rates and phases', () => {
     const { file, problems } = cell(text);
     expect(problems).toHaveLength(1);
     expect(problems[0]).toMatchObject({ code: 'param.same_phase', where: { file, key: 'roles.phase' } });
-    // A fixed scheduler has no phase to clash.
-    expect(() => loadCell(write(text.replace('scheduler: alternating', 'scheduler: fixed')))).not.toThrow();
+    // A fixed scheduler has no phase to clash, but both arms would hold the default fixed role.
+    const fixed = cell(text.replace('scheduler: alternating', 'scheduler: fixed'));
+    expect(fixed.problems.map((p) => p.code)).toEqual(['param.same_fixed_role']);
     // Without a file, the per-arm defaults differ (0 left, 1 right).
     expect(() => loadCell(undefined)).not.toThrow();
   });

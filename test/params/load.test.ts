@@ -77,16 +77,17 @@ describe('the demo cell file', () => {
 
   it('an arm section overrides /** for that arm only', () => {
     // ROS 2 parameters-file format (rcl yaml): a node's own section wins over the wildcard
+    // (A key both arms must share, such as roles.period_s, is refused when the arms differ.)
     const text = edit(
       'left:\n  ros__parameters:\n    roles:\n      phase: 0',
-      'left:\n  ros__parameters:\n    roles:\n      period_s: 0.25\n      phase: 0',
+      'left:\n  ros__parameters:\n    watchdog:\n      release_clear_s: 2.5\n    roles:\n      phase: 0',
     );
     const file = write(text);
     const cell2 = loadCell(file);
-    expect(cell2.left.values.get('roles.period_s')).toMatchObject({ value: 0.25, source: { section: 'left', ...lineCol(text, '0.25', 'left:\n') } });
-    expect(cell2.right.values.get('roles.period_s')).toMatchObject({ value: 0.5, source: { section: '/**', ...lineCol(text, '0.5', 'period_s:') } });
-    expect(cell2.left.config.roles.period_s).toBe(0.25);
-    expect(cell2.right.config.roles.period_s).toBe(0.5);
+    expect(cell2.left.values.get('watchdog.release_clear_s')).toMatchObject({ value: 2.5, source: { section: 'left', ...lineCol(text, '2.5', 'left:\n') } });
+    expect(cell2.right.values.get('watchdog.release_clear_s')).toMatchObject({ value: 1, source: { section: '/**', ...lineCol(text, '1.0', 'release_clear_s:') } });
+    expect(cell2.left.config.watchdog.release_clear_s).toBe(2.5);
+    expect(cell2.right.config.watchdog.release_clear_s).toBe(1);
   });
 
   it('an empty file and no file both mean all defaults', () => {

@@ -21,7 +21,7 @@ function outputs(nHidden: number): ArmOutputs {
     t_s: 0, role: SPEAKER, slot: 0, timeToSwitch_s: -1, switchDeferred: false, belief: new Float64Array(1 << nHidden), hiddenOccupied: new Float64Array(nHidden),
     entropy_nats: 0, mostLikely: 0, beliefUpdated: false, twist: new Float64Array(6), correction: new Float64Array(6), impact: new Float64Array(6), impactFlag: false,
     impactScore: 0, held: false, inhibited: false, tared: true, objectX: 0, objectY: 0, committedHidden: 0, committedOwn: 0,
-    tareOutcome: 0, tareReason: '', jointVelocityAvailable: true, partnerSpeedRatio: Number.NaN,
+    tareOutcome: 0, tareReason: '', heldOwn: false, jointVelocityAvailable: true, partnerSpeedRatio: Number.NaN,
   };
 }
 

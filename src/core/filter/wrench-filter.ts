@@ -47,6 +47,12 @@ export interface WrenchFilterConfig {
     /** Largest change from the start-up bias that a later tare may make (N, N·m). Default: no bound. */
     max_change_n?: number;
     max_change_nm?: number;
+    /**
+     * Largest horizontal part of the force bias in the world frame (z up, via `setOrientation`),
+     * N. Weight is vertical, so a horizontal bias can only be sensor offset or a squeeze already
+     * present: this keeps a tare (the start-up one included) from hiding a squeeze. Default: no bound.
+     */
+    max_horizontal_bias_n?: number;
   };
   payload: {
     /** Subtract the payload's weight, modelled from `setOrientation`. */
@@ -200,6 +206,8 @@ export const TARE_REFUSED_BIAS_FORCE = 1;
 export const TARE_REFUSED_BIAS_TORQUE = 2;
 export const TARE_REFUSED_CHANGE_FORCE = 3;
 export const TARE_REFUSED_CHANGE_TORQUE = 4;
+export const TARE_REFUSED_HORIZONTAL = 5;
+export const TARE_REFUSED_MOVING = 6;
 /** Plain-language reason per refusal code. */
 export const TARE_REFUSAL_TEXT: readonly string[] = [
   '',
@@ -207,6 +215,8 @@ export const TARE_REFUSAL_TEXT: readonly string[] = [
   'the torque bias would exceed wrench_filter.tare.max_bias_nm',
   'the force bias would move from the start-up tare by more than wrench_filter.tare.max_change_n',
   'the torque bias would move from the start-up tare by more than wrench_filter.tare.max_change_nm',
+  'the force bias would have a horizontal part (weight is vertical: a squeeze or an offset) above wrench_filter.tare.max_horizontal_bias_n',
+  'the arm started moving while the tare waited for a still window',
 ];
 
 /** Six-axis wrench filter for one wrist sensor. See the module comment for the pipeline. */
@@ -287,6 +297,7 @@ export class WrenchFilter {
   private readonly maxBiasNm: number;
   private readonly maxChangeN: number;
   private readonly maxChangeNm: number;
+  private readonly maxHorizontalN: number;
   private startTared = false;
 
   constructor(config: WrenchFilterConfig = DEFAULT_WRENCH_FILTER) {
@@ -323,6 +334,7 @@ export class WrenchFilter {
     this.maxBiasNm = c.tare.max_bias_nm ?? Number.POSITIVE_INFINITY;
     this.maxChangeN = c.tare.max_change_n ?? Number.POSITIVE_INFINITY;
     this.maxChangeNm = c.tare.max_change_nm ?? Number.POSITIVE_INFINITY;
+    this.maxHorizontalN = c.tare.max_horizontal_bias_n ?? Number.POSITIVE_INFINITY;
     const n = Math.round(c.tare.window_s * this.fs);
     this.tareWindowSamples = n;
     this.ring = new Float64Array(n * 6);
@@ -366,6 +378,18 @@ export class WrenchFilter {
     if (this.tarePending) return;
     this.tarePending = true;
     this.clearWindow();
+  }
+
+  /** End a pending tare as refused (code `why`, e.g. TARE_REFUSED_MOVING); the bias stays. */
+  cancelTare(why: number): void {
+    if (!this.tarePending) return;
+    this.tarePending = false;
+    this.clearWindow();
+    this.tareOutcome = TARE_REFUSED;
+    this.tareRefusedWhy = why;
+    this.tareRefusedValue = 0;
+    this.tareRefusedLimit = 0;
+    this.tareRefusals++;
   }
 
   /**
@@ -644,7 +668,13 @@ export class WrenchFilter {
     const bf = Math.sqrt(cand[0]! * cand[0]! + cand[1]! * cand[1]! + cand[2]! * cand[2]!);
     const bt = Math.sqrt(cand[3]! * cand[3]! + cand[4]! * cand[4]! + cand[5]! * cand[5]!);
     let why = 0, value = 0, limit = 0;
+    const q = this.quat;
+    const qx = q[0]!, qy = q[1]!, qz = q[2]!, qw = q[3]!;
+    const hx = (1 - 2 * (qy * qy + qz * qz)) * cand[0]! + 2 * (qx * qy - qz * qw) * cand[1]! + 2 * (qx * qz + qy * qw) * cand[2]!;
+    const hy = 2 * (qx * qy + qz * qw) * cand[0]! + (1 - 2 * (qx * qx + qz * qz)) * cand[1]! + 2 * (qy * qz - qx * qw) * cand[2]!;
+    const bh = Math.sqrt(hx * hx + hy * hy);
     if (bf > this.maxBiasN) { why = TARE_REFUSED_BIAS_FORCE; value = bf; limit = this.maxBiasN; }
+    else if (bh > this.maxHorizontalN) { why = TARE_REFUSED_HORIZONTAL; value = bh; limit = this.maxHorizontalN; }
     else if (bt > this.maxBiasNm) { why = TARE_REFUSED_BIAS_TORQUE; value = bt; limit = this.maxBiasNm; }
     else if (this.startTared) {
       const s0 = this.startBias;
