@@ -7,7 +7,8 @@
  */
 import type { Command } from 'commander';
 import { loadCell } from '../params/config.js';
-import type { ArmName } from '../params/spec.js';
+import type { ArmConfig } from '../params/config.js';
+import type { ArmName, ResolvedValue } from '../params/spec.js';
 import { ArmNodes } from '../ros/arm-nodes.js';
 import type { RclModule } from '../ros/rcl.js';
 import { RecordingRcl, type DryRunGraph } from '../ros/recorder.js';
@@ -96,6 +97,40 @@ function graphText(g: DryRunGraph): string {
   return L.join('\n');
 }
 
+/**
+ * Start the nodes of one arm on rcl: rclnodejs's own SIGINT handler is removed first (it would
+ * destroy the nodes before a final zero twist could be sent), then rcl is initialised with the
+ * ROS arguments. `stop` sends the final zero twist, destroys the nodes and shuts rcl down.
+ */
+export async function startNodes(rcl: RclModule, arm: ArmName, loaded: { config: ArmConfig; values: ReadonlyMap<string, ResolvedValue> }, rosArgs: readonly string[], opts: { autostart?: boolean } = {}): Promise<{ nodes: ArmNodes; stop: (why: string) => void }> {
+  rcl.removeSignalHandlers();
+  await rcl.init(undefined, ['node', 'antiphon', ...rosArgs]);
+  const nodes = new ArmNodes(rcl, { arm, config: loaded.config, values: loaded.values });
+  const log = logger('node');
+  log.info({ arm, nodes: [nodes.roles.name(), nodes.inference.name()], namespace: nodes.roles.namespace() }, 'antiphon nodes up (lifecycle node unconfigured)');
+  nodes.roles.spin();
+  nodes.inference.spin();
+  let auto: NodeJS.Timeout | undefined;
+  if (opts.autostart) {
+    // For cells whose bringup does not drive the lifecycle: configure, then activate once tared.
+    auto = setInterval(() => {
+      const s = nodes.state;
+      if (s === 'unconfigured') nodes.inference.configure();
+      else if (s === 'inactive') nodes.inference.activate();
+      else if (s === 'active' || s === 'finalized') clearInterval(auto);
+    }, 500);
+  }
+  return {
+    nodes,
+    stop: (why: string) => {
+      if (auto) clearInterval(auto);
+      log.info({ why }, 'shutting down: final zero twist, then the nodes are destroyed');
+      nodes.shutdown();
+      rcl.shutdown();
+    },
+  };
+}
+
 export function register(program: Command): void {
   program
     .command('node')
@@ -107,11 +142,12 @@ export function register(program: Command): void {
     .option('--json', 'with --dry-run: print the graph as JSON', false)
     .allowUnknownOption(true)
     .allowExcessArguments(true)
-    .action((opts: { arm: string; params?: string; autostart: boolean; dryRun: boolean; json: boolean }) =>
+    .action((opts: { arm: string; params?: string; autostart: boolean; dryRun: boolean; json: boolean }, cmd: Command) =>
       runCommand(opts.json, async () => {
         checkNodeOptions(opts, process.env);
         const arm = opts.arm as ArmName;
-        const rosArgs = rosArgsOf(process.argv);
+        // The ROS arguments as given (the program's raw argv), never as commander split them.
+        const rosArgs = rosArgsOf((cmd.parent as unknown as { rawArgs?: string[] } | null)?.rawArgs ?? process.argv);
         if (opts.dryRun) {
           const g = dryRun(arm, opts.params!, rosArgs);
           if (opts.json) printJson(g);
@@ -120,29 +156,10 @@ export function register(program: Command): void {
         }
         const cell = loadCell(opts.params);
         const rcl = await loadRclnodejs();
-        // rclnodejs destroys every node on SIGINT when imported: our handler must run first, to send a zero twist.
-        rcl.removeSignalHandlers();
-        await rcl.init(undefined, ['node', 'antiphon', ...rosArgs]);
-        const nodes = new ArmNodes(rcl, { arm, config: cell[arm].config, values: cell[arm].values });
-        const log = logger('node');
-        log.info({ arm, nodes: [nodes.roles.name(), nodes.inference.name()], namespace: nodes.roles.namespace() }, 'antiphon nodes up (lifecycle node unconfigured)');
-        nodes.roles.spin();
-        nodes.inference.spin();
-        let auto: NodeJS.Timeout | undefined;
-        if (opts.autostart) {
-          auto = setInterval(() => {
-            const s = nodes.state;
-            if (s === 'unconfigured') nodes.inference.configure();
-            else if (s === 'inactive') nodes.inference.activate();
-            else if (s === 'active' || s === 'finalized') clearInterval(auto);
-          }, 500);
-        }
+        const live = await startNodes(rcl, arm, cell[arm], rosArgs, { autostart: opts.autostart });
         await new Promise<void>((resolve) => {
           const stop = (signal: string) => {
-            if (auto) clearInterval(auto);
-            log.info({ signal }, 'shutting down: final zero twist, then the nodes are destroyed');
-            nodes.shutdown();
-            rcl.shutdown();
+            live.stop(signal);
             resolve();
           };
           process.once('SIGTERM', () => stop('SIGTERM'));
