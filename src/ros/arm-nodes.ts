@@ -36,7 +36,7 @@ import { OutputEncoder, StampedVector6Writer } from './encode.js';
 import { checkChanges, declaration, ownerOf, RCL_OWN, type Change } from './live-params.js';
 import { MarkerBuilder } from './markers.js';
 import { armQos, fromRmw, incompatibility, RMW, type ArmQos, type QosProfile } from './qos.js';
-import { CALLBACK, PARAMETER_TYPE, STATE, type RclLifecycleNode, type RclModule, type RclNode, type RclParameterValue, type RclPublisher, type RclSetParametersResult, type RclTriggerResponse } from './rcl.js';
+import { CALLBACK, PARAMETER_TYPE, stateLabel, type RclLifecycleNode, type RclModule, type RclNode, type RclParameterValue, type RclPublisher, type RclSetParametersResult, type RclTriggerResponse } from './rcl.js';
 import { INPUT_TYPES } from './topics.js';
 
 export const NODE_NAMES = { roles: 'antiphon_roles', inference: 'antiphon' } as const;
@@ -239,7 +239,7 @@ export class ArmNodes {
   }
 
   get state(): string {
-    return this.inference.currentState.label;
+    return stateLabel(this.inference.currentState);
   }
 
   // ---- parameters -------------------------------------------------------------------------
@@ -385,8 +385,7 @@ export class ArmNodes {
 
   /** Process shutdown: a final zero twist, then the nodes are destroyed (rclnodejs's SIGINT handler must be removed first). */
   shutdown(): void {
-    const s = this.inference.currentState.id;
-    if (s !== STATE.finalized) this.inference.shutdown();
+    if (this.state !== 'finalized') this.inference.shutdown();
     this.inference.destroy();
     this.roles.destroy();
   }

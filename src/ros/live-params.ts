@@ -138,17 +138,16 @@ export function checkChanges(arm: ArmName, values: ReadonlyMap<string, ResolvedV
     else lines.push(`    ${JSON.stringify(p.name)}: ${y}`);
   }
   if (problems.length) return { ok: false, reason: problems.join('; ') };
-  if (ours.length === 0) return { ok: true, config: undefined as never, values: new Map(values), changes: [], warnings: [] };
   let parsed;
   try {
-    parsed = parseParamsText(`/**:\n  ros__parameters:\n${lines.join('\n')}\n`, source);
+    parsed = ours.length ? parseParamsText(`/**:\n  ros__parameters:\n${lines.join('\n')}\n`, source) : undefined;
   } catch (err) {
     if (err instanceof InputError) return { ok: false, reason: err.problems.map((q) => `${q.where?.key ?? ''}: ${q.message}${q.hint ? ` (allowed: ${q.hint})` : ''}`).join('; ') };
     throw err;
   }
   const next = new Map(values);
   const changes: Change[] = [];
-  for (const e of parsed.sections.get('/**')!.values()) {
+  for (const e of parsed?.sections.get('/**')?.values() ?? []) {
     const prev = next.get(e.key)!;
     changes.push({ key: e.key, old: prev.value, value: e.value });
     next.set(e.key, { key: e.key, value: e.value, source: e.source, spec: prev.spec });

@@ -68,10 +68,18 @@ export interface RclNode {
   namespace(): string;
 }
 
-/** rclnodejs.lifecycle.State */
+/**
+ * rclnodejs.lifecycle.State: its JavaScript has `id` and `label` fields, its declarations only
+ * `asMessage()`; read it with stateLabel().
+ */
 export interface RclState {
-  readonly id: number;
-  readonly label: string;
+  readonly id?: number;
+  readonly label?: string;
+  asMessage?(): { id: number; label: string };
+}
+
+export function stateLabel(s: RclState): string {
+  return s.label ?? s.asMessage?.().label ?? 'unknown';
 }
 
 /** rclnodejs.lifecycle.LifecycleNode: a Node with the managed-node state machine. */
@@ -99,15 +107,17 @@ export interface RclNodeOptions {
 
 export interface RclModule {
   init(context?: undefined, argv?: string[]): Promise<void>;
-  Node: new (nodeName: string, namespace?: string, context?: undefined, options?: RclNodeOptions) => RclNode;
-  lifecycle: { LifecycleNode: new (nodeName: string, namespace?: string, context?: undefined, options?: RclNodeOptions) => RclLifecycleNode };
+  Node: new (nodeName: string, namespace?: string) => RclNode;
+  lifecycle: { LifecycleNode: new (nodeName: string, namespace?: string) => RclLifecycleNode };
   QoS: (new (history?: number, depth?: number, reliability?: number, durability?: number) => object) & {
     readonly profileSensorData: string;
     readonly profileDefault: string;
     readonly profileSystemDefault: string;
   };
   Parameter: new (name: string, type: number, value?: unknown) => object;
-  ParameterDescriptor: new (name: string, type: number, description?: string, readOnly?: boolean, range?: object) => object;
+  /** `range` is an instance made by FloatingPointRange or IntegerRange of the same module. */
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any
+  ParameterDescriptor: new (name: string, type: number, description?: string, readOnly?: boolean, range?: any) => object;
   FloatingPointRange: new (from: number, to: number, step?: number, tolerance?: number) => object;
   IntegerRange: new (from: bigint, to: bigint, step?: bigint) => object;
   removeROSArgs(argv: string[]): string[];

@@ -250,15 +250,15 @@ export class RecordingNode implements RclNode {
 }
 
 type Callback = (prev: RclState) => number;
-const state = (id: number): RclState => ({ id, label: ['unknown', 'unconfigured', 'inactive', 'active', 'finalized'][id]! });
+const state = (id: number): { id: number; label: string } => ({ id, label: ['unknown', 'unconfigured', 'inactive', 'active', 'finalized'][id]! });
 
 /** The managed-node state machine of rcl_lifecycle (primary states and the transitions antiphon drives). */
 export class RecordingLifecycleNode extends RecordingNode implements RclLifecycleNode {
   override readonly lifecycle = true;
   readonly transitions: { transition: string; from: string; to: string; result: number }[] = [];
-  private current = state(STATE.unconfigured);
+  private current: { id: number; label: string } = state(STATE.unconfigured);
   private readonly cbs = new Map<string, Callback>();
-  get currentState(): RclState {
+  get currentState(): { id: number; label: string } {
     return this.current;
   }
   registerOnConfigure(cb: Callback): void { this.cbs.set('configure', cb); }
@@ -268,7 +268,7 @@ export class RecordingLifecycleNode extends RecordingNode implements RclLifecycl
   registerOnShutdown(cb: Callback): void { this.cbs.set('shutdown', cb); }
   registerOnError(cb: Callback): void { this.cbs.set('error', cb); }
 
-  private transition(name: string, from: readonly number[], goal: number): RclState {
+  private transition(name: string, from: readonly number[], goal: number): { id: number; label: string } {
     if (!from.includes(this.current.id)) throw new Error(`transition ${name} is not valid from ${this.current.label}`);
     const prev = this.current;
     let r = 97;
@@ -285,11 +285,11 @@ export class RecordingLifecycleNode extends RecordingNode implements RclLifecycl
     this.transitions.push({ transition: name, from: prev.label, to: this.current.label, result: r });
     return this.current;
   }
-  configure(): RclState { return this.transition('configure', [STATE.unconfigured], STATE.inactive); }
-  activate(): RclState { return this.transition('activate', [STATE.inactive], STATE.active); }
-  deactivate(): RclState { return this.transition('deactivate', [STATE.active], STATE.inactive); }
-  cleanup(): RclState { return this.transition('cleanup', [STATE.inactive], STATE.unconfigured); }
-  shutdown(): RclState { return this.transition('shutdown', [STATE.unconfigured, STATE.inactive, STATE.active], STATE.finalized); }
+  configure(): { id: number; label: string } { return this.transition('configure', [STATE.unconfigured], STATE.inactive); }
+  activate(): { id: number; label: string } { return this.transition('activate', [STATE.inactive], STATE.active); }
+  deactivate(): { id: number; label: string } { return this.transition('deactivate', [STATE.active], STATE.inactive); }
+  cleanup(): { id: number; label: string } { return this.transition('cleanup', [STATE.inactive], STATE.unconfigured); }
+  shutdown(): { id: number; label: string } { return this.transition('shutdown', [STATE.unconfigured, STATE.inactive, STATE.active], STATE.finalized); }
 }
 
 /** A recording rcl module: every node created through it is kept in `nodes`. */
