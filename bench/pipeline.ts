@@ -5,7 +5,7 @@
  */
 import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../src/core/arm-step.js';
 import { WrenchFilter, type WrenchFilterConfig } from '../src/core/filter/index.js';
-import { INPUTS, Watchdog, type WatchdogInputs } from '../src/core/watchdog.js';
+import { INPUTS, Watchdog, watchdogInputs, type WatchdogInputs } from '../src/core/watchdog.js';
 import { loadCell, type ArmConfig, type ZoneConfig } from '../src/params/config.js';
 import { Rng } from '../src/util/rng.js';
 import { timeSamples, type SampleStats } from './harness.js';
@@ -35,10 +35,10 @@ export function benchFilterWatchdog(n = 1_000_000): SampleStats & { config: stri
   const lastSeen = new Float64Array(INPUTS.length).fill(0);
   const required = Uint8Array.of(1, 1, 1, 0);
   const joints = new Float64Array(6);
-  const x: WatchdogInputs = {
-    t_s: 0, compensated: filter.compensated, correction: filter.correction, impactFlag: false, impactScore: 0,
-    jointVelocity: joints, jointCount: 6, jointFinite: true, poseFinite: true, zoneFinite: true, lastSeen, required,
-  };
+  const x: WatchdogInputs = watchdogInputs({
+    compensated: filter.compensated, correction: filter.correction, bias: filter.bias, biasChange: filter.biasChange,
+    jointVelocity: joints, jointCount: 6, lastSeen, required,
+  });
   const views: Float64Array[] = Array.from({ length: STREAM }, (_, k) => stream.subarray(6 * k, 6 * k + 6));
   const stats = timeSamples(n, 20_000, (k) => {
     const t = k / 1000;

@@ -11,8 +11,9 @@
  * cell frame with the tool orientation for inference.
  */
 import type { ArmConfig } from '../params/config.js';
-import { WrenchFilter, type WrenchFilterConfig } from './filter/index.js';
+import { TARE_REFUSAL_TEXT, TARE_REFUSED, TARE_TAKEN, WrenchFilter, noiseCorrelationSamples, type WrenchFilterConfig } from './filter/index.js';
 import { Belief } from './belief.js';
+import { PartnerStopDetector } from './partner-stop.js';
 import { LISTENER, RoleScheduler, SPEAKER, type Role } from './roles.js';
 import { SubsetTable, TaskModel } from './task-model.js';
 import { INPUT, INPUTS, Watchdog, type InputName, type WatchdogInputs, type WatchdogSnapshot } from './watchdog.js';
@@ -21,6 +22,17 @@ import { INPUT, INPUTS, Watchdog, type InputName, type WatchdogInputs, type Watc
 export const ZONE_FREE = 0;
 export const ZONE_OCCUPIED = 1;
 export const ZONE_UNKNOWN = 2;
+
+/** `ArmOutputs.tareOutcome`: nothing happened, a tare was taken, a tare was refused. */
+export const TARE_OUTCOME_NONE = 0;
+export const TARE_OUTCOME_TAKEN = 1;
+export const TARE_OUTCOME_REFUSED = 2;
+
+/** What `requestTare` answers at once; a pending tare ends later in `tareOutcome`. */
+export interface TareRequestResult {
+  readonly status: 'pending' | 'refused';
+  readonly reason: string;
+}
 
 export interface ArmStepOptions {
   /** Joints reported in JointState (0 when no joint states are fed). */
@@ -66,6 +78,14 @@ export interface ArmOutputs {
    */
   committedHidden: number;
   committedOwn: number;
+  /** This sample: TARE_OUTCOME_NONE, _TAKEN or _REFUSED (a pending tare ended). */
+  tareOutcome: number;
+  /** Why the last tare was refused (empty when the last tare was taken or none ended). */
+  tareReason: string;
+  /** The last JointState carried velocities, so the joint-speed check runs. */
+  jointVelocityAvailable: boolean;
+  /** Partner-stop detector: the partner's speed over this arm's, over its window (NaN while not armed). */
+  partnerSpeedRatio: number;
 }
 
 export interface ArmStepSnapshot {
@@ -79,6 +99,8 @@ export interface ArmStepSnapshot {
   joint: Float64Array;
   pose: Float64Array;
   zones: Uint8Array;
+  partnerStop: Float64Array;
+  commitWeight: Float64Array;
 }
 
 export class ArmStep {
@@ -102,6 +124,9 @@ export class ArmStep {
   private jointFinite = true;
   private poseFinite = true;
   private zoneFinite = true;
+  private quatError = 0;
+  private jointVelAvailable = false;
+  private partnerHeldFlag = false;
   private readonly pose = Float64Array.of(0, 0, 0, 0, 0, 0, 1);
   private readonly zoneState: Uint8Array;
   private readonly lastSeen = new Float64Array(INPUTS.length).fill(Number.NaN);
@@ -119,6 +144,11 @@ export class ArmStep {
   private accVy = 0;
   private windowClean = true;
   private windowRole = -1;
+  /** Window usable for the partner-stop detector (no impact, hold, tare or NaN; any role). */
+  private dragClean = true;
+  /** Belief windows are not independent: each window's log-likelihood counts this much (≤ 1). */
+  readonly likelihoodScale: number;
+  readonly partnerStop: PartnerStopDetector;
   // Policy state.
   private targetVx = 0;
   private targetVy = 0;
@@ -135,6 +165,12 @@ export class ArmStep {
    */
   private committedHidden = 0;
   private committedOwn = 0;
+  /**
+   * Per own zone (task.own order): the probability that the partner did commit it, from the
+   * replica at the last switch to listener. The listener's likelihood hedges over the most
+   * doubtful one (a mixture of "committed" and "not committed").
+   */
+  private readonly commitWeight: Float64Array;
 
   // Scratch, preallocated.
   private readonly loglik: Float64Array;
@@ -144,12 +180,14 @@ export class ArmStep {
   private readonly marg: Float64Array;
   private readonly hiddenTable: SubsetTable;
   private readonly ownTable: SubsetTable;
+  private readonly hiddenTable2: SubsetTable;
+  private readonly loglik2: Float64Array;
 
   constructor(config: ArmConfig, options: ArmStepOptions = {}) {
     this.config = config;
     this.task = new TaskModel(config.task, config.policy, config.arm);
     this.filter = new WrenchFilter(config.wrench_filter as unknown as WrenchFilterConfig);
-    this.watchdog = new Watchdog(config.watchdog);
+    this.watchdog = new Watchdog(config.watchdog, config.wrench_filter.tare);
     this.roles = new RoleScheduler(config.roles, config.arm, this.task);
     this.hypotheses = 1 << this.task.hidden.length;
     this.belief = new Belief(this.hypotheses);
@@ -158,6 +196,9 @@ export class ArmStep {
     this.marg = new Float64Array(Math.max(this.task.hidden.length, this.task.own.length, 1));
     this.hiddenTable = new SubsetTable(this.task.hidden.length);
     this.ownTable = new SubsetTable(this.task.own.length);
+    this.hiddenTable2 = new SubsetTable(this.task.hidden.length);
+    this.loglik2 = new Float64Array(this.loglik.length);
+    this.commitWeight = new Float64Array(Math.max(1, this.task.own.length));
     this.jointCount = options.jointCount ?? 0;
     this.jointVel = new Float64Array(Math.max(64, this.jointCount));
     this.zoneState = new Uint8Array(this.task.n).fill(ZONE_UNKNOWN);
@@ -166,8 +207,13 @@ export class ArmStep {
     this.required[INPUT.joint_states] = (req.joint_states ?? this.jointCount > 0) ? 1 : 0;
     this.required[INPUT.tool_pose] = req.tool_pose === false ? 0 : 1;
     this.required[INPUT.zone_view] = (req.zone_view ?? this.task.n > 0) ? 1 : 0;
+    this.required[INPUT.hold_link] = (req.hold_link ?? config.watchdog.hold_link.enabled) ? 1 : 0;
     const fs = config.wrench_filter.sample_rate_hz;
     this.beliefEvery = Math.max(1, Math.round(fs / config.belief.update_rate_hz));
+    // Successive windows of the correction band share most of their noise: a window of n
+    // samples holds n / L independent ones, L the band's noise correlation length in samples.
+    this.likelihoodScale = Math.min(1, this.beliefEvery / noiseCorrelationSamples(this.filter.sos));
+    this.partnerStop = new PartnerStopDetector(config.watchdog.partner_stop, config.coupling.damping_n_s_m, fs / this.beliefEvery);
     this.policyEvery = Math.max(1, Math.round(fs / config.policy.update_rate_hz));
     // Stagger the policy update half a period after the belief update: a lower worst case per sample.
     this.policyCount = Math.floor(this.policyEvery / 2);
@@ -182,6 +228,14 @@ export class ArmStep {
       jointFinite: true,
       poseFinite: true,
       zoneFinite: true,
+      tared: false,
+      bias: this.filter.bias,
+      biasChange: this.filter.biasChange,
+      quaternionNormError: 0,
+      jointVelocityAbsent: false,
+      partnerStopped: false,
+      partnerSpeedRatio: Number.NaN,
+      partnerHeld: false,
       lastSeen: this.lastSeen,
       required: this.required,
     };
@@ -208,11 +262,19 @@ export class ArmStep {
       objectY: 0,
       committedHidden: 0,
       committedOwn: 0,
+      tareOutcome: TARE_OUTCOME_NONE,
+      tareReason: '',
+      jointVelocityAvailable: false,
+      partnerSpeedRatio: Number.NaN,
     };
     this.belief.marginals(this.task.hidden.length, this.out.hiddenOccupied);
   }
 
-  /** Latest joint velocities (rad/s). */
+  /**
+   * Latest joint velocities (rad/s). `count` is the number of velocities the message carried:
+   * 0 when it carried none, which leaves the joint-speed check unavailable (a hold with
+   * `joint_velocity_absent` when watchdog.require_joint_velocity is set).
+   */
   setJointState(t: number, velocity: ArrayLike<number>, count: number): void {
     const n = Math.min(count, this.jointVel.length);
     let finite = Number.isFinite(t);
@@ -224,18 +286,39 @@ export class ArmStep {
     this.jointCount = n;
     this.wdIn.jointCount = n;
     this.jointFinite = finite;
-    this.lastSeen[INPUT.joint_states] = t;
+    this.jointVelAvailable = n > 0;
+    // Only finite arrival times are kept: a NaN must not erase when the input last arrived.
+    if (Number.isFinite(t)) this.lastSeen[INPUT.joint_states] = t;
   }
 
-  /** Latest tool pose: position (m) and orientation quaternion in the cell frame. */
+  /**
+   * Latest tool pose: position (m) and orientation quaternion in the cell frame. The quaternion
+   * is normalised here, once, and the filter's payload model and the inference use that same
+   * rotation; a norm off 1 by more than watchdog.quaternion_norm_tolerance is an input fault
+   * (the previous orientation is kept).
+   */
   setToolPose(t: number, x: number, y: number, z: number, qx: number, qy: number, qz: number, qw: number): void {
     const p = this.pose;
-    p[0] = x; p[1] = y; p[2] = z; p[3] = qx; p[4] = qy; p[5] = qz; p[6] = qw;
-    let finite = Number.isFinite(t);
-    for (let k = 0; k < 7; k++) if (!Number.isFinite(p[k]!)) finite = false;
+    let finite = Number.isFinite(t) && Number.isFinite(x) && Number.isFinite(y) && Number.isFinite(z);
+    const nn = Math.sqrt(qx * qx + qy * qy + qz * qz + qw * qw);
+    if (!Number.isFinite(nn)) finite = false;
     this.poseFinite = finite;
-    if (finite) this.filter.setOrientation(qx, qy, qz, qw);
-    this.lastSeen[INPUT.tool_pose] = t;
+    this.quatError = Number.isFinite(nn) ? Math.abs(nn - 1) : Number.NaN;
+    if (finite) {
+      p[0] = x; p[1] = y; p[2] = z;
+      if (nn > 1e-9) {
+        const inv = 1 / nn;
+        p[3] = qx * inv; p[4] = qy * inv; p[5] = qz * inv; p[6] = qw * inv;
+        this.filter.setOrientation(p[3]!, p[4]!, p[5]!, p[6]!);
+      }
+    }
+    if (Number.isFinite(t)) this.lastSeen[INPUT.tool_pose] = t;
+  }
+
+  /** The partner's one-bit hold signal (only used with watchdog.hold_link.enabled). */
+  setPartnerHold(t: number, held: boolean): void {
+    this.partnerHeldFlag = held === true;
+    if (Number.isFinite(t)) this.lastSeen[INPUT.hold_link] = t;
   }
 
   /** What this arm's own area sensor reports, one state per zone in task order. */
@@ -245,12 +328,38 @@ export class ArmStep {
       const v = states[z];
       this.zoneState[z] = v === ZONE_FREE || v === ZONE_OCCUPIED ? v : ZONE_UNKNOWN;
     }
-    this.lastSeen[INPUT.zone_view] = t;
+    if (Number.isFinite(t)) this.lastSeen[INPUT.zone_view] = t;
     this.zoneFinite = Number.isFinite(t);
   }
 
-  requestTare(): void {
-    this.filter.requestTare();
+  /**
+   * Ask for a new tare. Accepted only while held or inhibited, or while the recommended twist
+   * and every measured joint speed are near zero (wrench_filter.tare.still_*); the still
+   * window's mean must then stay within the bias bounds, or the tare ends refused
+   * (`out.tareOutcome`, `out.tareReason`). Allocates only the answer (not a per-sample call).
+   */
+  requestTare(): TareRequestResult {
+    const f = this.filter;
+    if (f.tarePending) return { status: 'pending', reason: 'a tare is already waiting for a still window' };
+    if (!this.watchdog.held && !this.out.inhibited) {
+      const tw = this.out.twist;
+      const lin = Math.sqrt(tw[0]! * tw[0]! + tw[1]! * tw[1]! + tw[2]! * tw[2]!);
+      const tp = this.config.wrench_filter.tare;
+      if (lin > tp.still_twist_m_s) {
+        return { status: 'refused', reason: `the arm is moving: recommended speed ${lin.toPrecision(3)} m/s exceeds wrench_filter.tare.still_twist_m_s = ${tp.still_twist_m_s} m/s; hold the arm first` };
+      }
+      if (this.required[INPUT.joint_states] === 1 && !this.jointVelAvailable) {
+        return { status: 'refused', reason: 'joint speeds are unknown (JointState carries no velocities), so the arm cannot be shown still; hold the arm first' };
+      }
+      for (let j = 0; j < this.jointCount; j++) {
+        const qd = Math.abs(this.jointVel[j]!);
+        if (qd > tp.still_joint_rad_s) {
+          return { status: 'refused', reason: `joint ${j} moves at ${qd.toPrecision(3)} rad/s, above wrench_filter.tare.still_joint_rad_s = ${tp.still_joint_rad_s} rad/s; hold the arm first` };
+        }
+      }
+    }
+    f.requestTare();
+    return { status: 'pending', reason: 'waiting for a still window' };
   }
 
   requestReset(): { released: boolean; reason: string } {
@@ -274,21 +383,38 @@ export class ArmStep {
       this.rawFinite[k] = v;
       if (!Number.isFinite(v)) finite = false;
     }
-    if (finite) this.filter.step(wrench);
     const f = this.filter;
+    if (finite) f.step(wrench);
+    else f.tareOutcome = 0;
+    out.tareOutcome = TARE_OUTCOME_NONE;
+    if (f.tareOutcome === TARE_TAKEN) {
+      out.tareOutcome = TARE_OUTCOME_TAKEN;
+      out.tareReason = '';
+    } else if (f.tareOutcome === TARE_REFUSED) {
+      out.tareOutcome = TARE_OUTCOME_REFUSED;
+      out.tareReason = `${TARE_REFUSAL_TEXT[f.tareRefusedWhy]} (${f.tareRefusedValue.toPrecision(4)} > ${f.tareRefusedLimit})`;
+    }
     const wd = this.wdIn;
+    const wp = this.config.watchdog;
     wd.t_s = t;
     wd.impactFlag = f.impactFlag;
     wd.impactScore = f.impactScore;
     wd.jointFinite = this.jointFinite;
     wd.poseFinite = this.poseFinite;
     wd.zoneFinite = this.zoneFinite;
+    wd.tared = f.tared;
+    wd.quaternionNormError = this.required[INPUT.tool_pose] === 1 ? this.quatError : 0;
+    wd.jointVelocityAbsent = wp.require_joint_velocity && this.required[INPUT.joint_states] === 1 && !Number.isNaN(this.lastSeen[INPUT.joint_states]!) && !this.jointVelAvailable;
+    wd.partnerStopped = this.partnerStop.stopped;
+    wd.partnerSpeedRatio = this.partnerStop.ratio;
+    wd.partnerHeld = this.required[INPUT.hold_link] === 1 && this.partnerHeldFlag;
     // A non-finite raw sample must trip even though the filter skipped it.
     wd.compensated = finite ? f.compensated : this.rawFinite;
     let stop = this.watchdog.checkInputs(wd);
     // Only after the check: it sees the wrench's age as the gap since the previous sample, which
-    // replay and the simulated cell (no timer tick) would otherwise never see.
-    this.lastSeen[INPUT.wrench] = t;
+    // replay and the simulated cell (no timer tick) would otherwise never see. Only finite times
+    // are kept: a NaN-stamped sample must not erase the last arrival.
+    if (Number.isFinite(t)) this.lastSeen[INPUT.wrench] = t;
     stop = stop || !f.tared;
     const dt = Number.isNaN(this.lastT) ? 0 : Math.min(Math.max(t - this.lastT, 0), 0.1);
     if (t >= this.lastT || Number.isNaN(this.lastT)) this.lastT = t;
@@ -297,7 +423,7 @@ export class ArmStep {
     this.task.objectFromTool(this.config.arm, this.pose[0]!, this.pose[1]!, this.obj);
     const px = this.obj[0]!;
     const py = this.obj[1]!;
-    const role = this.roles.update(t, px, this.watchdog.held || f.impactFlag);
+    const role = this.roles.update(t, this.watchdog.held);
     if (role !== this.lastRole) {
       this.commitAtSwitch(role);
       this.lastRole = role;
@@ -306,9 +432,15 @@ export class ArmStep {
     // Belief: accumulate the correction force (cell frame) and this arm's own command.
     this.accumulate();
     if (this.beliefCount === 0) this.windowRole = role;
-    if (role !== this.windowRole || f.impactFlag || this.watchdog.held || !f.tared || !finite) this.windowClean = false;
+    const unusable = f.impactFlag || this.watchdog.held || !f.tared || !finite || stop;
+    if (role !== this.windowRole || unusable) this.windowClean = false;
+    if (unusable) this.dragClean = false;
     out.beliefUpdated = false;
     if (++this.beliefCount >= this.beliefEvery) {
+      const n = this.beliefEvery;
+      if (this.dragClean) this.partnerStop.update(this.accFx / n, this.accFy / n, this.accVx / n, this.accVy / n);
+      else this.partnerStop.reset();
+      this.dragClean = true;
       if (this.windowClean) {
         if (role === LISTENER && this.task.hidden.length > 0) {
           this.updateBelief(px, py);
@@ -361,6 +493,8 @@ export class ArmStep {
     out.objectY = py;
     out.committedHidden = this.committedHidden;
     out.committedOwn = this.committedOwn;
+    out.jointVelocityAvailable = this.jointVelAvailable;
+    out.partnerSpeedRatio = this.partnerStop.ratio;
     return out;
   }
 
@@ -396,8 +530,8 @@ export class ArmStep {
 
   /**
    * The speaker's legible velocity for private hypothesis `hyp` of a table tabulated over
-   * the speaker's private zones (with what it knows as the base); `mean` is its velocity
-   * averaged over all those hypotheses (what an uninformed listener expects). Writes v2.
+   * the speaker's private zones (with what it knows as the base); (meanX, meanY) is its mean
+   * over the alternatives the listener still holds (legMean). Writes v2.
    */
   private legible(table: SubsetTable, hyp: number, meanX: number, meanY: number): void {
     this.task.velocityOf(table, hyp, this.v2);
@@ -414,17 +548,56 @@ export class ArmStep {
     this.v2[1] = vy;
   }
 
-  /** Mean velocity over every hypothesis of a table. Writes v2. */
-  private meanOver(table: SubsetTable): void {
+  /** Uniform mean velocity over the hypotheses of a table whose bits include `need` (table bit space). Writes v2. */
+  private consistentMean(table: SubsetTable, need: number): void {
     const n = table.size;
-    let sx = 0, sy = 0;
+    let sx = 0, sy = 0, k = 0;
     for (let h = 0; h < n; h++) {
+      if ((h & need) !== need) continue;
       this.task.velocityOf(table, h, this.v2);
       sx += this.v2[0]!;
       sy += this.v2[1]!;
+      k++;
     }
-    this.v2[0] = sx / n;
-    this.v2[1] = sy / n;
+    this.v2[0] = sx / k;
+    this.v2[1] = sy / k;
+  }
+
+  /** Map a zone-index mask onto the bit space of a zone list (bit b: list[b]). */
+  private static toListBits(list: Int32Array, zoneMask: number): number {
+    let m = 0;
+    for (let b = 0; b < list.length; b++) if ((zoneMask >>> list[b]!) & 1) m |= 1 << b;
+    return m;
+  }
+
+  /**
+   * The mean the speaker exaggerates away from: its velocity averaged uniformly over the
+   * hypotheses the listener still holds, i.e. those in which every zone of `list` already
+   * committed (`committed`, a zone-index mask) is occupied. Both arms compute it from common
+   * knowledge only. (A mean weighted by the replica of the listener's belief was measured
+   * worse: replica and belief differ by the noise, which biases every prediction.) Writes v2.
+   */
+  private legMean(table: SubsetTable, list: Int32Array, committed: number): void {
+    this.consistentMean(table, ArmStep.toListBits(list, committed));
+  }
+
+  /**
+   * Log-likelihood of each hidden hypothesis for the window's mean correction force (fx, fy)
+   * and own velocity (vx, vy), with the speaker acting on `known`. Writes `into`.
+   */
+  private scoreSpeaker(table: SubsetTable, known: number, fx: number, fy: number, vx: number, vy: number, into: Float64Array): void {
+    const task = this.task;
+    task.tabulate(task.hidden, known, table);
+    this.legMean(table, task.hidden, this.committedHidden);
+    const mx = this.v2[0]!, my = this.v2[1]!;
+    const c = this.config.coupling.damping_n_s_m;
+    const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
+    for (let h = 0; h < this.hypotheses; h++) {
+      this.legible(table, h, mx, my);
+      const rx = fx - c * (this.v2[0]! - vx);
+      const ry = fy - c * (this.v2[1]! - vy);
+      into[h] = -(rx * rx + ry * ry) * k;
+    }
   }
 
   private updateBelief(px: number, py: number): void {
@@ -432,19 +605,35 @@ export class ArmStep {
     task.prepare(px, py);
     const n = this.beliefEvery;
     const fx = this.accFx / n, fy = this.accFy / n, vx = this.accVx / n, vy = this.accVy / n;
-    const c = this.config.coupling.damping_n_s_m;
-    const inv2s2 = 1 / (2 * this.config.belief.noise_force_n ** 2);
     // The partner (speaker) knows the shared zones as this arm sees them, its own (our hidden)
     // zones, and what it learned of ours in its last listening slot (reproduced here).
     const known = this.observedMask(task.shared) | this.committedOwn;
-    task.tabulate(task.hidden, known, this.hiddenTable);
-    this.meanOver(this.hiddenTable);
-    const mx = this.v2[0]!, my = this.v2[1]!;
-    for (let h = 0; h < this.hypotheses; h++) {
-      this.legible(this.hiddenTable, h, mx, my);
-      const rx = fx - c * (this.v2[0]! - vx);
-      const ry = fy - c * (this.v2[1]! - vy);
-      this.loglik[h] = -(rx * rx + ry * ry) * inv2s2;
+    // Whether the partner really committed an own zone is not common knowledge: hedge over the
+    // most doubtful one, scoring the speaker both with and without it.
+    let doubt = -1;
+    let doubtU = 0.0196; // w (1 - w) at w = 0.02 or 0.98: surer than that counts as certain
+    for (let b = 0; b < task.own.length; b++) {
+      const w = this.commitWeight[b]!;
+      const u = w * (1 - w);
+      if (u > doubtU) {
+        doubtU = u;
+        doubt = b;
+      }
+    }
+    if (doubt === -1) {
+      this.scoreSpeaker(this.hiddenTable, known, fx, fy, vx, vy, this.loglik);
+    } else {
+      const bit = 1 << task.own[doubt]!;
+      const w = this.commitWeight[doubt]!;
+      this.scoreSpeaker(this.hiddenTable, known | bit, fx, fy, vx, vy, this.loglik);
+      this.scoreSpeaker(this.hiddenTable2, known & ~bit, fx, fy, vx, vy, this.loglik2);
+      const lw = Math.log(w), lw0 = Math.log(1 - w);
+      for (let h = 0; h < this.hypotheses; h++) {
+        const a = lw + this.loglik[h]!;
+        const b = lw0 + this.loglik2[h]!;
+        const m = a > b ? a : b;
+        this.loglik[h] = m + Math.log(Math.exp(a - m) + Math.exp(b - m));
+      }
     }
     this.belief.update(this.loglik, this.config.belief.forgetting);
     this.belief.marginals(task.hidden.length, this.out.hiddenOccupied);
@@ -453,7 +642,7 @@ export class ArmStep {
   /**
    * The partner's listener update, reproduced: it feels f = c (v_own - v_partner) + noise and
    * compares with c (speaker policy(h) - v_partner), so its expected log-likelihood of our
-   * private hypothesis h is -c^2 |v_own - policy(h)|^2 / (2 sigma^2).
+   * private hypothesis h is -c^2 |v_own - policy(h)|^2 / (2 sigma^2), at the same scale.
    */
   private updateReplica(px: number, py: number): void {
     const task = this.task;
@@ -461,33 +650,54 @@ export class ArmStep {
     const n = this.beliefEvery;
     const vx = this.accVx / n, vy = this.accVy / n;
     const c = this.config.coupling.damping_n_s_m;
-    const inv2s2 = 1 / (2 * this.config.belief.noise_force_n ** 2);
+    const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
     const known = this.observedMask(task.shared) | this.committedHidden;
     task.tabulate(task.own, known, this.ownTable);
-    this.meanOver(this.ownTable);
+    this.legMean(this.ownTable, task.own, this.committedOwn);
     const mx = this.v2[0]!, my = this.v2[1]!;
     for (let h = 0; h < this.replica.n; h++) {
       this.legible(this.ownTable, h, mx, my);
       const rx = c * (vx - this.v2[0]!);
       const ry = c * (vy - this.v2[1]!);
-      this.loglik[h] = -(rx * rx + ry * ry) * inv2s2;
+      this.loglik[h] = -(rx * rx + ry * ry) * k;
     }
     this.replica.update(this.loglik, this.config.belief.forgetting);
   }
 
-  /** Commit what was learned into common knowledge when the role changes. */
+  /**
+   * Commit what was learned into common knowledge when the role changes. Commitments are
+   * sticky: a zone is committed once its marginal reaches commit_probability and stays so
+   * while it holds release_probability, on both arms by the same rule (belief and replica).
+   */
   private commitAtSwitch(role: Role): void {
-    const th = this.config.belief.commit_probability;
+    const bp = this.config.belief;
     if (role === SPEAKER) {
       // Turning speaker: what I inferred of the partner's zones while listening.
       this.belief.marginals(this.task.hidden.length, this.marg);
-      this.committedHidden = 0;
-      for (let b = 0; b < this.task.hidden.length; b++) if (this.marg[b]! >= th) this.committedHidden |= 1 << this.task.hidden[b]!;
+      let m = 0;
+      for (let b = 0; b < this.task.hidden.length; b++) {
+        const bit = 1 << this.task.hidden[b]!;
+        const th = (this.committedHidden & bit) !== 0 ? bp.release_probability : bp.commit_probability;
+        if (this.marg[b]! >= th) m |= bit;
+      }
+      this.committedHidden = m;
     } else {
-      // Turning listener: what the partner inferred of my zones while I spoke.
+      // Turning listener: what the partner inferred of my zones while I spoke, from the replica.
+      // The partner's belief is the replica plus noise: with a calibrated likelihood its log-odds
+      // spread with a variance about twice their size (a Gaussian log-likelihood ratio's
+      // variance is twice its mean), which gives the chance that it crossed the threshold.
       this.replica.marginals(this.task.own.length, this.marg);
-      this.committedOwn = 0;
-      for (let b = 0; b < this.task.own.length; b++) if (this.marg[b]! >= th) this.committedOwn |= 1 << this.task.own[b]!;
+      let m = 0;
+      for (let b = 0; b < this.task.own.length; b++) {
+        const bit = 1 << this.task.own[b]!;
+        const th = (this.committedOwn & bit) !== 0 ? bp.release_probability : bp.commit_probability;
+        const lo = logit(this.marg[b]!);
+        const spread = Math.sqrt(Math.max(2 * Math.abs(lo), 0.25));
+        const w = normalCdf((lo - logit(th)) / spread);
+        this.commitWeight[b] = w;
+        if (this.marg[b]! >= th) m |= bit;
+      }
+      this.committedOwn = m;
     }
   }
 
@@ -498,10 +708,10 @@ export class ArmStep {
     const own = this.observedMask(task.own);
     if (role === SPEAKER) {
       // Act on my own view and common knowledge only; exaggerate what tells my view from
-      // the alternatives the partner still holds.
+      // the alternatives the partner still holds (uniform over what is not yet committed).
       const known = shared | this.committedHidden;
       task.tabulate(task.own, known, this.ownTable);
-      this.meanOver(this.ownTable);
+      this.legMean(this.ownTable, task.own, this.committedOwn);
       const mx = this.v2[0]!, my = this.v2[1]!;
       let hyp = 0;
       for (let b = 0; b < task.own.length; b++) if ((own >>> task.own[b]!) & 1) hyp |= 1 << b;
@@ -539,11 +749,14 @@ export class ArmStep {
       replica: this.replica.snapshot(),
       numbers: Float64Array.of(this.beliefCount, this.policyCount, this.accFx, this.accFy, this.accVx, this.accVy, this.windowClean ? 1 : 0,
         this.targetVx, this.targetVy, this.cmdVx, this.cmdVy, this.lastT, this.jointCount, this.jointFinite ? 1 : 0, this.poseFinite ? 1 : 0, this.zoneFinite ? 1 : 0,
-        this.lastRole, this.committedHidden, this.committedOwn, this.windowRole),
+        this.lastRole, this.committedHidden, this.committedOwn, this.windowRole,
+        this.dragClean ? 1 : 0, this.quatError, this.jointVelAvailable ? 1 : 0, this.partnerHeldFlag ? 1 : 0),
       lastSeen: Float64Array.from(this.lastSeen),
       joint: Float64Array.from(this.jointVel),
       pose: Float64Array.from(this.pose),
       zones: Uint8Array.from(this.zoneState),
+      partnerStop: this.partnerStop.snapshot(),
+      commitWeight: Float64Array.from(this.commitWeight),
     };
   }
 
@@ -563,6 +776,12 @@ export class ArmStep {
     this.poseFinite = n[14] === 1;
     this.zoneFinite = n[15] === 1;
     [this.lastRole, this.committedHidden, this.committedOwn, this.windowRole] = [n[16]!, n[17]!, n[18]!, n[19]!];
+    this.dragClean = n[20] === 1;
+    this.quatError = n[21]!;
+    this.jointVelAvailable = n[22] === 1;
+    this.partnerHeldFlag = n[23] === 1;
+    this.partnerStop.restore(s.partnerStop);
+    this.commitWeight.set(s.commitWeight);
     this.lastSeen.set(s.lastSeen);
     this.jointVel.set(s.joint);
     this.pose.set(s.pose);
@@ -599,4 +818,19 @@ export class ArmStep {
     const self = this as unknown as Record<string, unknown>;
     for (const key of Object.keys(fresh)) self[key] = (fresh as unknown as Record<string, unknown>)[key];
   }
+}
+
+function logit(p: number): number {
+  const q = Math.min(Math.max(p, 1e-12), 1 - 1e-12);
+  return Math.log(q / (1 - q));
+}
+
+/** Standard normal distribution function (erf by Abramowitz & Stegun 7.1.26, |error| < 1.5e-7). */
+function normalCdf(x: number): number {
+  if (x === Number.POSITIVE_INFINITY) return 1;
+  if (x === Number.NEGATIVE_INFINITY) return 0;
+  const z = Math.abs(x) / Math.SQRT2;
+  const t = 1 / (1 + 0.3275911 * z);
+  const y = 1 - ((((1.061405429 * t - 1.453152027) * t + 1.421413741) * t - 0.284496736) * t + 0.254829592) * t * Math.exp(-z * z);
+  return x >= 0 ? 0.5 * (1 + y) : 0.5 * (1 - y);
 }

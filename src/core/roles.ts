@@ -5,11 +5,16 @@
  * - alternating: slots of `period_s` on the shared clock (ROS, bag or sim time); this arm
  *   speaks in slots where (slot + phase) is even, so arms with opposite phases hold opposite
  *   roles.
- * - adaptive: both arms compute the same assignment from common knowledge only: the arm that
- *   observes the zone nearest ahead of the object speaks (with hysteresis and a minimum
- *   dwell); with no such zone ahead it falls back to the alternating clock.
+ * - adaptive: slots of `period_s` on the shared clock, shared out by how much each arm has to
+ *   say: the arm with n_own private zones (seen by it alone) speaks in n_own of every
+ *   n_left + n_right slots, spread evenly; an arm with no private zone only listens. The role
+ *   is a function of the clock and the shared task alone, so the two arms' roles are opposite
+ *   by construction (no arm's own position estimate enters: two estimates a few millimetres
+ *   apart would put both arms in the same role near every decision boundary). Without private
+ *   zones it alternates like the alternating scheduler.
  *
- * A switch is never made during an impact or a hold: the role is kept and the switch deferred.
+ * A switch is never made during a hold (the twist is zero then): the role is kept and the
+ * switch deferred until the hold is released.
  */
 import type { RolesParams } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
@@ -26,16 +31,19 @@ export class RoleScheduler {
   switchDeferred = false;
   switches = 0;
   private lastSwitchT = Number.NEGATIVE_INFINITY;
-  /** Adaptive: index of the zone that holds the turn (-1: none, clock fall-back). */
-  private turnZone = -1;
   private started = false;
+  /** Adaptive: private zones of the left and the right arm (from the shared task). */
+  private readonly nLeft: number;
+  private readonly nRight: number;
 
   constructor(
     readonly p: RolesParams,
     readonly arm: ArmName,
-    private readonly task: TaskModel,
+    task: TaskModel,
   ) {
     this.role = p.scheduler === 'fixed' ? (p.fixed_role === 'speaker' ? SPEAKER : LISTENER) : SPEAKER;
+    this.nLeft = task.zones.filter((z) => z.observed_by === 'left').length;
+    this.nRight = task.zones.filter((z) => z.observed_by === 'right').length;
   }
 
   private clockRole(t: number): Role {
@@ -45,10 +53,8 @@ export class RoleScheduler {
     return ((slot + this.p.phase) & 1) === 0 ? SPEAKER : LISTENER;
   }
 
-  /**
-   * Update the role at time t for object position (px, py). `hold` defers any switch.
-   */
-  update(t: number, px: number, hold: boolean): Role {
+  /** Update the role at time t (s, shared clock). `hold` defers any switch. */
+  update(t: number, hold: boolean): Role {
     let want: Role;
     switch (this.p.scheduler) {
       case 'fixed':
@@ -59,7 +65,7 @@ export class RoleScheduler {
         want = this.clockRole(t);
         break;
       case 'adaptive':
-        want = this.adaptiveRole(t, px);
+        want = this.adaptiveRole(t);
         break;
     }
     if (!this.started) {
@@ -81,25 +87,21 @@ export class RoleScheduler {
     return this.role;
   }
 
-  private adaptiveRole(t: number, px: number): Role {
-    const a = this.p.adaptive;
-    const best = this.task.nearestAheadPrivate(px);
-    let zone = this.turnZone;
-    if (zone === -1 || best === -1 || this.task.passed(zone, px)) {
-      zone = best;
-    } else if (best !== zone && this.task.gapAhead(best, px) + a.hysteresis_m < this.task.gapAhead(zone, px)) {
-      zone = best;
-    }
-    if (zone !== this.turnZone && t - this.lastSwitchT < a.min_dwell_s && this.started) zone = this.turnZone;
-    this.turnZone = zone;
-    if (zone === -1) return this.clockRole(t);
-    this.slot = zone;
-    this.timeToSwitch_s = -1;
-    return this.task.zones[zone]!.observed_by === this.arm ? SPEAKER : LISTENER;
+  private adaptiveRole(t: number): Role {
+    const total = this.nLeft + this.nRight;
+    if (total === 0) return this.clockRole(t);
+    const slot = Math.floor(t / this.p.period_s);
+    this.slot = slot;
+    this.timeToSwitch_s = (slot + 1) * this.p.period_s - t;
+    // The left arm speaks in slot k when ceil((k+1) nL / N) > ceil(k nL / N): nL of every N
+    // slots, evenly spread (k taken modulo N, so the count never grows large).
+    const k = ((slot % total) + total) % total;
+    const leftSpeaks = Math.ceil(((k + 1) * this.nLeft) / total) > Math.ceil((k * this.nLeft) / total);
+    return leftSpeaks === (this.arm === 'left') ? SPEAKER : LISTENER;
   }
 
   snapshot(): number[] {
-    return [this.role, this.slot, this.timeToSwitch_s, this.switchDeferred ? 1 : 0, this.switches, this.lastSwitchT, this.turnZone, this.started ? 1 : 0];
+    return [this.role, this.slot, this.timeToSwitch_s, this.switchDeferred ? 1 : 0, this.switches, this.lastSwitchT, this.started ? 1 : 0];
   }
   restore(s: readonly number[]): void {
     this.role = s[0] as Role;
@@ -108,7 +110,6 @@ export class RoleScheduler {
     this.switchDeferred = s[3] === 1;
     this.switches = s[4]!;
     this.lastSwitchT = s[5]!;
-    this.turnZone = s[6]!;
-    this.started = s[7] === 1;
+    this.started = s[6] === 1;
   }
 }

@@ -23,14 +23,21 @@ export const CHECKS = [
   'non_finite',
   'time_backwards',
   'impact',
+  'force_untared',
+  'torque_untared',
+  'time_future',
+  'quaternion_norm',
+  'joint_velocity_absent',
+  'partner_stop',
+  'partner_hold',
 ] as const;
 export type CheckName = (typeof CHECKS)[number];
 export const CHECK = Object.fromEntries(CHECKS.map((c, k) => [c, k])) as { readonly [K in CheckName]: number };
 
 /** Input streams whose freshness is watched. */
-export const INPUTS = ['wrench', 'joint_states', 'tool_pose', 'zone_view'] as const;
+export const INPUTS = ['wrench', 'joint_states', 'tool_pose', 'zone_view', 'hold_link'] as const;
 export type InputName = (typeof INPUTS)[number];
-export const INPUT = { wrench: 0, joint_states: 1, tool_pose: 2, zone_view: 3 } as const;
+export const INPUT = { wrench: 0, joint_states: 1, tool_pose: 2, zone_view: 3, hold_link: 4 } as const;
 
 export interface Trip {
   check: number;
@@ -58,15 +65,70 @@ export interface WatchdogInputs {
   poseFinite: boolean;
   /** False when the last zone view came with a non-finite time. */
   zoneFinite: boolean;
+  /**
+   * Whether the sensor has been tared. Before the first tare the bias is unknown (the held
+   * object's weight reads as force), so the correction-band checks are skipped; the raw and
+   * untared limits still apply.
+   */
+  tared: boolean;
+  /** Current bias and its change from the start-up tare (sensor frame), from the filter. */
+  bias: Float64Array;
+  biasChange: Float64Array;
+  /** |norm − 1| of the last tool-pose quaternion (0 when none arrived; NaN for a non-finite one). */
+  quaternionNormError: number;
+  /** The last JointState carried no velocities while the cell requires them. */
+  jointVelocityAbsent: boolean;
+  /** The partner-stop detector's verdict and its partner-to-own speed ratio. */
+  partnerStopped: boolean;
+  partnerSpeedRatio: number;
+  /** The hold link reports the partner held (only with watchdog.hold_link.enabled). */
+  partnerHeld: boolean;
   /** Last arrival time per input (s), NaN when never received. */
   lastSeen: Float64Array;
   /** Which inputs are required (1) or ignored (0), per INPUTS order. */
   required: Uint8Array;
 }
 
+/** A WatchdogInputs with nothing wrong and nothing seen, then `fields` on top (set-up time, not per sample). */
+export function watchdogInputs(fields: Partial<WatchdogInputs> = {}): WatchdogInputs {
+  return {
+    t_s: 0,
+    compensated: new Float64Array(6),
+    correction: new Float64Array(6),
+    impactFlag: false,
+    impactScore: 0,
+    jointVelocity: new Float64Array(0),
+    jointCount: 0,
+    jointFinite: true,
+    poseFinite: true,
+    zoneFinite: true,
+    tared: true,
+    bias: new Float64Array(6),
+    biasChange: new Float64Array(6),
+    quaternionNormError: 0,
+    jointVelocityAbsent: false,
+    partnerStopped: false,
+    partnerSpeedRatio: Number.NaN,
+    partnerHeld: false,
+    lastSeen: new Float64Array(INPUTS.length).fill(Number.NaN),
+    required: new Uint8Array(INPUTS.length),
+    ...fields,
+  };
+}
+
+/** Bounds the tare works within: the untared checks allow the largest bias on top of the tared limits. */
+export interface UntaredLimits {
+  readonly max_bias_n: number;
+  readonly max_bias_nm: number;
+}
+
 export class Watchdog {
   private readonly p: WatchdogParams;
   private readonly staleLimit: Float64Array;
+  private readonly untaredForceLimit: number;
+  private readonly untaredTorqueLimit: number;
+  /** Inputs whose arrival was recorded at least once (an input cannot go back to "never seen"). */
+  private readonly everSeen = new Uint8Array(INPUTS.length);
   private readonly tripPool: Trip[];
   private tripCount = 0;
   private readonly seen = new Uint8Array(CHECKS.length);
@@ -80,9 +142,11 @@ export class Watchdog {
   /** True until every required input has arrived once; the twist is zero meanwhile (not latched). */
   waitingForInputs = true;
 
-  constructor(p: WatchdogParams) {
+  constructor(p: WatchdogParams, untared: UntaredLimits = { max_bias_n: Number.POSITIVE_INFINITY, max_bias_nm: Number.POSITIVE_INFINITY }) {
     this.p = p;
-    this.staleLimit = Float64Array.of(p.stale_after_s.wrench, p.stale_after_s.joint_states, p.stale_after_s.tool_pose, p.stale_after_s.zone_view);
+    this.staleLimit = Float64Array.of(p.stale_after_s.wrench, p.stale_after_s.joint_states, p.stale_after_s.tool_pose, p.stale_after_s.zone_view, p.stale_after_s.hold_link);
+    this.untaredForceLimit = p.force_limit_n + untared.max_bias_n;
+    this.untaredTorqueLimit = p.torque_limit_nm + untared.max_bias_nm;
     this.tripPool = Array.from({ length: MAX_TRIPS }, () => ({ check: 0, input: '', value: 0, limit: 0, t_s: 0 }));
   }
 
@@ -168,15 +232,43 @@ export class Watchdog {
     if (finite) {
       const w = x.compensated;
       const c = x.correction;
-      const f = Math.sqrt(w[0]! * w[0]! + w[1]! * w[1]! + w[2]! * w[2]!);
-      const tq = Math.sqrt(w[3]! * w[3]! + w[4]! * w[4]! + w[5]! * w[5]!);
-      const fc = Math.sqrt(c[0]! * c[0]! + c[1]! * c[1]! + c[2]! * c[2]!);
-      const tc = Math.sqrt(c[3]! * c[3]! + c[4]! * c[4]! + c[5]! * c[5]!);
+      const b = x.bias;
+      const d = x.biasChange;
+      // Tared force, and the same force referred to the start-up bias (a later tare moves the
+      // bias by at most max_change: it must not hide a squeeze either way): the larger counts.
+      const f = Math.max(norm3(w[0]!, w[1]!, w[2]!), norm3(w[0]! + d[0]!, w[1]! + d[1]!, w[2]! + d[2]!));
+      const tq = Math.max(norm3(w[3]!, w[4]!, w[5]!), norm3(w[3]! + d[3]!, w[4]! + d[4]!, w[5]! + d[5]!));
+      // Untared: raw minus the payload model, whatever the tare.
+      const fu = norm3(w[0]! + b[0]!, w[1]! + b[1]!, w[2]! + b[2]!);
+      const tu = norm3(w[3]! + b[3]!, w[4]! + b[4]!, w[5]! + b[5]!);
       if (f > p.force_limit_n) { this.trip(CHECK.force_raw, 'wrench', f, p.force_limit_n, t); bad = true; }
       if (tq > p.torque_limit_nm) { this.trip(CHECK.torque_raw, 'wrench', tq, p.torque_limit_nm, t); bad = true; }
-      if (fc > p.correction_force_limit_n) { this.trip(CHECK.force_correction, 'wrench', fc, p.correction_force_limit_n, t); bad = true; }
-      if (tc > p.correction_torque_limit_nm) { this.trip(CHECK.torque_correction, 'wrench', tc, p.correction_torque_limit_nm, t); bad = true; }
+      if (fu > this.untaredForceLimit) { this.trip(CHECK.force_untared, 'wrench', fu, this.untaredForceLimit, t); bad = true; }
+      if (tu > this.untaredTorqueLimit) { this.trip(CHECK.torque_untared, 'wrench', tu, this.untaredTorqueLimit, t); bad = true; }
+      if (x.tared) {
+        const fc = Math.max(norm3(c[0]!, c[1]!, c[2]!), norm3(c[0]! + d[0]!, c[1]! + d[1]!, c[2]! + d[2]!));
+        const tc = Math.max(norm3(c[3]!, c[4]!, c[5]!), norm3(c[3]! + d[3]!, c[4]! + d[4]!, c[5]! + d[5]!));
+        if (fc > p.correction_force_limit_n) { this.trip(CHECK.force_correction, 'wrench', fc, p.correction_force_limit_n, t); bad = true; }
+        if (tc > p.correction_torque_limit_nm) { this.trip(CHECK.torque_correction, 'wrench', tc, p.correction_torque_limit_nm, t); bad = true; }
+      }
       if (x.impactFlag && p.on_impact === 'hold') { this.trip(CHECK.impact, 'wrench', x.impactScore, 1, t); bad = true; }
+    }
+    const qe = x.quaternionNormError;
+    if (!(qe <= p.quaternion_norm_tolerance)) {
+      this.trip(CHECK.quaternion_norm, 'tool_pose', qe, p.quaternion_norm_tolerance, t);
+      bad = true;
+    }
+    if (x.jointVelocityAbsent) {
+      this.trip(CHECK.joint_velocity_absent, 'joint_states', 0, 0, t);
+      bad = true;
+    }
+    if (x.partnerStopped) {
+      this.trip(CHECK.partner_stop, 'wrench', x.partnerSpeedRatio, p.partner_stop.speed_ratio, t);
+      bad = true;
+    }
+    if (x.partnerHeld) {
+      this.trip(CHECK.partner_hold, 'hold_link', 1, 0, t);
+      bad = true;
     }
     for (let j = 0; j < x.jointCount; j++) {
       const qd = Math.abs(x.jointVelocity[j]!);
@@ -185,15 +277,34 @@ export class Watchdog {
         bad = true;
       }
     }
-    // Freshness: an input never seen keeps the arm waiting (not latched); once seen, a gap trips.
+    if (this.checkFreshness(t, x.lastSeen, x.required)) bad = true;
+    this.updateClear(t, bad);
+    return this.held || this.waitingForInputs;
+  }
+
+  /**
+   * Freshness of every required input at time t: one never seen keeps the arm waiting (not
+   * latched); once seen, a gap longer than its limit trips `stale_input`, an arrival later than
+   * t + future_tolerance_s trips `time_future` (its age would be negative and never grow), and
+   * a non-finite arrival time trips `non_finite`. Sets `waitingForInputs`; true when one tripped.
+   */
+  private checkFreshness(t: number, lastSeen: Float64Array, required: Uint8Array): boolean {
+    let bad = false;
     let waiting = false;
     for (let k = 0; k < INPUTS.length; k++) {
-      if (x.required[k] === 0) continue;
-      const last = x.lastSeen[k]!;
+      if (required[k] !== 1) continue;
+      const last = lastSeen[k]!;
       if (Number.isNaN(last)) {
-        waiting = true;
+        if (this.everSeen[k] === 1) {
+          // Seen before and now unknown: the arrival was lost, which is as stale as it gets.
+          this.trip(CHECK.stale_input, INPUTS[k]!, Number.POSITIVE_INFINITY, this.staleLimit[k]!, t);
+          bad = true;
+        } else {
+          waiting = true;
+        }
         continue;
       }
+      this.everSeen[k] = 1;
       if (!Number.isFinite(last)) {
         // An input stamped at infinity would never look old: a non-finite time trips.
         this.trip(CHECK.non_finite, INPUTS[k]!, last, 0, t);
@@ -204,11 +315,13 @@ export class Watchdog {
       if (age > this.staleLimit[k]!) {
         this.trip(CHECK.stale_input, INPUTS[k]!, age, this.staleLimit[k]!, t);
         bad = true;
+      } else if (-age > this.p.future_tolerance_s) {
+        this.trip(CHECK.time_future, INPUTS[k]!, -age, this.p.future_tolerance_s, t);
+        bad = true;
       }
     }
     this.waitingForInputs = waiting;
-    this.updateClear(t, bad);
-    return this.held || waiting;
+    return bad;
   }
 
   /**
@@ -228,17 +341,9 @@ export class Watchdog {
 
   /** Ticks without a new wrench sample (live node timer): staleness and the clear timer. */
   tick(t: number, lastSeen: Float64Array, required: Uint8Array): boolean {
-    let bad = false;
     // A non-finite time cannot date anything: it must not reach the clear timer (NaN there would pass the reset check).
-    if (!Number.isFinite(t) || t < this.lastT) return this.held;
-    for (let k = 0; k < INPUTS.length; k++) {
-      if (required[k] === 0 || Number.isNaN(lastSeen[k]!)) continue;
-      const age = t - lastSeen[k]!;
-      if (age > this.staleLimit[k]!) {
-        this.trip(CHECK.stale_input, INPUTS[k]!, age, this.staleLimit[k]!, t);
-        bad = true;
-      }
-    }
+    if (!Number.isFinite(t) || t < this.lastT) return this.held || this.waitingForInputs;
+    const bad = this.checkFreshness(t, lastSeen, required);
     this.updateClear(t, bad);
     return this.held || this.waitingForInputs;
   }
@@ -278,6 +383,7 @@ export class Watchdog {
       lastBadT: this.lastBadT,
       firstT: this.firstT,
       seen: Array.from(this.seen),
+      everSeen: Array.from(this.everSeen),
       trips: this.trips.map((r) => ({ ...r })),
     };
   }
@@ -290,6 +396,7 @@ export class Watchdog {
     this.lastBadT = s.lastBadT;
     this.firstT = s.firstT;
     this.seen.set(s.seen);
+    this.everSeen.set(s.everSeen);
     this.tripCount = s.trips.length;
     s.trips.forEach((r, k) => Object.assign(this.tripPool[k]!, r));
   }
@@ -303,5 +410,10 @@ export interface WatchdogSnapshot {
   lastBadT: number;
   firstT: number;
   seen: number[];
+  everSeen: number[];
   trips: Trip[];
+}
+
+function norm3(x: number, y: number, z: number): number {
+  return Math.sqrt(x * x + y * y + z * z);
 }

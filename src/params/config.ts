@@ -25,7 +25,18 @@ export interface WrenchFilterParams {
   readonly order: number;
   readonly correction_force_n: number;
   readonly correction_torque_nm: number;
-  readonly tare: { readonly window_s: number; readonly still_force_n: number; readonly still_torque_nm: number; readonly on_start: boolean };
+  readonly tare: {
+    readonly window_s: number;
+    readonly still_force_n: number;
+    readonly still_torque_nm: number;
+    readonly on_start: boolean;
+    readonly max_bias_n: number;
+    readonly max_bias_nm: number;
+    readonly max_change_n: number;
+    readonly max_change_nm: number;
+    readonly still_twist_m_s: number;
+    readonly still_joint_rad_s: number;
+  };
   readonly payload: { readonly enabled: boolean; readonly mass_kg: number; readonly com_m: readonly [number, number, number] };
   readonly impact: { readonly force_n: number; readonly torque_nm: number; readonly release_ratio: number; readonly min_duration_s: number; readonly hold_s: number };
 }
@@ -38,9 +49,14 @@ export interface WatchdogParams {
   readonly joint_velocity_limit_rad_s: number;
   readonly linear_speed_limit_m_s: number;
   readonly angular_speed_limit_rad_s: number;
-  readonly stale_after_s: { readonly wrench: number; readonly joint_states: number; readonly tool_pose: number; readonly zone_view: number };
+  readonly stale_after_s: { readonly wrench: number; readonly joint_states: number; readonly tool_pose: number; readonly zone_view: number; readonly hold_link: number };
   readonly on_impact: 'hold' | 'report';
   readonly release_clear_s: number;
+  readonly future_tolerance_s: number;
+  readonly quaternion_norm_tolerance: number;
+  readonly require_joint_velocity: boolean;
+  readonly partner_stop: { readonly enabled: boolean; readonly speed_ratio: number; readonly window_s: number; readonly min_speed_m_s: number };
+  readonly hold_link: { readonly enabled: boolean };
 }
 
 export interface RolesParams {
@@ -48,7 +64,6 @@ export interface RolesParams {
   readonly fixed_role: 'speaker' | 'listener';
   readonly period_s: number;
   readonly phase: 0 | 1;
-  readonly adaptive: { readonly min_dwell_s: number; readonly hysteresis_m: number };
 }
 
 export interface BeliefParams {
@@ -56,6 +71,7 @@ export interface BeliefParams {
   readonly noise_force_n: number;
   readonly forgetting: number;
   readonly commit_probability: number;
+  readonly release_probability: number;
   readonly max_hidden_zones: number;
 }
 
@@ -175,6 +191,15 @@ function crossCheck(c: ArmConfig, values: ReadonlyMap<string, ResolvedValue>): v
   // A wrench gap of one sample must not read as stale: allow at least two sample periods.
   if (c.watchdog.stale_after_s.wrench < 2 / wf.sample_rate_hz) {
     problems.push({ code: 'param.stale_below_period', message: `watchdog.stale_after_s.wrench = ${c.watchdog.stale_after_s.wrench} s is shorter than two wrench samples at ${wf.sample_rate_hz} Hz`, where: where('watchdog.stale_after_s.wrench'), hint: `at least ${(2 / wf.sample_rate_hz).toPrecision(3)} s` });
+  }
+  if (c.belief.release_probability > c.belief.commit_probability) {
+    problems.push({ code: 'param.release_above_commit', message: `belief.release_probability = ${c.belief.release_probability} exceeds belief.commit_probability = ${c.belief.commit_probability}`, where: where('belief.release_probability'), hint: `at most ${c.belief.commit_probability} (a committed zone is released below it)` });
+  }
+  if (c.watchdog.partner_stop.enabled && c.watchdog.partner_stop.min_speed_m_s >= c.policy.speed_m_s) {
+    problems.push({ code: 'param.partner_stop_never_armed', message: `watchdog.partner_stop.min_speed_m_s = ${c.watchdog.partner_stop.min_speed_m_s} m/s is not below policy.speed_m_s = ${c.policy.speed_m_s} m/s, so the partner-stop check would never run`, where: where('watchdog.partner_stop.min_speed_m_s'), hint: `below ${c.policy.speed_m_s} m/s, or set watchdog.partner_stop.enabled: false` });
+  }
+  if (c.watchdog.partner_stop.enabled && c.watchdog.partner_stop.window_s < 2 / c.belief.update_rate_hz) {
+    problems.push({ code: 'param.partner_stop_window_short', message: `watchdog.partner_stop.window_s = ${c.watchdog.partner_stop.window_s} s is shorter than two belief updates at ${c.belief.update_rate_hz} Hz`, where: where('watchdog.partner_stop.window_s'), hint: `at least ${(2 / c.belief.update_rate_hz).toPrecision(3)} s` });
   }
   for (const k of ['belief.update_rate_hz', 'policy.update_rate_hz'] as const) {
     const rate = k === 'belief.update_rate_hz' ? c.belief.update_rate_hz : c.policy.update_rate_hz;

@@ -208,7 +208,7 @@ export function evaluate(record: ReplayRecord, list: readonly Expectation[]): Ve
       }
       case 'peak_correction_force_below_n': {
         let peak = 0;
-        for (const r of armsOf(record, a.arm, e)) for (const v of r.correctionForce) peak = Math.max(peak, v);
+        for (const r of armsOf(record, a.arm, e)) for (const v of r.correctionForce.subarray(r.taredFrom)) peak = Math.max(peak, v);
         return { ...base, expected: `< ${a.value} N`, measured: `${f3(peak)} N`, pass: peak < a.value, value: peak };
       }
       case 'belief_above': {

@@ -8,7 +8,7 @@ import { bagDecoders } from '../bag/decode.js';
 import { canonicalType } from '../bag/definitions.js';
 import { decodePoseStamped, decodeWrenchStamped, JointStateDecoder } from '../bag/fast.js';
 import type { BagWriter } from '../bag/writer.js';
-import { ArmStep, ZONE_UNKNOWN, type ArmOutputs } from '../core/arm-step.js';
+import { ArmStep, TARE_OUTCOME_REFUSED, ZONE_UNKNOWN, type ArmOutputs } from '../core/arm-step.js';
 import { CHECKS } from '../core/watchdog.js';
 import type { ArmConfig } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
@@ -22,7 +22,7 @@ export interface ReplayEvent {
   readonly arm: ArmName;
   /** Seconds from the start of the bag. */
   readonly t_s: number;
-  /** `tared`, `trip`, `hold`, `role`, `impact_start`, `impact_end`, `input_missing`. */
+  /** `tared`, `tare_refused`, `trip`, `hold`, `role`, `impact_start`, `impact_end`, `input_missing`. */
   readonly kind: string;
   readonly text: string;
   /** For trips: the check name, measured value and limit. */
@@ -41,6 +41,14 @@ export interface ArmReplayRecord {
   readonly t: Float64Array;
   readonly rawForce: Float64Array;
   readonly correctionForce: Float64Array;
+  /**
+   * Index of the first sample after the sensor was tared (`samples` when it never was). Before
+   * it the bias is unknown (the held object's weight reads as force), so correction-band
+   * figures, internal force and expectations use samples from here on only.
+   */
+  readonly taredFrom: number;
+  /** Whether the joint-speed check could run: the last JointState carried velocities (null: no joint states were replayed). */
+  readonly jointVelocityAvailable: boolean | null;
   readonly impactForce: Float64Array;
   readonly impactScore: Float64Array;
   readonly role: Float64Array;
@@ -135,6 +143,8 @@ interface ArmRun {
   lastImpact: boolean;
   trips: number;
   tared: boolean;
+  taredFrom: number;
+  sawJoints: boolean;
   lastStatusT: number;
 }
 
@@ -225,7 +235,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
       zoneStates: new Uint8Array(config.task.zones.length).fill(ZONE_UNKNOWN),
       zoneIndex: new Map(config.task.zones.map((z, k) => [z.name, k])),
       lastPoseT: Number.NaN, lastPoseX: 0, lastPoseY: 0, lastPoseZ: 0,
-      lastRole: -1, lastHeld: false, lastImpact: false, trips: 0, tared: false, lastStatusT: Number.NEGATIVE_INFINITY,
+      lastRole: -1, lastHeld: false, lastImpact: false, trips: 0, tared: false, taredFrom: -1, sawJoints: false, lastStatusT: Number.NEGATIVE_INFINITY,
     };
     for (const kind of INPUT_KINDS) {
       const name = resolved[kind];
@@ -293,6 +303,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
                 if (!Number.isNaN(v[q]!)) measured = true;
               }
               run.step.setJointState(t, v, measured ? n : 0);
+              run.sawJoints = true;
               break;
             }
             case 'tool_pose': {
@@ -341,6 +352,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
     const rec = run.rec;
     const c = f.compensated;
     rec.t.push(rel);
+    if (o.tared && run.taredFrom < 0) run.taredFrom = rec.t.length - 1;
     rec.raw.push(Math.sqrt(c[0]! * c[0]! + c[1]! * c[1]! + c[2]! * c[2]!));
     const k = o.correction;
     rec.corr.push(Math.sqrt(k[0]! * k[0]! + k[1]! * k[1]! + k[2]! * k[2]!));
@@ -386,6 +398,8 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
     beliefMarginals: run.rec.marg.view(),
     events: run.events,
     samples: run.rec.t.length,
+    taredFrom: run.taredFrom < 0 ? run.rec.t.length : run.taredFrom,
+    jointVelocityAvailable: run.sawJoints ? run.step.out.jointVelocityAvailable : null,
   }));
   const record: ReplayRecord = {
     bag: bag.path,
@@ -410,18 +424,26 @@ function correctionAlongY(run: ArmRun): number {
   return r10 * c[0]! + r11 * c[1]! + r12 * c[2]!;
 }
 
-/** Internal force at the first arm's samples, with the other arm's latest value (positive: squeeze). */
+/**
+ * Internal force at the first arm's samples, with the other arm's latest value (positive:
+ * squeeze), from the first sample at which both arms are tared (before it the bias is unknown).
+ */
 function internalForce(a: ArmReplayRecord, b: ArmReplayRecord): { t: Float64Array; y: Float64Array } {
   const [left, right] = a.arm === 'left' ? [a, b] : [b, a];
-  const y = new Float64Array(left.samples);
+  const tLeft = left.taredFrom < left.samples ? left.t[left.taredFrom]! : Number.POSITIVE_INFINITY;
+  const tRight = right.taredFrom < right.samples ? right.t[right.taredFrom]! : Number.POSITIVE_INFINITY;
+  const from = Math.max(tLeft, tRight);
+  let i0 = 0;
+  while (i0 < left.samples && left.t[i0]! < from) i0++;
+  const y = new Float64Array(left.samples - i0);
   let j = 0;
-  for (let i = 0; i < left.samples; i++) {
+  for (let i = i0; i < left.samples; i++) {
     const t = left.t[i]!;
     while (j + 1 < right.samples && right.t[j + 1]! <= t) j++;
     const fr = right.samples > 0 && right.t[j]! <= t ? right.correctionAlongObject[j]! : 0;
-    y[i] = (left.correctionAlongObject[i]! - fr) / 2;
+    y[i - i0] = (left.correctionAlongObject[i]! - fr) / 2;
   }
-  return { t: left.t, y };
+  return { t: left.t.subarray(i0), y };
 }
 
 function trackEvents(run: ArmRun, rel: number, o: ArmOutputs): void {
@@ -430,6 +452,7 @@ function trackEvents(run: ArmRun, rel: number, o: ArmOutputs): void {
     run.tared = true;
     run.events.push({ arm: run.arm, t_s: rel, kind: 'tared', text: 'force-torque sensor tared on a still window' });
   }
+  if (o.tareOutcome === TARE_OUTCOME_REFUSED) run.events.push({ arm: run.arm, t_s: rel, kind: 'tare_refused', text: `tare refused: ${o.tareReason}` });
   if (o.held && !run.lastHeld) run.events.push({ arm: run.arm, t_s: rel, kind: 'hold', text: 'safe hold latched: recommended twist zero until reset' });
   run.lastHeld = o.held;
   if (wd.tripsLength > run.trips) {

@@ -15,8 +15,12 @@ export interface ArmSummary {
   readonly holds: { t_s: number; reasons: { check: string; value: number | null; limit: number | null }[] }[];
   readonly role_switches: number;
   readonly impacts: { start_s: number; end_s: number | null; peak_score: number | null }[];
+  /** Over the samples after the tare (before it the bias is unknown). */
   readonly peak_correction_force_n: number | null;
   readonly peak_raw_force_n: number | null;
+  /** `active`: JointState carried velocities; `unavailable`: it did not (the joint-speed check could not run); `no_joint_states`. */
+  readonly joint_velocity_check: 'active' | 'unavailable' | 'no_joint_states';
+  readonly tares_refused: { t_s: number; reason: string }[];
   readonly belief_final: Record<string, number | null>;
 }
 
@@ -58,8 +62,10 @@ function armSummary(a: ArmReplayRecord): ArmSummary {
     holds,
     role_switches: a.events.filter((e) => e.kind === 'role').length,
     impacts,
-    peak_correction_force_n: max(a.correctionForce),
+    peak_correction_force_n: max(a.correctionForce.subarray(a.taredFrom)),
     peak_raw_force_n: max(a.rawForce),
+    joint_velocity_check: a.jointVelocityAvailable === null ? 'no_joint_states' : a.jointVelocityAvailable ? 'active' : 'unavailable',
+    tares_refused: a.events.filter((e) => e.kind === 'tare_refused').map((e) => ({ t_s: r4(e.t_s)!, reason: e.text })),
     belief_final,
   };
 }

@@ -8,7 +8,7 @@
  *   alternating  roles.scheduler alternating with period k * dt; phases 0 (left) and 1 (right).
  *   fixed        left a fixed speaker, right a fixed listener.
  *   independent  both fixed speakers with legibility_gain 0: each acts on its own view only.
- *   adaptive     roles.scheduler adaptive (the arm that sees the nearest zone ahead speaks).
+ *   adaptive     roles.scheduler adaptive (clock slots shared out by each arm's count of private zones).
  *
  * Everything but `centralized` and `explicit` feeds each arm only its own area sensor.
  */

@@ -7,8 +7,9 @@
  * each expectation is named beside the check.
  */
 import fc from 'fast-check';
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { CHECK, CHECKS, INPUT, INPUTS, Watchdog, type CheckName, type Trip, type WatchdogInputs } from '../../src/core/watchdog.js';
+import { CHECK, CHECKS, INPUT, INPUTS, Watchdog, type CheckName, type Trip, watchdogInputs, type WatchdogInputs } from '../../src/core/watchdog.js';
 import { buildArmConfig, type WatchdogParams } from '../../src/params/config.js';
 
 /** Schema defaults: force 150 N, torque 25 N·m, correction 60 N / 15 N·m, joints 1 rad/s, 0.25 m/s, 0.5 rad/s, release after 1 s. */
@@ -19,20 +20,12 @@ function params(over: Partial<WatchdogParams> = {}): WatchdogParams {
 }
 
 function inputs(): WatchdogInputs {
-  return {
-    t_s: 0,
-    compensated: new Float64Array(6),
-    correction: new Float64Array(6),
-    impactFlag: false,
-    impactScore: 0,
+  return watchdogInputs({
     jointVelocity: new Float64Array(6),
     jointCount: 6,
-    jointFinite: true,
-    poseFinite: true,
-    zoneFinite: true,
     lastSeen: new Float64Array(INPUTS.length).fill(Number.NaN),
     required: Uint8Array.of(1, 1, 1, 1),
-  };
+  });
 }
 
 /** A watchdog fed by a clean, fresh stream at 1 kHz; `step` mutates one sample. */
@@ -93,9 +86,15 @@ describe('watchdog: a clean stream', () => {
 
   it('check identifiers are the published list, in order', () => {
     // antiphon/msg/WatchdogTrip.check (watchdog.ts): the index is the wire value
-    expect(CHECKS).toEqual(['force_raw', 'torque_raw', 'force_correction', 'torque_correction', 'joint_velocity', 'twist_linear', 'twist_angular', 'stale_input', 'non_finite', 'time_backwards', 'impact']);
+    expect(CHECKS).toEqual([
+      'force_raw', 'torque_raw', 'force_correction', 'torque_correction', 'joint_velocity', 'twist_linear', 'twist_angular', 'stale_input', 'non_finite', 'time_backwards', 'impact',
+      'force_untared', 'torque_untared', 'time_future', 'quaternion_norm', 'joint_velocity_absent', 'partner_stop', 'partner_hold',
+    ]);
     for (const [k, name] of CHECKS.entries()) expect(CHECK[name]).toBe(k);
-    expect(INPUTS).toEqual(['wrench', 'joint_states', 'tool_pose', 'zone_view']);
+    expect(INPUTS).toEqual(['wrench', 'joint_states', 'tool_pose', 'zone_view', 'hold_link']);
+    // The message documents every name.
+    const msg = readFileSync('msg/WatchdogTrip.msg', 'utf8');
+    for (const name of CHECKS) expect(msg, name).toContain(name);
   });
 });
 

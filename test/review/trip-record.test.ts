@@ -5,7 +5,7 @@
  * (stale_after_s.tool_pose 0.05 s, stale_after_s.zone_view 0.5 s).
  */
 import { describe, expect, it } from 'vitest';
-import { CHECK, INPUTS, Watchdog, type WatchdogInputs } from '../../src/core/watchdog.js';
+import { CHECK, INPUTS, Watchdog, watchdogInputs, type WatchdogInputs } from '../../src/core/watchdog.js';
 import { buildArmConfig } from '../../src/params/config.js';
 
 const P = buildArmConfig(undefined, 'left').config.watchdog;
@@ -13,11 +13,9 @@ const P = buildArmConfig(undefined, 'left').config.watchdog;
 describe('review: trip record', () => {
   it('the recorded limit belongs to the recorded input', () => {
     const wd = new Watchdog(P);
-    const x: WatchdogInputs = {
-      t_s: 0, compensated: new Float64Array(6), correction: new Float64Array(6), impactFlag: false, impactScore: 0,
-      jointVelocity: new Float64Array(0), jointCount: 0, jointFinite: true, poseFinite: true, zoneFinite: true,
+    const x: WatchdogInputs = watchdogInputs({
       lastSeen: new Float64Array(INPUTS.length).fill(0), required: Uint8Array.of(1, 0, 1, 1),
-    };
+    });
     for (let k = 0; k <= 1000; k++) {
       const t = k / 1000;
       x.t_s = t;

@@ -539,3 +539,29 @@ export class SosCascade {
     this.state.set(s.subarray(offset, offset + this.state.length));
   }
 }
+
+/**
+ * Correlation length of white noise after the low-pass, in samples: (Σ h)² / Σ h², with h the
+ * impulse response (set-up time; the response is run until its energy has converged). For a
+ * narrow band this is 1 / (2 B_N / fs), B_N the noise-equivalent bandwidth.
+ */
+export function noiseCorrelationSamples(sos: Float64Array): number {
+  const c = new SosCascade(sos, 1);
+  const x = new Float64Array(1);
+  const y = new Float64Array(1);
+  let sum = 0;
+  let energy = 0;
+  let quiet = 0;
+  x[0] = 1;
+  for (let k = 0; k < 10_000_000; k++) {
+    c.process(x, y);
+    x[0] = 0;
+    const h = y[0]!;
+    sum += h;
+    energy += h * h;
+    // Stop once 2000 samples in a row add nothing measurable to the energy.
+    quiet = h * h <= energy * 1e-18 ? quiet + 1 : 0;
+    if (quiet >= 2000) break;
+  }
+  return (sum * sum) / energy;
+}

@@ -8,6 +8,7 @@ export {
   analogPrototypePoles,
   butterworthSos,
   checkButterworthArgs,
+  noiseCorrelationSamples,
   sosResponse,
   sosToTf,
 } from './butterworth.js';
@@ -15,6 +16,10 @@ export type { ButterworthKeys } from './butterworth.js';
 export {
   DEFAULT_WRENCH_FILTER,
   STANDARD_GRAVITY,
+  TARE_NONE,
+  TARE_REFUSED,
+  TARE_REFUSAL_TEXT,
+  TARE_TAKEN,
   WrenchFilter,
   checkWrenchFilterConfig,
   validateWrenchFilterConfig,

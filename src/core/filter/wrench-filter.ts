@@ -41,6 +41,12 @@ export interface WrenchFilterConfig {
     still_torque_nm: number;
     /** Tare as soon as the first still window is seen after start (or `reset()`). */
     on_start: boolean;
+    /** Largest force / torque bias magnitude a tare may set (N, N·m); larger is refused. Default: no bound. */
+    max_bias_n?: number;
+    max_bias_nm?: number;
+    /** Largest change from the start-up bias that a later tare may make (N, N·m). Default: no bound. */
+    max_change_n?: number;
+    max_change_nm?: number;
   };
   payload: {
     /** Subtract the payload's weight, modelled from `setOrientation`. */
@@ -183,7 +189,25 @@ export function validateWrenchFilterConfig(cfg: WrenchFilterConfig): void {
 }
 
 const SNAPSHOT_MAGIC = 0x57464c54; // identifies a WrenchFilter snapshot
-const N_SCALARS = 16;
+const N_SCALARS = 21;
+
+/** `WrenchFilter.tareOutcome` values. */
+export const TARE_NONE = 0;
+export const TARE_TAKEN = 1;
+export const TARE_REFUSED = 2;
+/** `WrenchFilter.tareRefusedWhy` codes (why a still window's mean was not taken as the bias). */
+export const TARE_REFUSED_BIAS_FORCE = 1;
+export const TARE_REFUSED_BIAS_TORQUE = 2;
+export const TARE_REFUSED_CHANGE_FORCE = 3;
+export const TARE_REFUSED_CHANGE_TORQUE = 4;
+/** Plain-language reason per refusal code. */
+export const TARE_REFUSAL_TEXT: readonly string[] = [
+  '',
+  'the force bias would exceed wrench_filter.tare.max_bias_n',
+  'the torque bias would exceed wrench_filter.tare.max_bias_nm',
+  'the force bias would move from the start-up tare by more than wrench_filter.tare.max_change_n',
+  'the torque bias would move from the start-up tare by more than wrench_filter.tare.max_change_nm',
+];
 
 /** Six-axis wrench filter for one wrist sensor. See the module comment for the pipeline. */
 export class WrenchFilter {
@@ -219,6 +243,17 @@ export class WrenchFilter {
   samples = 0;
   /** Samples ignored by `step` because a value was NaN or infinite. */
   nonFiniteSamples = 0;
+  /** What the last `step` did to a pending tare: TARE_NONE, TARE_TAKEN or TARE_REFUSED. */
+  tareOutcome = TARE_NONE;
+  /** Why the last tare was refused: a TARE_REFUSED_* code (0 when none). */
+  tareRefusedWhy = 0;
+  /** The magnitude and bound behind the last refusal (N or N·m). */
+  tareRefusedValue = 0;
+  tareRefusedLimit = 0;
+  /** The bias of the first tare since construction or `reset()` (zero until then). */
+  readonly startBias = new Float64Array(6);
+  /** `bias − startBias`: how far later tares moved the bias. */
+  readonly biasChange = new Float64Array(6);
 
   private readonly cascade: SosCascade;
   private readonly fs: number;
@@ -247,6 +282,12 @@ export class WrenchFilter {
   private readonly dq: Float64Array;
   private readonly dqHead = new Float64Array(12);
   private readonly dqLen = new Float64Array(12);
+  private readonly candidate = new Float64Array(6);
+  private readonly maxBiasN: number;
+  private readonly maxBiasNm: number;
+  private readonly maxChangeN: number;
+  private readonly maxChangeNm: number;
+  private startTared = false;
 
   constructor(config: WrenchFilterConfig = DEFAULT_WRENCH_FILTER) {
     validateWrenchFilterConfig(config);
@@ -278,6 +319,10 @@ export class WrenchFilter {
     this.comX = c.payload.com_m[0];
     this.comY = c.payload.com_m[1];
     this.comZ = c.payload.com_m[2];
+    this.maxBiasN = c.tare.max_bias_n ?? Number.POSITIVE_INFINITY;
+    this.maxBiasNm = c.tare.max_bias_nm ?? Number.POSITIVE_INFINITY;
+    this.maxChangeN = c.tare.max_change_n ?? Number.POSITIVE_INFINITY;
+    this.maxChangeNm = c.tare.max_change_nm ?? Number.POSITIVE_INFINITY;
     const n = Math.round(c.tare.window_s * this.fs);
     this.tareWindowSamples = n;
     this.ring = new Float64Array(n * 6);
@@ -292,6 +337,13 @@ export class WrenchFilter {
     this.correction.fill(0);
     this.impact.fill(0);
     this.bias.fill(0);
+    this.startBias.fill(0);
+    this.biasChange.fill(0);
+    this.startTared = false;
+    this.tareOutcome = TARE_NONE;
+    this.tareRefusedWhy = 0;
+    this.tareRefusedValue = 0;
+    this.tareRefusedLimit = 0;
     this.impactScore = 0;
     this.impactFlag = false;
     this.tared = false;
@@ -366,6 +418,7 @@ export class WrenchFilter {
       }
     }
     this.samples++;
+    this.tareOutcome = TARE_NONE;
     const u = this.u;
     const pw = this.payloadWrench;
     for (let i = 0; i < 6; i++) u[i] = raw[i]! - pw[i]!;
@@ -412,7 +465,7 @@ export class WrenchFilter {
 
   /** Length of a snapshot. */
   get snapshotLength(): number {
-    return N_SCALARS + 6 * 6 + 4 + this.cascade.stateLength + this.ring.length + this.dq.length + 24;
+    return N_SCALARS + 8 * 6 + 4 + this.cascade.stateLength + this.ring.length + this.dq.length + 24;
   }
 
   /** All state in one array (allocates; for replay seeking). Configuration is not included. */
@@ -435,6 +488,11 @@ export class WrenchFilter {
     s[o++] = this.ringCount;
     s[o++] = this.windowNext;
     s[o++] = this.tareWait;
+    s[o++] = this.tareOutcome;
+    s[o++] = this.tareRefusedWhy;
+    s[o++] = this.tareRefusedValue;
+    s[o++] = this.tareRefusedLimit;
+    s[o++] = this.startTared ? 1 : 0;
     for (const a of this.stateArrays()) {
       s.set(a, o);
       o += a.length;
@@ -473,6 +531,11 @@ export class WrenchFilter {
     this.ringCount = s[o++]!;
     this.windowNext = s[o++]!;
     this.tareWait = s[o++]!;
+    this.tareOutcome = s[o++]!;
+    this.tareRefusedWhy = s[o++]!;
+    this.tareRefusedValue = s[o++]!;
+    this.tareRefusedLimit = s[o++]!;
+    this.startTared = s[o++] === 1;
     for (const a of this.stateArrays()) {
       a.set(s.subarray(o, o + a.length));
       o += a.length;
@@ -486,6 +549,8 @@ export class WrenchFilter {
       this.correction,
       this.impact,
       this.bias,
+      this.startBias,
+      this.biasChange,
       this.payloadWrench,
       this.u,
       this.quat,
@@ -569,15 +634,50 @@ export class WrenchFilter {
       return false;
     }
     // Still: the bias is the window mean (summed afresh, no drift from a running sum).
-    const bias = this.bias;
+    const cand = this.candidate;
     for (let a = 0; a < 6; a++) {
       let sum = 0;
       for (let k = 0; k < n; k++) sum += ring[k * 6 + a]!;
-      bias[a] = sum / n;
+      cand[a] = sum / n;
     }
+    // A tare must never hide a load: bound the bias and, after the start-up tare, its change.
+    const bf = Math.sqrt(cand[0]! * cand[0]! + cand[1]! * cand[1]! + cand[2]! * cand[2]!);
+    const bt = Math.sqrt(cand[3]! * cand[3]! + cand[4]! * cand[4]! + cand[5]! * cand[5]!);
+    let why = 0, value = 0, limit = 0;
+    if (bf > this.maxBiasN) { why = TARE_REFUSED_BIAS_FORCE; value = bf; limit = this.maxBiasN; }
+    else if (bt > this.maxBiasNm) { why = TARE_REFUSED_BIAS_TORQUE; value = bt; limit = this.maxBiasNm; }
+    else if (this.startTared) {
+      const s0 = this.startBias;
+      const dx = cand[0]! - s0[0]!, dy = cand[1]! - s0[1]!, dz = cand[2]! - s0[2]!;
+      const rx = cand[3]! - s0[3]!, ry = cand[4]! - s0[4]!, rz = cand[5]! - s0[5]!;
+      const cf = Math.sqrt(dx * dx + dy * dy + dz * dz);
+      const ct = Math.sqrt(rx * rx + ry * ry + rz * rz);
+      if (cf > this.maxChangeN) { why = TARE_REFUSED_CHANGE_FORCE; value = cf; limit = this.maxChangeN; }
+      else if (ct > this.maxChangeNm) { why = TARE_REFUSED_CHANGE_TORQUE; value = ct; limit = this.maxChangeNm; }
+    }
+    this.clearWindow();
+    if (why !== 0) {
+      this.tareOutcome = TARE_REFUSED;
+      this.tareRefusedWhy = why;
+      this.tareRefusedValue = value;
+      this.tareRefusedLimit = limit;
+      this.tareRefusals++;
+      // Until a first tare is taken the arm cannot run, so the start-up tare keeps trying on
+      // later windows; a requested re-tare ends with the refusal (the old bias stays).
+      if (this.startTared) this.tarePending = false;
+      return false;
+    }
+    const bias = this.bias;
+    bias.set(cand);
+    if (!this.startTared) {
+      this.startTared = true;
+      this.startBias.set(cand);
+    }
+    for (let a = 0; a < 6; a++) this.biasChange[a] = bias[a]! - this.startBias[a]!;
     this.tared = true;
     this.tarePending = false;
-    this.clearWindow();
+    this.tareOutcome = TARE_TAKEN;
+    this.tareRefusedWhy = 0;
     return true;
   }
 }
