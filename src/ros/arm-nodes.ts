@@ -68,6 +68,11 @@ const MAX_JOINTS = 64;
 const SIM_JUMP_BACK_S = 0.5; // a sim-time stamp further back than this starts the arm step afresh
 
 const log = logger('node');
+/** std_msgs/msg/Bool as serialized CDR (little-endian encapsulation, one byte). */
+const HELD_TRUE = Buffer.from([0, 1, 0, 0, 1]);
+const HELD_FALSE = Buffer.from([0, 1, 0, 0, 0]);
+const PARTNER_STOP = (CHECKS as readonly string[]).indexOf('partner_stop');
+const PARTNER_HOLD = (CHECKS as readonly string[]).indexOf('partner_hold');
 
 function view(buf: Uint8Array): DataView {
   return new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
@@ -103,12 +108,6 @@ interface Counters {
   wrong_frame: number;
   joint_messages_ignored: number;
   resets_on_clock_jump: number;
-}
-
-/** Tare API of the arm step (the ROS side answers ~/tare when the tare is taken or refused). */
-interface TareRequest {
-  status: 'pending' | 'refused';
-  reason: string;
 }
 
 export class ArmNodes {
@@ -336,6 +335,7 @@ export class ArmNodes {
       this.report('error', {}, `configure refused: ${r.reason}`);
       return CALLBACK.failure;
     }
+    this.config = r.config;
     try {
       this.build();
     } catch (err) {
@@ -474,8 +474,8 @@ export class ArmNodes {
   private onTare(res: RclTriggerResponse): void {
     const step = this.step;
     if (!step) return res.send({ success: false, message: 'not configured' });
-    const r = (step.requestTare as () => TareRequest | void).call(step);
-    if (r && r.status === 'refused') {
+    const r = step.requestTare();
+    if (r.status === 'refused') {
       this.report('warn', { service: 'tare', outcome: 'refused' }, `tare: refused (${r.reason})`);
       return res.send({ success: false, message: r.reason });
     }
@@ -485,9 +485,9 @@ export class ArmNodes {
   }
 
   private answerTare(o: ArmOutputs): void {
-    const outcome = (o as { tareOutcome?: number }).tareOutcome ?? (o.tared ? 1 : 0);
+    const outcome = o.tareOutcome;
     if (outcome === 0) return;
-    const reason = (o as { tareReason?: string }).tareReason ?? (outcome === 1 ? 'tared' : 'refused');
+    const reason = o.tareReason;
     this.report(outcome === 1 ? 'info' : 'warn', { service: 'tare', outcome: outcome === 1 ? 'taken' : 'refused' }, `tare: ${outcome === 1 ? 'taken' : 'refused'} (${reason})`);
     for (const res of this.tareWaiting) res.send({ success: outcome === 1, message: reason });
     this.tareWaiting = [];
@@ -667,8 +667,7 @@ export class ArmNodes {
     if (!step || m.byteLength < 5) return;
     this.partnerHeld = m[4] !== 0;
     const t = Number.isNaN(this.lastWrenchT) ? this.nowS() : this.lastWrenchT;
-    const s = step as unknown as { setPartnerHold?: (t: number, held: boolean) => void };
-    s.setPartnerHold?.(t, this.partnerHeld);
+    step.setPartnerHold(t, this.partnerHeld);
   }
 
   // ---- timers -------------------------------------------------------------------------------
@@ -730,13 +729,23 @@ export class ArmNodes {
       this.lastRole = o.role;
       this.lastHeld = o.held;
     }
-    const held = o.held;
+    // This arm's own hold: a hold caused only by the partner's is not sent back (no latch loop).
+    const held = o.held && this.ownHold();
     const steady = this.steadyS();
     if (held !== this.heldBit || steady - this.heldPublishedAt >= STATUS_PERIOD_S) {
       this.heldBit = held;
       this.heldPublishedAt = steady;
-      this.heldPub!.publish({ data: held });
+      this.heldPub!.publish(held ? HELD_TRUE : HELD_FALSE);
     }
+  }
+
+  private ownHold(): boolean {
+    const wd = this.step!.watchdog;
+    for (let k = 0; k < wd.tripsLength; k++) {
+      const c = wd.tripAt(k).check;
+      if (c !== PARTNER_STOP && c !== PARTNER_HOLD) return true;
+    }
+    return false;
   }
 
   onMarkers(): void {
@@ -786,7 +795,7 @@ export class ArmNodes {
     const tripped = new Set(Array.from({ length: wd.tripsLength }, (_, k) => CHECKS[wd.tripAt(k).check]));
     const level = o.held || this.qosProblems.length ? 2 : o.inhibited || !this.active ? 1 : 0;
     const last = this.changeLog.at(-1);
-    const jv = (o as { jointVelocityAvailable?: boolean }).jointVelocityAvailable;
+    const jv = o.jointVelocityAvailable;
     const values: { key: string; value: string }[] = [
       { key: 'lifecycle_state', value: this.state },
       { key: 'role', value: o.role === 0 ? 'speaker' : 'listener' },
@@ -794,7 +803,7 @@ export class ArmNodes {
       { key: 'trips', value: [...tripped].join(',') },
       ...CHECKS.map((c) => ({ key: `check.${c}`, value: tripped.has(c) ? 'tripped' : 'ok' })),
       { key: 'tared', value: String(o.tared) },
-      { key: 'joint_velocity_check', value: jv === undefined ? 'unknown' : jv ? 'active' : 'inactive: no joint velocities measured' },
+      { key: 'joint_velocity_check', value: jv ? 'active' : 'inactive: no joint velocities measured' },
       { key: 'entropy_nats', value: o.entropy_nats.toFixed(4) },
       { key: 'time_source', value: this.timeFromHeader ? 'header stamp' : 'arrival (ROS time)' },
       { key: 'clock_step_max_s', value: this.clockStepMax.toFixed(4) },

@@ -7,7 +7,8 @@ import { startNodes } from '../../src/cli/node.js';
 import { buildArmConfig } from '../../src/params/config.js';
 import { parseParamsText, resolveForArm } from '../../src/params/load.js';
 import { ArmNodes, NODE_NAMES } from '../../src/ros/arm-nodes.js';
-import { qos } from '../../src/ros/qos.js';
+import { qos, RMW } from '../../src/ros/qos.js';
+import { OUTPUT_BAG_QOS, OUTPUT_KINDS } from '../../src/ros/topics.js';
 import { PARAMETER_TYPE } from '../../src/ros/rcl.js';
 import { RecordingRcl } from '../../src/ros/recorder.js';
 import { InputError } from '../../src/util/errors.js';
@@ -55,10 +56,7 @@ describe('defect 6: input QoS matches what drivers and our bags offer', () => {
     }
   });
   it('an incompatible partner held publisher (best effort, volatile) is reported in diagnostics', () => {
-    const values = withValues('left', {});
-    const spec = { key: 'watchdog.hold_link.enabled', type: 'bool', unit: '', default: false, description: 'hold link' } as const;
-    values.set('watchdog.hold_link.enabled', { key: spec.key, value: true, source: { kind: 'default' }, spec });
-    const s = setup({ values });
+    const s = setup({ values: withValues('left', { 'watchdog.hold_link.enabled': true }) });
     const partner = new s.rcl.Node('antiphon_roles', '/right');
     partner.createPublisher('std_msgs/msg/Bool', '/left/partner_held', { qos: s.rcl.QoS.profileSensorData });
     s.feed(0, 1000);
@@ -245,6 +243,14 @@ describe('defect 14: the smaller points', () => {
     expect(call.reply).toMatchObject({ success: true });
     expect(s.rcl.node('antiphon').logs.some((l) => /tare: taken/.test(l))).toBe(true);
   });
+  it('the QoS bags record for the outputs is what the live node offers (OUTPUT_BAG_QOS, rmw enum values)', () => {
+    const s = setup();
+    for (const kind of OUTPUT_KINDS) {
+      const live = s.rcl.topic(`/left/antiphon/${kind}`).qos;
+      const [bag] = OUTPUT_BAG_QOS[kind];
+      expect([bag.reliability, bag.durability, bag.history, bag.depth], kind).toEqual([RMW.reliability[live.reliability], RMW.durability[live.durability], RMW.history.keep_last, live.depth]);
+    }
+  });
   it('the veto accepts use_sim_time', () => {
     const s = setup();
     expect(s.rcl.node('antiphon').setParameter(new s.rcl.Parameter('use_sim_time', PARAMETER_TYPE.bool, true))).toMatchObject({ successful: true });
@@ -268,5 +274,34 @@ describe('defect 14: the smaller points', () => {
       return r.graph();
     };
     expect(g()).toEqual(g());
+  });
+});
+
+describe('the hold link between the arms (watchdog.hold_link.enabled)', () => {
+  it('antiphon/held goes to the partner (reliable, transient local): a knock on the right arm holds the left one, and a hold caused by the partner is not sent back', () => {
+    const rcl = new FakeRcl();
+    rcl.remaps.set('/left/partner_held', '/right/antiphon/held');
+    rcl.remaps.set('/right/partner_held', '/left/antiphon/held');
+    const steady = { s: 1000 };
+    const on = { 'watchdog.hold_link.enabled': true };
+    const L = setup({ rcl, steady, values: withValues('left', on) });
+    const R = setup({ rcl, steady, arm: 'right', values: withValues('right', on) });
+    expect(rcl.topic('/left/antiphon/held').qos).toMatchObject({ reliability: 'reliable', durability: 'transient_local' });
+    const both = (k0: number, n: number, knockRight = false) => {
+      for (let k = k0; k < k0 + n; k++) {
+        L.feed(k, 1);
+        R.feed(k, 1, { shareSteady: true, force: knockRight ? () => [400, 0, -11.8, 0, 0, 0] : undefined });
+      }
+    };
+    both(0, 1000);
+    expect(L.nodes.step!.out.held).toBe(false);
+    both(1000, 5, true);
+    both(1005, 20);
+    expect(R.nodes.step!.out.held).toBe(true);
+    expect(L.nodes.step!.out.held).toBe(true);
+    expect(lastWd(rcl).trips.map((t) => t.check)).toContain('partner_hold');
+    // std_msgs/msg/Bool in CDR: 4 bytes of encapsulation, then the byte.
+    expect((rcl.sent('/left/antiphon/held').at(-1) as Buffer)[4]).toBe(0);
+    expect((rcl.sent('/right/antiphon/held').at(-1) as Buffer)[4]).toBe(1);
   });
 });

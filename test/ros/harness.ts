@@ -51,13 +51,15 @@ export interface FeedOptions {
   skip?: (k: number) => boolean;
   /** Fire the 100 Hz timers every 10 samples (default true). */
   ticks?: boolean;
+  /** Another arm's feed advances the shared steady clock. */
+  shareSteady?: boolean;
 }
 
-export function setup(opts: { arm?: ArmName; values?: Map<string, ResolvedValue>; configure?: boolean; overrides?: { name: string; type: number; value: unknown }[]; inputQos?: QosProfile } = {}): Setup {
+export function setup(opts: { arm?: ArmName; values?: Map<string, ResolvedValue>; configure?: boolean; overrides?: { name: string; type: number; value: unknown }[]; inputQos?: QosProfile; rcl?: FakeRcl; steady?: { s: number } } = {}): Setup {
   const arm = opts.arm ?? 'left';
-  const rcl = new FakeRcl();
+  const rcl = opts.rcl ?? new FakeRcl();
   if (opts.overrides) rcl.overrides = opts.overrides;
-  const steady = { s: 1000 };
+  const steady = opts.steady ?? { s: 1000 };
   const values = opts.values ?? new Map(cell[arm].values);
   const nodes = new ArmNodes(rcl, { arm, config: cell[arm].config, values, steadyS: () => steady.s });
   if (opts.configure !== false) nodes.inference.configure();
@@ -80,7 +82,7 @@ export function setup(opts: { arm?: ArmName; values?: Map<string, ResolvedValue>
       if (f.skip?.(k)) continue;
       const stamp = f.stampNs ? f.stampNs(k) : T0_NS + BigInt(k) * 1_000_000n;
       rcl.setClock(f.clockNs ? f.clockNs(k) : stamp);
-      steady.s += 0.001;
+      if (!f.shareSteady) steady.s += 0.001;
       const sec = Number(stamp / 1_000_000_000n);
       const nanosec = Number(stamp % 1_000_000_000n);
       row[0] = sec; row[1] = nanosec;
