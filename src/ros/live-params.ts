@@ -36,14 +36,15 @@ export const LIVE_KEYS: ReadonlySet<string> = new Set([
   'watchdog.stale_after_s.joint_states',
   'watchdog.stale_after_s.tool_pose',
   'watchdog.stale_after_s.zone_view',
+  'watchdog.stale_after_s.hold_link',
   'watchdog.release_clear_s',
+  'watchdog.partner_stop.speed_ratio',
   'roles.period_s',
   'roles.phase',
-  'roles.adaptive.min_dwell_s',
-  'roles.adaptive.hysteresis_m',
   'belief.noise_force_n',
   'belief.forgetting',
   'belief.commit_probability',
+  'belief.release_probability',
   'coupling.damping_n_s_m',
   'policy.speed_m_s',
   'policy.goal_gain_1_s',
@@ -56,7 +57,7 @@ export const LIVE_KEYS: ReadonlySet<string> = new Set([
 ]);
 
 /** Keys both arms must share: a change on one arm alone breaks the alternation. */
-export const SHARED_KEYS: ReadonlySet<string> = new Set(['roles.period_s', 'roles.phase', 'roles.adaptive.min_dwell_s', 'roles.adaptive.hysteresis_m']);
+export const SHARED_KEYS: ReadonlySet<string> = new Set(['roles.period_s', 'roles.phase']);
 
 export const isLive = (key: string): boolean => LIVE_KEYS.has(specFor(key)?.key ?? key);
 

@@ -5,6 +5,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { ArmStep } from '../../src/core/arm-step.js';
+import { SPEC_BY_KEY } from '../../src/params/schema.js';
+import { LIVE_KEYS } from '../../src/ros/live-params.js';
 import { PARAMETER_TYPE } from '../../src/ros/rcl.js';
 import { RecordedRange } from '../../src/ros/recorder.js';
 import { cell, diag, setup } from './harness.js';
@@ -12,6 +14,14 @@ import { cell, diag, setup } from './harness.js';
 const dbl = (name: string, value: number) => ({ name, type: PARAMETER_TYPE.double, value });
 
 describe('run-time parameters', () => {
+  it('every live key is a schema key with a range (a renamed key would silently turn read-only)', () => {
+    for (const k of LIVE_KEYS) {
+      const spec = SPEC_BY_KEY.get(k);
+      expect(spec, k).toBeDefined();
+      expect(spec!.min !== undefined && spec!.max !== undefined, k).toBe(true);
+    }
+  });
+
   it('declares every threshold with a descriptor: description with unit, a continuous range capped at the ceiling, read-only for structural keys', () => {
     const s = setup();
     const p = s.rcl.node('antiphon_roles').parameters;
