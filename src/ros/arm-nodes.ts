@@ -766,7 +766,7 @@ export class ArmNodes {
     for (const [name, ours] of subs) {
       const node = name === NAMES.zone_view ? this.inference : this.roles;
       for (const info of safe(() => node.getPublishersInfoByTopic(`${ns}/${name}`, false))) {
-        const theirs = fromRmw((info as { qos?: unknown; qos_profile?: unknown }).qos ?? (info as { qos_profile?: unknown }).qos_profile);
+        const theirs = fromRmw((info as { qos_profile?: unknown }).qos_profile);
         const why = theirs && incompatibility(theirs, ours);
         if (why) problems.push(`${ns}/${name}: publisher ${(info as { node_name?: string }).node_name ?? '?'} incompatible: ${why}`);
       }
@@ -777,7 +777,7 @@ export class ArmNodes {
     ];
     for (const [name, ours, node] of pubs) {
       for (const info of safe(() => node.getSubscriptionsInfoByTopic(`${ns}/${name}`, false))) {
-        const theirs = fromRmw((info as { qos?: unknown }).qos ?? (info as { qos_profile?: unknown }).qos_profile);
+        const theirs = fromRmw((info as { qos_profile?: unknown }).qos_profile);
         const why = theirs && incompatibility(ours, theirs);
         if (why) problems.push(`${ns}/${name}: subscriber ${(info as { node_name?: string }).node_name ?? '?'} incompatible: ${why}`);
       }

@@ -49,7 +49,8 @@ export class FakeRcl extends RecordingRcl {
     const list = kind === 'publication' ? this.pubsByTopic.get(topic) ?? [] : this.subsByTopic.get(topic) ?? [];
     return list.filter((e) => !e.destroyed).map((e) => ({
       node_name: this.nodeOf.get(e)?.nodeName,
-      qos: { reliability: RMW.reliability[e.qos.reliability], durability: RMW.durability[e.qos.durability], depth: e.qos.depth, history: 1 },
+      // As rclnodejs 2.2.0 builds TopicEndpointInfo (src/rcl_utilities.cpp ConvertToJSTopicEndpoint): qos_profile.
+      qos_profile: { reliability: RMW.reliability[e.qos.reliability], durability: RMW.durability[e.qos.durability], depth: e.qos.depth, history: 1 },
     }));
   }
 
