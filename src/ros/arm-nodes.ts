@@ -88,6 +88,11 @@ function frameIs(v: DataView, expected: Uint8Array): boolean {
   return true;
 }
 
+/** A Buffer view of encoded bytes (no copy). */
+function asBuffer(u: Uint8Array): Buffer {
+  return Buffer.from(u.buffer, u.byteOffset, u.byteLength);
+}
+
 function frameOf(v: DataView): string {
   if (v.byteLength < 16) return '?';
   const len = v.getUint32(12, v.getUint8(1) === 1);
@@ -153,6 +158,7 @@ export class ArmNodes {
 
   // Hot-path buffers, preallocated.
   private readonly wrenchRow = new Float64Array(8);
+  private readonly wrench6 = this.wrenchRow.subarray(2, 8);
   private readonly pose = new Float64Array(9);
   private readonly joint = new JointStateDecoder(MAX_JOINTS);
   private readonly jointRow = new Float64Array(2 + 3 * MAX_JOINTS);
@@ -547,7 +553,7 @@ export class ArmNodes {
     this.lastWrenchSec = sec;
     this.lastWrenchNsec = nsec;
     this.lastWrenchSteady = this.steadyS();
-    const o = step.step(t, row.subarray(2, 8));
+    const o = step.step(t, this.wrench6);
     this.publishSample(o, sec, nsec);
   }
 
@@ -555,7 +561,7 @@ export class ArmNodes {
     this.correctionPub!.publish(this.correctionW.write(sec, nsec, o.correction));
     this.impactPub!.publish(this.impactW.write(sec, nsec, o.impact));
     this.twistPub!.publish(this.twistW.write(sec, nsec, this.active ? o.twist : this.zero6));
-    if (o.beliefUpdated) this.beliefPub!.publish(Buffer.from(this.enc!.beliefMsg(o)));
+    if (o.beliefUpdated) this.beliefPub!.publish(asBuffer(this.enc!.beliefMsg(o)));
     if (this.tareWaiting.length) this.answerTare(o);
     this.status(o);
   }
@@ -719,8 +725,8 @@ export class ArmNodes {
     const changed = o.role !== this.lastRole || o.held !== this.lastHeld;
     if (changed || o.t_s - this.lastStatusT >= STATUS_PERIOD_S || o.t_s < this.lastStatusT) {
       this.lastStatusT = o.t_s;
-      this.rolePub!.publish(Buffer.from(this.enc!.roleState(o)));
-      this.watchdogPub!.publish(Buffer.from(this.enc!.watchdogStatus(o.t_s, this.step!.watchdog)));
+      this.rolePub!.publish(asBuffer(this.enc!.roleState(o)));
+      this.watchdogPub!.publish(asBuffer(this.enc!.watchdogStatus(o.t_s, this.step!.watchdog)));
       if (o.held && !this.lastHeld) {
         const wd = this.step!.watchdog;
         const why = Array.from({ length: wd.tripsLength }, (_, k) => CHECKS[wd.tripAt(k).check]).join(', ');

@@ -47,6 +47,20 @@ describe('antiphon node --dry-run', () => {
   });
 });
 
+describe('SROS2: services can be turned off', () => {
+  it('ros.services.enabled: false (read-only) leaves no reset or tare service, and says so', () => {
+    const cell = loadCell('config/demo_cell.yaml');
+    const values = new Map(cell.left.values);
+    values.set('ros.services.enabled', { ...values.get('ros.services.enabled')!, value: false });
+    const rcl = new RecordingRcl();
+    new ArmNodes(rcl, { arm: 'left', config: cell.left.config, values }).inference.configure();
+    const g = rcl.graph();
+    expect(g.nodes.flatMap((n) => n.services)).toEqual([]);
+    expect(g.nodes[1]!.parameters.find((p) => p.name === 'ros.services.enabled')).toMatchObject({ type: 'bool', read_only: true });
+    expect(rcl.nodes[1]!.logs.some((l) => l.includes('no reset_hold or tare service'))).toBe(true);
+  });
+});
+
 describe('antiphon node refusals', () => {
   it('without --params: exit 2, a live cell never runs on demo values', async () => {
     const r = await run(['--arm', 'left', '--dry-run']);
