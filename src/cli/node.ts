@@ -10,7 +10,7 @@ import { loadCell } from '../params/config.js';
 import type { ArmConfig } from '../params/config.js';
 import type { ArmName, ResolvedValue } from '../params/spec.js';
 import { ArmNodes } from '../ros/arm-nodes.js';
-import type { RclModule } from '../ros/rcl.js';
+import { stateLabel, type RclModule } from '../ros/rcl.js';
 import { RecordingRcl, type DryRunGraph } from '../ros/recorder.js';
 import { InputError, type Problem } from '../util/errors.js';
 import { logger } from '../util/log.js';
@@ -102,7 +102,7 @@ function graphText(g: DryRunGraph): string {
  * destroy the nodes before a final zero twist could be sent), then rcl is initialised with the
  * ROS arguments. `stop` sends the final zero twist, destroys the nodes and shuts rcl down.
  */
-export async function startNodes(rcl: RclModule, arm: ArmName, loaded: { config: ArmConfig; values: ReadonlyMap<string, ResolvedValue> }, rosArgs: readonly string[], opts: { autostart?: boolean } = {}): Promise<{ nodes: ArmNodes; stop: (why: string) => void }> {
+export async function startNodes(rcl: RclModule, arm: ArmName, loaded: { config: ArmConfig; values: ReadonlyMap<string, ResolvedValue> }, rosArgs: readonly string[], opts: { autostart?: boolean } = {}): Promise<{ nodes: ArmNodes; stop: (why: string) => Promise<void> }> {
   rcl.removeSignalHandlers();
   await rcl.init(undefined, ['node', 'antiphon', ...rosArgs]);
   const nodes = new ArmNodes(rcl, { arm, config: loaded.config, values: loaded.values });
@@ -112,20 +112,29 @@ export async function startNodes(rcl: RclModule, arm: ArmName, loaded: { config:
   nodes.inference.spin();
   let auto: NodeJS.Timeout | undefined;
   if (opts.autostart) {
-    // For cells whose bringup does not drive the lifecycle: configure, then activate once tared.
+    // For cells whose bringup does not drive the lifecycle: configure once, then activate once tared.
+    let configured = false;
     auto = setInterval(() => {
       const s = nodes.state;
-      if (s === 'unconfigured') nodes.inference.configure();
-      else if (s === 'inactive') nodes.inference.activate();
-      else if (s === 'active' || s === 'finalized') clearInterval(auto);
+      if (s === 'unconfigured' && !configured) {
+        configured = true;
+        if (stateLabel(nodes.inference.configure()) !== 'inactive') {
+          log.error('autostart: configure refused (see the log above); the node stays unconfigured');
+          clearInterval(auto);
+        }
+      } else if (s === 'inactive') nodes.inference.activate();
+      else clearInterval(auto);
     }, 500);
   }
   return {
     nodes,
-    stop: (why: string) => {
+    stop: async (why: string) => {
       if (auto) clearInterval(auto);
       log.info({ why }, 'shutting down: final zero twist, then the nodes are destroyed');
-      nodes.shutdown();
+      nodes.finalize();
+      // Let the reliable final zero twist leave before the publisher goes.
+      await new Promise((r) => setTimeout(r, 200));
+      nodes.destroy();
       rcl.shutdown();
     },
   };
@@ -158,10 +167,7 @@ export function register(program: Command): void {
         const rcl = await loadRclnodejs();
         const live = await startNodes(rcl, arm, cell[arm], rosArgs, { autostart: opts.autostart });
         await new Promise<void>((resolve) => {
-          const stop = (signal: string) => {
-            live.stop(signal);
-            resolve();
-          };
+          const stop = (signal: string) => void live.stop(signal).then(resolve);
           process.once('SIGTERM', () => stop('SIGTERM'));
           process.once('SIGINT', () => stop('SIGINT'));
         });

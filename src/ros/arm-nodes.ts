@@ -389,11 +389,20 @@ export class ArmNodes {
     return CALLBACK.success;
   }
 
-  /** Process shutdown: a final zero twist, then the nodes are destroyed (rclnodejs's SIGINT handler must be removed first). */
-  shutdown(): void {
+  /** The shutdown transition (from any primary state): a final zero twist, endpoints removed. */
+  finalize(): void {
     if (this.state !== 'finalized') this.inference.shutdown();
+  }
+
+  destroy(): void {
     this.inference.destroy();
     this.roles.destroy();
+  }
+
+  /** Process shutdown: a final zero twist, then the nodes are destroyed (rclnodejs's SIGINT handler must be removed first). */
+  shutdown(): void {
+    this.finalize();
+    this.destroy();
   }
 
   private build(): void {

@@ -120,7 +120,7 @@ describe('defect 9: shutdown', () => {
     live.nodes.inference.configure();
     const twist = rcl.topic('/left/antiphon/recommended_twist');
     const before = twist.sent.length;
-    live.stop('SIGINT');
+    await live.stop('SIGINT');
     expect(twist.sent.length).toBe(before + 1);
     expect(decodeWrench(twist.sent.at(-1) as Buffer).slice(2)).toEqual([0, 0, 0, 0, 0, 0]);
     expect(rcl.nodes.filter((n) => n.nodeName.startsWith('antiphon')).every((n) => n.destroyed)).toBe(true);

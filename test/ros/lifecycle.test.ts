@@ -3,8 +3,10 @@
  * practice: the ROS 2 lifecycle design, primary states unconfigured, inactive, active,
  * finalized): the twist is exactly zero in every state but active.
  */
-import { describe, expect, it } from 'vitest';
-import { decodeVec, setup, withValues } from './harness.js';
+import { describe, expect, it, vi } from 'vitest';
+import { startNodes } from '../../src/cli/node.js';
+import { FakeRcl } from './fake-rcl.js';
+import { cell, decodeVec, setup, withValues } from './harness.js';
 
 const zero = [0, 0, 0, 0, 0, 0];
 
@@ -79,5 +81,27 @@ describe('lifecycle of /left/antiphon', () => {
     s.feed(1000, 10, { force: () => [400, 0, -11.8, 0, 0, 0] });
     s.feed(1010, 100);
     expect(s.lastTwist().slice(2)).toEqual(zero);
+  });
+});
+
+describe('autostart (launch argument autostart:=true, --autostart)', () => {
+  it('configures by itself, then tries to activate until tared; the cell bringup is not needed', async () => {
+    vi.useFakeTimers();
+    try {
+      const rcl = new FakeRcl();
+      const live = await startNodes(rcl, 'left', cell.left, [], { autostart: true });
+      expect(live.nodes.state).toBe('unconfigured');
+      vi.advanceTimersByTime(500);
+      expect(live.nodes.state).toBe('inactive');
+      vi.advanceTimersByTime(1000); // no wrench yet: not tared, activation refused (and retried)
+      expect(live.nodes.state).toBe('inactive');
+      expect(rcl.node('antiphon').logs.filter((l) => l.startsWith('warn activate refused')).length).toBe(2);
+      const stopped = live.stop('test');
+      vi.advanceTimersByTime(300);
+      await stopped;
+      expect(live.nodes.state).toBe('finalized');
+    } finally {
+      vi.useRealTimers();
+    }
   });
 });
