@@ -5,7 +5,9 @@ import { loadCell } from '../params/config.js';
 import { renderReport } from '../report/html.js';
 import { writeEpisodeBag } from '../sim/episode-bag.js';
 import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/episode.js';
-import { ARM_MODELS, type ArmModel } from '../sim/options.js';
+import type { CalibrationSummary } from '../sim/belief-metrics.js';
+import type { CommitmentSummary, PartnerHoldSummary } from '../sim/measures.js';
+import { ARM_MODELS, type ArmModel, type InjectHold, type SimOptionsOverrides } from '../sim/options.js';
 import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
 import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
@@ -36,6 +38,42 @@ export function armModelOption(raw: string): ArmModel {
   return raw as ArmModel;
 }
 
+/** Parse --inject-hold ARM:T (e.g. left:3.0). */
+export function injectHoldOption(raw: string | undefined): InjectHold | undefined {
+  if (raw === undefined) return undefined;
+  const m = /^(left|right):([^:]+)$/.exec(raw.trim());
+  const t = m ? Number(m[2]) : Number.NaN;
+  if (!m || m[2]!.trim() === '' || !Number.isFinite(t) || t < 0 || t > 3600) {
+    throw new InputError({ code: 'cli.bad_inject_hold', message: `--inject-hold must be ARM:TIME with ARM left or right and TIME in s from 0 to 3600, got '${raw}'`, where: { option: '--inject-hold' }, hint: 'e.g. left:3.0' });
+  }
+  return { arm: m[1] as 'left' | 'right', t_s: t };
+}
+
+/**
+ * The simulation options of --disturbance-n and --inject-hold. An injected hold also turns off
+ * the hold timeout, so the episode goes on and the partner can be watched.
+ */
+export function measureOptions(disturbance: number | undefined, inject: InjectHold | undefined): SimOptionsOverrides {
+  return { ...(disturbance !== undefined ? { disturbance_n: disturbance } : {}), ...(inject ? { inject_hold: inject, hold_timeout_s: 0 } : {}) };
+}
+
+const pct = (v: number | null, d = 2) => (v === null ? '-' : `${(100 * v).toFixed(d)} %`);
+const num = (v: number | null, d = 3) => (v === null ? '-' : v.toFixed(d));
+
+export function calibrationText(c: CalibrationSummary): string {
+  return `${c.updates} belief pairs; ECE ${num(c.ece)}; P(truth) < 0.05 in ${pct(c.p_truth_below_0_05_rate)}`;
+}
+
+export function commitmentText(c: CommitmentSummary): string {
+  return `${c.disagreeing} of ${c.switches} switches disagree (${pct(c.rate, 1)}; just committed ${c.fresh_disagreeing}, ${pct(c.fresh_rate, 1)}), ${c.onsets} onsets; repair max ${num(c.repair_s.max)} s, p95 ${num(c.repair_s.p95)} s, max ${c.repair_slots_max ?? '-'} slots; unrepaired ${c.unrepaired}`;
+}
+
+export function partnerHoldText(p: PartnerHoldSummary): string {
+  if (p.injected_at_s === null) return `injected hold on ${p.arm}: the episode ended before it`;
+  const det = p.detection_s === null ? 'never stopped' : `stopped ${num(p.detection_s)} s after it (watched ${num(p.watched_after_stop_s, 2)} s more)`;
+  return `NaN wrench on ${p.arm} (${p.role_at_injection}) at ${num(p.injected_at_s)} s, held at ${num(p.held_at_s)} s; partner ${p.partner} (${p.partner_role_at_injection}) ${det}; object moved ${num(p.object_moved_m)} m (path ${num(p.object_path_m)} m) after it`;
+}
+
 export function summaryText(s: EpisodeSummary): string {
   const f = (v: number | null, d = 2) => (v === null ? '-' : v.toFixed(d));
   const occ = Object.entries(s.world.occupied).map(([k, v]) => `${k} ${v ? 'occupied' : 'free'}`).join(', ');
@@ -47,7 +85,11 @@ export function summaryText(s: EpisodeSummary): string {
     `internal force: peak ${f(s.internal_force.peak_n)} N, mean ${f(s.internal_force.mean_n)} N`,
     `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}`,
     `role switches: left ${s.role_switches.left}, right ${s.role_switches.right}; tared at left ${f(s.tared_at_s.left, 3)} s, right ${f(s.tared_at_s.right, 3)} s`,
+    `belief calibration: ${calibrationText(s.belief.calibration)}`,
+    `commitments: ${commitmentText(s.commitments)}${s.disturbance_n > 0 ? ` (disturbance ${s.disturbance_n} N)` : ''}`,
+    `same role: ${f(s.same_role.total_s, 3)} s (speaker ${f(s.same_role.both_speaker_s, 3)} s, listener ${f(s.same_role.both_listener_s, 3)} s)`,
   ];
+  if (s.partner_hold) lines.push(`partner hold: ${partnerHoldText(s.partner_hold)}`);
   for (const e of s.holds.events) {
     lines.push(`  hold ${e.arm} at ${f(e.start_s, 3)} s${e.end_s === null ? ', not released' : `, released at ${f(e.end_s, 3)} s`}: ${e.reasons.map((r) => `${r.check} (${r.input} ${r.value.toFixed(3)} > ${r.limit})`).join(', ')}`);
   }
@@ -64,15 +106,19 @@ export function register(program: Command): void {
     .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
     .option('--duration <s>', 'simulated time limit, s (default task.time_limit_s)')
     .option('--arm-model <m>', 'tool_point (three admittance carriages) or six_joint (articulated arm under Cartesian damping)', 'tool_point')
+    .option('--disturbance-n <N>', 'correction-band force disturbance on each wrist sensor: stationary std, N (Ornstein-Uhlenbeck, 0.2 s), after the start-up tare', '0')
+    .option('--inject-hold <arm:t>', 'one NaN wrench sample on that arm at that time, s (e.g. left:3.0); also turns off the hold timeout')
     .option('--out <dir>', 'output folder for bag/, summary.json and report.html (default out/sim-<seed>)')
     .option('--overwrite', 'replace an existing output folder')
     .option('--json', 'print the summary as JSON')
-    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; out?: string; overwrite?: boolean; json?: boolean }) =>
+    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
         const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
         const duration = numberOption('--duration', opts.duration, 0.01, 3600);
         const armModel = armModelOption(opts.armModel);
+        const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
+        const inject = injectHoldOption(opts.injectHold);
         const cell = loadCell(opts.params);
         const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
         let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
@@ -82,7 +128,7 @@ export function register(program: Command): void {
           }
           strategy = { name: strategy.name, k: period };
         }
-        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
         const dir = opts.out ?? join('out', `sim-${seed}`);
         const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite);
         if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });

@@ -175,6 +175,7 @@ export class ArmStep {
   // Scratch, preallocated.
   private readonly loglik: Float64Array;
   private readonly v2 = new Float64Array(2);
+  private readonly f3 = new Float64Array(3);
   private readonly obj = new Float64Array(2);
   private readonly rawFinite = new Float64Array(6);
   private readonly marg: Float64Array;
@@ -503,16 +504,25 @@ export class ArmStep {
     this.cmdVx = this.cmdVy = 0;
   }
 
-  private accumulate(): void {
+  /**
+   * The correction-band force rotated into the cell frame with the tool orientation (the
+   * normalised quaternion the payload model uses too): f' = R(q) f. Writes out[0..2].
+   */
+  cellCorrection(out: Float64Array): void {
     const c = this.filter.correction;
     const q = this.pose;
     const qx = q[3]!, qy = q[4]!, qz = q[5]!, qw = q[6]!;
     const fx = c[0]!, fy = c[1]!, fz = c[2]!;
-    // Rotate the sensor-frame force into the cell frame: f' = R(q) f.
-    const r00 = 1 - 2 * (qy * qy + qz * qz), r01 = 2 * (qx * qy - qz * qw), r02 = 2 * (qx * qz + qy * qw);
-    const r10 = 2 * (qx * qy + qz * qw), r11 = 1 - 2 * (qx * qx + qz * qz), r12 = 2 * (qy * qz - qx * qw);
-    this.accFx += r00 * fx + r01 * fy + r02 * fz;
-    this.accFy += r10 * fx + r11 * fy + r12 * fz;
+    out[0] = (1 - 2 * (qy * qy + qz * qz)) * fx + 2 * (qx * qy - qz * qw) * fy + 2 * (qx * qz + qy * qw) * fz;
+    out[1] = 2 * (qx * qy + qz * qw) * fx + (1 - 2 * (qx * qx + qz * qz)) * fy + 2 * (qy * qz - qx * qw) * fz;
+    out[2] = 2 * (qx * qz - qy * qw) * fx + 2 * (qy * qz + qx * qw) * fy + (1 - 2 * (qx * qx + qy * qy)) * fz;
+  }
+
+  private accumulate(): void {
+    const f = this.f3;
+    this.cellCorrection(f);
+    this.accFx += f[0]!;
+    this.accFy += f[1]!;
     // This arm's own command of the previous sample (equal to the published twist).
     this.accVx += this.cmdVx;
     this.accVy += this.cmdVy;

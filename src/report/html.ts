@@ -20,7 +20,7 @@ import {
   type Steps,
 } from './decimate.js';
 import { escapeHtml, microDeltas, scriptJson, seconds3 } from './encode.js';
-import type { ReportArm, ReportEvent, ReportInput, ReportSeries } from './types.js';
+import type { ReportArm, ReportCalibration, ReportEvent, ReportInput, ReportSeries } from './types.js';
 
 export { changePoints, columnOf, envelope, envelopeStrided, onIntervals, type Envelope, type Steps } from './decimate.js';
 export { escapeHtml } from './encode.js';
@@ -181,6 +181,7 @@ export function renderReport(input: ReportInput, options: RenderOptions = {}): s
   if (input.checks) nav.push('<a href="#checks">Expectations</a>');
   input.arms.forEach((a, i) => nav.push(`<a href="#arm-${i}">Arm ${escapeHtml(a.name)}</a>`));
   if (input.internalForce) nav.push('<a href="#internal">Internal force</a>');
+  if (input.calibration) nav.push('<a href="#calibration">Calibration</a>');
 
   const meta = [
     `${input.arms.length} arm${input.arms.length === 1 ? '' : 's'}`,
@@ -215,6 +216,7 @@ export function renderReport(input: ReportInput, options: RenderOptions = {}): s
     input.checks ? renderChecks(input.checks) : '',
     ...armHtml,
     internalHtml,
+    input.calibration ? renderCalibration(input.calibration) : '',
     '</main>',
     `<footer><p>How to read the plots: each plot has ${columns} time columns over the same time span; a continuous series is drawn as the band from its least to its greatest value in each column, so a single-sample spike stays visible. Roles and watchdog holds are drawn from their exact change points; a hold shorter than a column is widened to stay visible. Move the pointer over a plot for the time and the values (min…max of the column) at that time.</p><p>antiphon report</p></footer>`,
     `<script type="application/json" id="antiphon-data">${scriptJson(payload)}</script>`,
@@ -405,6 +407,58 @@ function renderInternal(series: ReportSeries, arms: readonly ReportArm[], holdIn
       height: 220,
       notes: [],
     }),
+    '</section>',
+  ].join('\n');
+}
+
+/**
+ * The reliability diagram as inline SVG (static: no script, no data in the payload): per bin of
+ * predicted probability a bar up to the observed frequency and a dot at (mean predicted,
+ * observed), over the diagonal of a calibrated belief; then the bins as a table.
+ */
+export function renderCalibration(c: ReportCalibration): string {
+  const W = 300, H = 300, L = 46, R = 12, T = 10, B = 40;
+  const pw = W - L - R, ph = H - T - B;
+  const x = (p: number) => L + p * pw;
+  const y = (p: number) => T + (1 - p) * ph;
+  const f3 = (v: number) => Number(v.toFixed(3)).toString();
+  const parts: string[] = [];
+  parts.push(`<svg class="reliability" viewBox="0 0 ${W} ${H}" width="${W}" height="${H}" role="img" aria-label="Reliability diagram: observed frequency against predicted probability">`);
+  parts.push(`<rect x="${L}" y="${T}" width="${pw}" height="${ph}" fill="#fff" stroke="#a9a398"/>`);
+  for (let k = 1; k < 10; k++) {
+    const g = k / 10;
+    parts.push(`<line x1="${f3(x(g))}" y1="${T}" x2="${f3(x(g))}" y2="${T + ph}" stroke="#ebe8e1"/><line x1="${L}" y1="${f3(y(g))}" x2="${L + pw}" y2="${f3(y(g))}" stroke="#ebe8e1"/>`);
+  }
+  c.bins.forEach((b, i) => {
+    if (b.count === 0 || b.observed_frequency === null || b.mean_predicted === null) return;
+    const x0 = x(b.lo) + 1, x1 = x(b.hi) - 1;
+    const top = y(b.observed_frequency);
+    const tip = `${f3(b.lo)}–${f3(b.hi)}: ${b.count} pairs, mean predicted ${f3(b.mean_predicted)}, observed ${f3(b.observed_frequency)}`;
+    parts.push(`<rect class="bar" data-bin="${i}" data-count="${b.count}" x="${f3(x0)}" y="${f3(top)}" width="${f3(x1 - x0)}" height="${f3(T + ph - top)}" fill="${C.correction}" fill-opacity="0.35"><title>${escapeHtml(tip)}</title></rect>`);
+    parts.push(`<circle class="conf" data-bin="${i}" cx="${f3(x(b.mean_predicted))}" cy="${f3(top)}" r="3.5" fill="${C.impact}"><title>${escapeHtml(tip)}</title></circle>`);
+  });
+  parts.push(`<line class="diagonal" x1="${x(0)}" y1="${y(0)}" x2="${x(1)}" y2="${y(1)}" stroke="#1d232a" stroke-dasharray="4 3"/>`);
+  for (let k = 0; k <= 10; k += 2) {
+    const g = k / 10;
+    parts.push(`<text x="${f3(x(g))}" y="${T + ph + 14}" text-anchor="middle" font-size="10" fill="#5d646e">${g.toFixed(1)}</text>`);
+    parts.push(`<text x="${L - 5}" y="${f3(y(g) + 3)}" text-anchor="end" font-size="10" fill="#5d646e">${g.toFixed(1)}</text>`);
+  }
+  parts.push(`<text x="${L + pw / 2}" y="${H - 6}" text-anchor="middle" font-size="11" fill="#1d232a">predicted probability (occupied)</text>`);
+  parts.push(`<text transform="translate(12 ${T + ph / 2}) rotate(-90)" text-anchor="middle" font-size="11" fill="#1d232a">observed frequency</text>`);
+  parts.push('</svg>');
+  const fmt = (v: number | null, d: number) => (v === null ? '–' : v.toFixed(d));
+  const rows = c.bins
+    .map((b) => `<tr><td>${f3(b.lo)}–${f3(b.hi)}</td><td>${b.count}</td><td>${fmt(b.mean_predicted, 3)}</td><td>${fmt(b.observed_frequency, 3)}</td></tr>`)
+    .join('');
+  const headline = escapeHtml(`${c.updates} pairs (${c.what}); expected calibration error ${fmt(c.ece, 3)}; P(truth) < 0.05 in ${c.p_truth_below_0_05_rate === null ? '–' : (100 * c.p_truth_below_0_05_rate).toFixed(2) + ' %'} of the pairs.`);
+  return [
+    '<section id="calibration"><h2>Belief calibration</h2>',
+    `<p class="tally">${headline}</p>`,
+    '<div class="calib">',
+    parts.join(''),
+    `<table class="bins"><thead><tr><th>predicted</th><th>pairs</th><th>mean predicted</th><th>observed</th></tr></thead><tbody>${rows}</tbody></table>`,
+    '</div>',
+    '<p class="note">Bars: the observed frequency of occupied in each bin of predicted probability; dots: the bin\'s mean prediction; dashed: a calibrated belief. The expected calibration error weighs each bin\'s gap between the two by its share of the pairs.</p>',
     '</section>',
   ].join('\n');
 }
@@ -731,6 +785,10 @@ table.events th:first-child{text-align:right}
 table.events td:first-child{font-variant-numeric:tabular-nums;text-align:right;white-space:nowrap;width:7em}
 table.events td.k{white-space:nowrap;width:8em}
 td.k::before{content:"";display:inline-block;width:8px;height:8px;margin-right:6px;border-radius:1px;background:#777}
+div.calib{display:flex;flex-wrap:wrap;gap:12px 28px;align-items:flex-start}
+svg.reliability{flex:none;background:var(--paper)}
+table.bins th{border-bottom:1px solid var(--ink);font-weight:600}
+table.bins td{font-variant-numeric:tabular-nums;border-bottom:1px solid #f0ede6}
 footer{margin-top:32px;border-top:1px solid var(--rule);color:var(--muted);font-size:12.5px}
 @media print{.scroll.tall{max-height:none;overflow:visible}.tread,.cursor,.filter{display:none}}
 `;

@@ -50,6 +50,29 @@ export interface ReportInput {
   readonly arms: readonly ReportArm[];
   /** Opposing force between the arms along the object, N (when both arms are known). */
   readonly internalForce?: ReportSeries;
+  /** Reliability diagram of the belief, when the truth is known (simulated cell). */
+  readonly calibration?: ReportCalibration;
   /** Expectation verdicts, when checks ran. */
   readonly checks?: readonly { readonly name: string; readonly measured: string; readonly verdict: 'pass' | 'fail' }[];
+}
+
+/** One bin of a reliability diagram: predicted probability in [lo, hi). */
+export interface ReportReliabilityBin {
+  readonly lo: number;
+  readonly hi: number;
+  readonly count: number;
+  /** Mean predicted probability in the bin; null when empty. */
+  readonly mean_predicted: number | null;
+  /** Observed frequency of the event in the bin; null when empty. */
+  readonly observed_frequency: number | null;
+}
+
+/** Calibration of a belief against the truth (the simulated cell knows the truth). */
+export interface ReportCalibration {
+  /** What the pairs are, e.g. `listener belief updates of both arms, every hidden zone`. */
+  readonly what: string;
+  readonly updates: number;
+  readonly ece: number | null;
+  readonly p_truth_below_0_05_rate: number | null;
+  readonly bins: readonly ReportReliabilityBin[];
 }

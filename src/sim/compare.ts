@@ -9,12 +9,15 @@ import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { ArmConfig } from '../params/config.js';
 import { InputError } from '../util/errors.js';
-import { checkEpisodeSetup, runEpisodeWith, type EndReason, type EpisodeSummary } from './episode.js';
+import type { MainModule } from 'mujoco-js';
+import { pooledCalibration, type CalibrationSummary, type CalibrationSums } from './belief-metrics.js';
+import { checkEpisodeSetup, runEpisodeWith, type EndReason, type EpisodeResult, type EpisodeSummary } from './episode.js';
+import { commitmentSummary, percentile, type CommitmentSummary, type CommitmentSums, type EpisodeMeasureSummary, type PartnerHoldSummary } from './measures.js';
 import { loadMujoco } from './mujoco.js';
 import { simOptions, type SimOptionsOverrides } from './options.js';
 import { mean, wilsonInterval } from './stats.js';
 import { strategyLabel, type StrategySpec } from './strategies.js';
-import { worldSeed } from './world.js';
+import { sampleWorld, worldSeed } from './world.js';
 
 export interface CompareInput {
   readonly left: ArmConfig;
@@ -40,6 +43,14 @@ export interface RunOutcome {
   readonly mean_internal_force_n: number;
   readonly time_to_goal_s: number | null;
   readonly holds: number;
+  readonly duration_s: number;
+  /** Raw calibration sums of the run's belief pairs (pooled over a batch). */
+  readonly calibration: CalibrationSums;
+  readonly commitments: CommitmentSums;
+  readonly same_role_s: number;
+  /** Sampled time of the run (samples x sample period), s. */
+  readonly sampled_s: number;
+  readonly partner_hold: PartnerHoldSummary | null;
 }
 
 export interface StrategyRow {
@@ -57,6 +68,37 @@ export interface StrategyRow {
   /** Mean time to goal over the successful runs, s; null when none succeeded. */
   readonly mean_time_s: number | null;
   readonly end_reasons: Readonly<Record<string, number>>;
+  /** Every run's belief pairs pooled. */
+  readonly calibration: CalibrationSummary;
+  /** Every run's evaluated switches pooled. */
+  readonly commitments: CommitmentSummary;
+  /** Both arms in the same role: total over the runs, mean per run, and fraction of the simulated time. */
+  readonly same_role: { readonly total_s: number; readonly mean_s: number; readonly fraction: number };
+  /** Runs with an injected hold: the partner's detection time; null when no run had one. */
+  readonly partner_hold: PartnerHoldAggregate | null;
+}
+
+export interface PartnerHoldAggregate {
+  readonly runs: number;
+  /** Runs where the partner's twist was zero from some time on to the end. */
+  readonly detected: number;
+  readonly never_rate: number;
+  readonly detection_s: { readonly max: number | null; readonly p95: number | null; readonly median: number | null };
+  readonly object_moved_m: { readonly max: number | null; readonly mean: number | null };
+}
+
+export function partnerHoldAggregate(all: readonly (PartnerHoldSummary | null)[]): PartnerHoldAggregate | null {
+  const ph = all.filter((p): p is PartnerHoldSummary => p !== null && p.injected_at_s !== null);
+  if (ph.length === 0) return null;
+  const det = ph.filter((p) => p.detection_s !== null).map((p) => p.detection_s!);
+  const moved = ph.map((p) => p.object_moved_m);
+  return {
+    runs: ph.length,
+    detected: det.length,
+    never_rate: (ph.length - det.length) / ph.length,
+    detection_s: { max: det.length ? Math.max(...det) : null, p95: percentile(det, 0.95), median: percentile(det, 0.5) },
+    object_moved_m: { max: Math.max(...moved), mean: mean(moved) },
+  };
 }
 
 export interface CompareResult {
@@ -67,7 +109,7 @@ export interface CompareResult {
   readonly runs: readonly RunOutcome[];
 }
 
-export function outcomeOf(world: number, seed: number, s: EpisodeSummary): RunOutcome {
+export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: EpisodeMeasureSummary): RunOutcome {
   return {
     world,
     seed,
@@ -79,6 +121,12 @@ export function outcomeOf(world: number, seed: number, s: EpisodeSummary): RunOu
     mean_internal_force_n: s.internal_force.mean_n,
     time_to_goal_s: s.time_to_goal_s,
     holds: s.holds.count,
+    duration_s: s.duration_s,
+    calibration: m.calibration_sums,
+    commitments: m.commitment_sums,
+    same_role_s: m.same_role.total_s,
+    sampled_s: m.same_role.sampled_s,
+    partner_hold: m.partner_hold,
   };
 }
 
@@ -88,6 +136,10 @@ export interface CompareJob {
   readonly world: number;
   readonly seed: number;
   readonly strategy: StrategySpec;
+  /** Measurement batches: replace the drawn world's occupancy (task zone order). */
+  readonly occupied?: readonly boolean[];
+  /** Measurement batches: options of this run on top of the batch's. */
+  readonly options?: SimOptionsOverrides;
 }
 
 export interface WorkerInit {
@@ -132,8 +184,8 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
   if (nJobs === 1) {
     const mj = await loadMujoco();
     for (const j of jobs) {
-      const r = runEpisodeWith(mj, { left: input.left, right: input.right, strategy: j.strategy, seed: j.seed, options, duration_s: input.duration_s });
-      results[j.id] = outcomeOf(j.world, j.seed, r.summary);
+      const r = runJob(mj, { left: input.left, right: input.right, options, duration_s: input.duration_s }, j);
+      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures);
       progress();
     }
   } else {
@@ -145,6 +197,42 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
   const runs = results as RunOutcome[];
   const rows = input.strategies.map((s, si) => aggregate(s, runs.slice(si * input.worlds, (si + 1) * input.worlds)));
   return { worlds: input.worlds, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs };
+}
+
+/** One job of a batch (main thread or worker). */
+export function runJob(mj: MainModule, init: WorkerInit, j: CompareJob): EpisodeResult {
+  const options: SimOptionsOverrides = j.options ? { ...init.options, ...j.options } : init.options;
+  let world;
+  if (j.occupied) {
+    const drawn = sampleWorld(init.left.task, simOptions(options), j.seed);
+    if (j.occupied.length !== drawn.occupied.length) throw new Error(`job ${j.id}: ${j.occupied.length} occupancy values for ${drawn.occupied.length} zones`);
+    world = { ...drawn, occupied: [...j.occupied] };
+  }
+  return runEpisodeWith(mj, { left: init.left, right: init.right, strategy: j.strategy, seed: j.seed, options, duration_s: init.duration_s, ...(world ? { world } : {}) });
+}
+
+/**
+ * Run any list of jobs (measurement batches): results by job id, identical whatever `jobs`.
+ */
+export async function runJobs(init: WorkerInit, list: readonly CompareJob[], jobs = 1, onProgress?: (done: number, total: number) => void): Promise<RunOutcome[]> {
+  const results: Array<RunOutcome | undefined> = new Array(list.length);
+  let done = 0;
+  const init2: WorkerInit = { ...init, options: { ...init.options, record: false } };
+  const nJobs = Math.max(1, Math.min(jobs, list.length));
+  if (nJobs === 1) {
+    const mj = await loadMujoco();
+    for (const j of list) {
+      const r = runJob(mj, init2, j);
+      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures);
+      onProgress?.(++done, list.length);
+    }
+  } else {
+    await runPool(workerScript(), nJobs, init2, list, (id, r) => {
+      results[id] = r;
+      onProgress?.(++done, list.length);
+    });
+  }
+  return results as RunOutcome[];
 }
 
 export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): StrategyRow {
@@ -165,7 +253,21 @@ export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): Strateg
     mean_internal_force_n: mean(runs.map((r) => r.mean_internal_force_n)) ?? 0,
     mean_time_s: mean(runs.filter((r) => r.success && r.time_to_goal_s !== null).map((r) => r.time_to_goal_s!)),
     end_reasons: end,
+    calibration: pooledCalibration(runs.map((r) => r.calibration)),
+    commitments: commitmentSummary(runs.map((r) => r.commitments)),
+    same_role: sameRoleAggregate(runs),
+    partner_hold: partnerHoldAggregate(runs.map((r) => r.partner_hold)),
   };
+}
+
+function sameRoleAggregate(runs: readonly RunOutcome[]): { total_s: number; mean_s: number; fraction: number } {
+  let total = 0;
+  let time = 0;
+  for (const r of runs) {
+    total += r.same_role_s;
+    time += r.sampled_s;
+  }
+  return { total_s: total, mean_s: runs.length ? total / runs.length : 0, fraction: time > 0 ? total / time : 0 };
 }
 
 type FromWorker = { type: 'ready' } | { type: 'result'; id: number; outcome: RunOutcome } | { type: 'error'; id: number; message: string };

@@ -114,9 +114,25 @@ function simReportInput(result: EpisodeResult, replay: ReplayRecord, replaySumma
       ['collisions', `${s.collisions.count}${s.collisions.first_s === null ? '' : `, first at ${f(s.collisions.first_s, 3)} s`}`],
       ['internal force (true, along the beam)', `peak ${f(s.internal_force.peak_n)} N, mean ${f(s.internal_force.mean_n)} N`],
       ['holds', String(s.holds.count)],
+      ['belief calibration', calibrationRow(s)],
+      ['commitments', `${s.commitments.disagreeing} of ${s.commitments.switches} switches disagree; repair max ${s.commitments.repair_s.max === null ? '-' : f(s.commitments.repair_s.max, 3) + ' s'}; unrepaired ${s.commitments.unrepaired}`],
+      ['both arms in the same role', `${f(s.same_role.total_s, 3)} s`],
+      ...(s.partner_hold ? [['partner hold', partnerRow(s)] as [string, string]] : []),
       ...base.summary.filter(([k]) => k !== 'bag' && k !== 'storage' && !k.includes('internal force')),
     ],
     arms: base.arms.map((a) => ({ ...a, events: [...a.events, ...collisions].sort((x, y) => x.t_s - y.t_s) })),
     internalForce: { t: record.t, y: record.internalForce },
+    calibration: { what: 'listener belief updates of both arms, one pair per hidden zone, against the world', ...s.belief.calibration },
   };
+}
+
+function calibrationRow(s: EpisodeResult['summary']): string {
+  const c = s.belief.calibration;
+  return `ECE ${c.ece === null ? '-' : c.ece.toFixed(3)}; P(truth) < 0.05 in ${c.p_truth_below_0_05_rate === null ? '-' : (100 * c.p_truth_below_0_05_rate).toFixed(2) + ' %'} of ${c.updates} pairs`;
+}
+
+function partnerRow(s: EpisodeResult['summary']): string {
+  const p = s.partner_hold!;
+  if (p.injected_at_s === null) return `injected on ${p.arm}: the episode ended first`;
+  return `NaN wrench on ${p.arm} at ${p.injected_at_s.toFixed(3)} s; ${p.partner} ${p.detection_s === null ? 'never stopped' : `stopped after ${p.detection_s.toFixed(3)} s`}; object moved ${p.object_moved_m.toFixed(3)} m`;
 }

@@ -12,8 +12,11 @@ import { CHECKS } from '../core/watchdog.js';
 import type { ArmConfig, TaskParams } from '../params/config.js';
 import { InputError, type Problem } from '../util/errors.js';
 import { SensorModel, SimCell } from './cell.js';
+import { EpisodeMeasures, type CommitmentSummary, type EpisodeMeasureSummary, type PartnerHoldSummary, type SameRoleSummary } from './measures.js';
+import type { CalibrationSummary } from './belief-metrics.js';
 import { loadMujoco } from './mujoco.js';
-import { simOptions, type SimOptions, type SimOptionsOverrides } from './options.js';
+import { Rng } from '../util/rng.js';
+import { DISTURBANCE_TAU_S, simOptions, type SimOptions, type SimOptionsOverrides } from './options.js';
 import { Recorder, type EpisodeRecord, type ZoneMessage } from './record.js';
 import { applyStrategy, strategyLabel, type StrategySpec } from './strategies.js';
 import { checkTaskForCell, sampleWorld, type ArmSide, type World } from './world.js';
@@ -77,6 +80,16 @@ export interface EpisodeSummary {
   readonly role_switches: { readonly left: number; readonly right: number };
   readonly tared_at_s: { readonly left: number | null; readonly right: number | null };
   readonly samples: number;
+  /** Calibration of both arms' listener beliefs against this world's occupancy (pairs of both arms pooled). */
+  readonly belief: { readonly calibration: CalibrationSummary };
+  /** Agreement of the two arms' common-knowledge commitments at the role switches. */
+  readonly commitments: CommitmentSummary;
+  /** Time with both arms in the same role. */
+  readonly same_role: SameRoleSummary;
+  /** The injected hold and the partner's reaction; null without `inject_hold`. */
+  readonly partner_hold: PartnerHoldSummary | null;
+  /** Stationary standard deviation of the correction-band disturbance on each wrist, N (0: none). */
+  readonly disturbance_n: number;
 }
 
 export interface EpisodeInput {
@@ -101,6 +114,8 @@ export interface EpisodeResult {
   readonly record: EpisodeRecord | null;
   readonly world: World;
   readonly xml: string;
+  /** The measurements with their raw sums (for pooling over a batch). */
+  readonly measures: EpisodeMeasureSummary;
 }
 
 /** Problems that must stop a run before any simulation starts. */
@@ -177,6 +192,14 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
         )
       : null;
     const ch = rec ? channelIndices(rec) : null;
+    const measures = new EpisodeMeasures(arms.left, arms.right, world.occupied, 1 / rate, o.inject_hold);
+    // Correction-band disturbance: Ornstein-Uhlenbeck per wrist, force x and y, its own seeded stream
+    // (derived from the sensor's noise seed, so the white noise is the same with and without it).
+    const dist = o.disturbance_n;
+    const ouA = Math.exp(-1 / (rate * DISTURBANCE_TAU_S));
+    const ouB = dist * Math.sqrt(1 - ouA * ouA);
+    const ou = { left: new Float64Array(2), right: new Float64Array(2) };
+    const ouRng = { left: new Rng((world.sensors.left.noiseSeed ^ 0x6f75) >>> 0), right: new Rng((world.sensors.right.noiseSeed ^ 0x6f75) >>> 0) };
 
     // Scratch.
     const meas = { left: new Float64Array(6), right: new Float64Array(6) };
@@ -261,6 +284,15 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
           const arm = arms[s];
           cell.wrenchTruth(s, truthW[s]);
           sensors[s].measure(t, truthW[s], meas[s]);
+          if (dist > 0 && taredAt[s] !== null) {
+            const d = ou[s];
+            const m = meas[s];
+            for (let a = 0; a < 2; a++) {
+              d[a] = ouA * d[a]! + ouB * ouRng[s].normal();
+              m[a] = m[a]! + d[a]!;
+            }
+          }
+          measures.wrench(s, t, meas[s]);
           cell.jointVelocities(s, jv);
           arm.setJointState(t, jv, nj);
           const p = pose[s];
@@ -325,6 +357,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
         }
         cell.beamPose(beam);
         cell.beamVelocity(beamV);
+        measures.sample(t, arms.left.out, arms.right.out, beam[0]!, beam[1]!);
         if (rec && ch) record(rec, ch, t, arms, meas, truthW, fCell, pose, fedView, cmd, cell, beam, beamV, internal, mask);
         sampleIndex++;
         // Success, stall.
@@ -357,6 +390,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       perZoneRec[z.name] = perZone[k]!;
       occupiedRec[z.name] = world.occupied[k]!;
     });
+    const m = measures.finish();
     const summary: EpisodeSummary = {
       seed: input.seed,
       strategy: strategyLabel(input.strategy),
@@ -375,8 +409,13 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       role_switches: { left: arms.left.roles.switches, right: arms.right.roles.switches },
       tared_at_s: { left: taredAt.left, right: taredAt.right },
       samples: sampleIndex,
+      belief: { calibration: m.calibration },
+      commitments: m.commitments,
+      same_role: m.same_role,
+      partner_hold: m.partner_hold,
+      disturbance_n: dist,
     };
-    return { summary, configs: cfg, record: rec ? rec.finish(rate, messages) : null, world, xml: cell.xml };
+    return { summary, configs: cfg, record: rec ? rec.finish(rate, messages) : null, world, xml: cell.xml, measures: m };
   } finally {
     cell.dispose();
   }

@@ -11,6 +11,7 @@ import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../core/arm-ste
 import { CHECKS } from '../core/watchdog.js';
 import type { ArmConfig } from '../params/config.js';
 import { Rng } from '../util/rng.js';
+import { EpisodeMeasures, type EpisodeMeasureSummary, type InjectHold } from './measures.js';
 
 /** Input messages of both arms, in time order. */
 export interface InputRecorder {
@@ -33,6 +34,8 @@ export interface CellRun {
   speeds?: { left: number[]; right: number[] };
   /** Per update (every 10 ms): time, left belief on the true hypothesis, right belief on the true hypothesis. */
   trace: { t: number; leftTrue: number; rightTrue: number; x: number; y: number }[];
+  /** Calibration, commitment agreement, same-role time and the partner-hold measurement (see measures.ts). */
+  measures?: EpisodeMeasureSummary;
 }
 
 export function runKinematicCell(
@@ -62,6 +65,8 @@ export function runKinematicCell(
     stopAtGoal?: boolean;
     /** A half-sine force along the sensor x axis on one arm: the beam tip knocking something. */
     knock?: { arm: 'left' | 'right'; t_s: number; force_n: number; duration_s: number };
+    /** One NaN wrench sample on one arm at the first sample at or after t_s (s from the start of the run). */
+    inject_hold?: InjectHold;
   },
 ): CellRun {
   const rng = new Rng(opts.seed);
@@ -100,6 +105,8 @@ export function runKinematicCell(
   const run: CellRun = { success: false, collided: false, time_s: opts.duration_s, peakInternalN: 0, trips: { left: [], right: [] }, trace: [] };
   if (opts.keepSpeeds) run.speeds = { left: [], right: [] };
   const n = Math.round(opts.duration_s * fs);
+  // Measures on the run's own clock (s from its start).
+  const measures = new EpisodeMeasures(L, R, occupied, dt, opts.inject_hold);
   for (let k = 0; k < n; k++) {
     const tr = k / fs; // time since the start of the run
     const t = t0 + tr;
@@ -137,6 +144,8 @@ export function runKinematicCell(
       if (kn.arm === 'left') wl[0] = wl[0]! + f;
       else wr[0] = wr[0]! + f;
     }
+    measures.wrench('left', tr, wl);
+    measures.wrench('right', tr, wr);
     rec?.wrench('left', t, wl);
     rec?.wrench('right', t, wr);
     const oL = L.step(t, wl);
@@ -157,6 +166,7 @@ export function runKinematicCell(
     vy = (oL.twist[1]! + oR.twist[1]!) / 2;
     px += dt * vx;
     py += dt * vy;
+    measures.sample(tr, oL, oR, px, py);
     for (let z = 0; z < zones.length; z++) if (occupied[z] && L.task.objectTouches(z, px, py)) run.collided = true;
     if (k % 10 === 0) run.trace.push({ t: t - t0, leftTrue: oL.belief[trueHypL]!, rightTrue: oR.belief[trueHypR]!, x: px, y: py });
     if (!reached && Math.hypot(px - left.task.goal_m[0], py - left.task.goal_m[1]) < left.task.goal_tolerance_m) {
@@ -168,6 +178,7 @@ export function runKinematicCell(
   }
   const names = (a: ArmStep) => a.watchdog.trips.map((r) => `${CHECKS[r.check]}@${r.input}:${r.value.toFixed(2)}>${r.limit}`);
   run.trips = { left: names(L), right: names(R) };
+  run.measures = measures.finish();
   return run;
 }
 

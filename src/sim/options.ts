@@ -34,6 +34,12 @@ export interface SixJointOptions {
 }
 
 export type ArmModel = 'tool_point' | 'six_joint';
+
+/** A fault injection: one NaN wrench sample on `arm` at the first sample at or after `t_s` (s). */
+export interface InjectHold {
+  readonly arm: 'left' | 'right';
+  readonly t_s: number;
+}
 export const ARM_MODELS: readonly ArmModel[] = ['tool_point', 'six_joint'];
 
 export interface SimOptions {
@@ -108,6 +114,14 @@ export interface SimOptions {
   /** Reachable cell extent in x and y, m (the beam, start, goal and zones must fit inside). */
   readonly cell_x_m: readonly [number, number];
   readonly cell_y_m: readonly [number, number];
+  /**
+   * A low-frequency force disturbance in the correction band on each wrist sensor (force x and y,
+   * sensor frame): Ornstein-Uhlenbeck with this stationary standard deviation, N, and a time
+   * constant of 0.2 s, seeded per world and arm, starting after that arm's start-up tare. 0: off.
+   */
+  readonly disturbance_n: number;
+  /** Fault injection for the partner-hold measurement (undefined: none). */
+  readonly inject_hold: InjectHold | undefined;
   /** Record every sample of both arms' inputs and outputs (off for batch comparisons). */
   readonly record: boolean;
   /** Let MuJoCo compute the mechanical energy each step (for checks; costs a little). */
@@ -163,9 +177,14 @@ export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
   contact_debounce_s: 0.05,
   cell_x_m: Object.freeze([-1.0, 3.0]) as readonly [number, number],
   cell_y_m: Object.freeze([-1.5, 1.5]) as readonly [number, number],
+  disturbance_n: 0,
+  inject_hold: undefined,
   record: true,
   energy: false,
 }) as SimOptions;
+
+/** Time constant of the correction-band disturbance, s (the kinematic cell's too). */
+export const DISTURBANCE_TAU_S = 0.2;
 
 export type SimOptionsOverrides = Partial<Omit<SimOptions, 'sensor' | 'six_joint'>> & { sensor?: Partial<SensorNoiseOptions>; six_joint?: Partial<SixJointOptions> };
 
@@ -203,6 +222,7 @@ const RANGES: ReadonlyArray<[string, number, number]> = [
   ['stall_s', 0, 3600],
   ['hold_timeout_s', 0, 3600],
   ['contact_debounce_s', 0, 10],
+  ['disturbance_n', 0, 100],
 ];
 const SENSOR_RANGES: ReadonlyArray<[string, number, number]> = [
   ['noise_force_n', 0, 50],
@@ -244,6 +264,12 @@ export function checkSimOptions(o: SimOptions): Problem[] {
     const r = o[key];
     if (!Array.isArray(r) || r.length !== 2 || !(Number.isFinite(r[0]) && Number.isFinite(r[1]) && r[0] < r[1])) {
       out.push({ code: 'sim.bad_extent', message: `sim.${key} must be [min, max] with min < max`, where: { key: `sim.${key}` } });
+    }
+  }
+  const ih = o.inject_hold;
+  if (ih !== undefined) {
+    if (typeof ih !== 'object' || ih === null || (ih.arm !== 'left' && ih.arm !== 'right') || typeof ih.t_s !== 'number' || !Number.isFinite(ih.t_s) || ih.t_s < 0) {
+      out.push({ code: 'sim.bad_inject_hold', message: `sim.inject_hold = ${JSON.stringify(ih)} is not allowed`, where: { key: 'sim.inject_hold' }, hint: "{ arm: 'left' | 'right', t_s: a time >= 0 s }" });
     }
   }
   if (typeof o.auto_reset !== 'boolean') out.push({ code: 'sim.bad_bool', message: 'sim.auto_reset must be true or false', where: { key: 'sim.auto_reset' } });

@@ -1,7 +1,6 @@
 /** Worker thread of `compare`: loads MuJoCo once, then runs the episodes it is sent. */
 import { parentPort, workerData } from 'node:worker_threads';
-import { outcomeOf, type CompareJob, type WorkerInit } from './compare.js';
-import { runEpisodeWith } from './episode.js';
+import { outcomeOf, runJob, type CompareJob, type WorkerInit } from './compare.js';
 import { loadMujoco } from './mujoco.js';
 
 const init = workerData as WorkerInit;
@@ -11,8 +10,8 @@ if (port) {
   port.on('message', (m: { type: 'job'; job: CompareJob }) => {
     const j = m.job;
     try {
-      const r = runEpisodeWith(mj, { left: init.left, right: init.right, strategy: j.strategy, seed: j.seed, options: init.options, duration_s: init.duration_s });
-      port.postMessage({ type: 'result', id: j.id, outcome: outcomeOf(j.world, j.seed, r.summary) });
+      const r = runJob(mj, init, j);
+      port.postMessage({ type: 'result', id: j.id, outcome: outcomeOf(j.world, j.seed, r.summary, r.measures) });
     } catch (err) {
       port.postMessage({ type: 'error', id: j.id, message: (err as Error).stack ?? String(err) });
     }

@@ -160,7 +160,7 @@ describe('check-config (the built binary)', () => {
     if (!existsSync(main)) throw new Error(`build failed:\n${tsc.stdout}\n${tsc.stderr}`);
     writeFileSync(join(out, 'package.json'), JSON.stringify({ type: 'module' }));
     symlinkSync(join(ROOT, 'node_modules'), join(out, 'node_modules'), 'dir');
-  });
+  }, 180_000); // a whole tsc build: far more than the default hook time on a busy machine
   /** Run the binary; the runs of one test go in parallel (each start-up loads every command). */
   const antiphon = (args: string[]) =>
     new Promise<{ status: number | null; stdout: string; stderr: string }>((resolve) => {

@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { escapeHtml, renderReport } from '../../src/report/html.js';
 import type { ReportArm, ReportInput } from '../../src/report/types.js';
 import { payloadOf, undelta } from './payload.js';
-import { syntheticArm, syntheticInput } from './synthetic.js';
+import { SYNTHETIC_CALIBRATION, syntheticArm, syntheticInput } from './synthetic.js';
 
 const EVIL = '</script><script>alert(1)</script><img src=x onerror=alert(2)>"\'&amp;';
 
@@ -149,6 +149,24 @@ describe('renderReport', () => {
     expect(lanes.lanes![11]).toBe('19 other kinds');
     expect(lanes.marks![11]!.length).toBe(19);
     expect(out.match(/<tr data-k=/g)?.length).toBe(30);
+  });
+
+  it('draws the reliability diagram: one bar and one dot per non-empty bin, bar height = observed frequency, the diagonal, a table of the bins', () => {
+    const sec = /<section id="calibration">([\s\S]*?)<\/section>/.exec(html)![1]!;
+    expect(html).toContain('<a href="#calibration">Calibration</a>');
+    // 1000 pairs, ECE and the tail rate; the description is escaped.
+    expect(sec).toContain('1000 pairs (listener updates of both arms &lt;b&gt;x&lt;/b&gt;); expected calibration error 0.123; P(truth) &lt; 0.05 in 1.25 % of the pairs.');
+    const bars = [...sec.matchAll(/<rect class="bar" data-bin="(\d+)" data-count="(\d+)" x="[\d.]+" y="([\d.]+)" width="([\d.]+)" height="([\d.]+)"/g)];
+    const full = SYNTHETIC_CALIBRATION.bins.filter((b) => b.count > 0);
+    expect(bars.map((m) => Number(m[1]))).toEqual([0, 1, 2, 3, 4, 6, 7, 8, 9]);
+    expect(bars.map((m) => Number(m[2]))).toEqual(full.map((b) => b.count));
+    // The plot area is 250 px high (300 - 10 - 40): height / 250 is the observed frequency.
+    bars.forEach((m, i) => expect(Number(m[5]) / 250).toBeCloseTo(full[i]!.observed_frequency!, 2));
+    expect(sec.match(/<circle class="conf"/g)?.length).toBe(9);
+    expect(sec).toContain('<line class="diagonal"');
+    expect(sec.match(/<tr><td>/g)?.length).toBe(10);
+    expect(sec).toContain('<tr><td>0.5–0.6</td><td>0</td><td>–</td><td>–</td></tr>');
+    expect(renderReport({ ...input, calibration: undefined })).not.toContain('id="calibration"');
   });
 
   it('escapeHtml escapes the five HTML characters', () => {

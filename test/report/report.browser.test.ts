@@ -141,6 +141,24 @@ describe.skipIf(!available)(`HTML report in Chromium${available ? '' : ` (skippe
     }
   });
 
+  it('shows the reliability diagram: visible, one bar per non-empty bin with its height the observed frequency', async () => {
+    const r = await page.evaluate(() => {
+      const svg = document.querySelector('#calibration svg.reliability')!;
+      const box = svg.getBoundingClientRect();
+      const bars = Array.from(svg.querySelectorAll('rect.bar')).map((b) => ({ bin: Number(b.getAttribute('data-bin')), h: b.getBoundingClientRect().height }));
+      const dots = svg.querySelectorAll('circle.conf').length;
+      return { w: box.width, h: box.height, bars, dots, visible: getComputedStyle(svg).display !== 'none' };
+    });
+    expect(r.visible).toBe(true);
+    expect(r.w).toBeGreaterThan(200);
+    expect(r.h).toBeGreaterThan(200);
+    const full = input.calibration!.bins.map((b, i) => ({ ...b, i })).filter((b) => b.count > 0);
+    expect(r.bars.map((b) => b.bin)).toEqual(full.map((b) => b.i));
+    expect(r.dots).toBe(full.length);
+    // Rendered heights in the ratio of the observed frequencies (the plot area is 250 of the 300 px).
+    r.bars.forEach((b, k) => expect(b.h / ((250 * r.h) / 300)).toBeCloseTo(full[k]!.observed_frequency!, 2));
+  });
+
   it('lists every event of each arm, in time order, with the text as plain text (no markup from the input)', async () => {
     for (let a = 0; a < input.arms.length; a++) {
       const arm = input.arms[a]!;

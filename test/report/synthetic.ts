@@ -103,6 +103,26 @@ export function syntheticArm(p: ArmPlan): ReportArm {
   };
 }
 
+/** An invented reliability diagram: over-confident at both ends, bin 5 empty. */
+export const SYNTHETIC_CALIBRATION: NonNullable<ReportInput['calibration']> = {
+  what: 'listener updates of both arms <b>x</b>',
+  updates: 1000,
+  ece: 0.123,
+  p_truth_below_0_05_rate: 0.0125,
+  bins: [
+    { lo: 0, hi: 0.1, count: 400, mean_predicted: 0.02, observed_frequency: 0.2 },
+    { lo: 0.1, hi: 0.2, count: 50, mean_predicted: 0.15, observed_frequency: 0.3 },
+    { lo: 0.2, hi: 0.3, count: 30, mean_predicted: 0.25, observed_frequency: 0.3 },
+    { lo: 0.3, hi: 0.4, count: 20, mean_predicted: 0.35, observed_frequency: 0.4 },
+    { lo: 0.4, hi: 0.5, count: 10, mean_predicted: 0.45, observed_frequency: 0.5 },
+    { lo: 0.5, hi: 0.6, count: 0, mean_predicted: null, observed_frequency: null },
+    { lo: 0.6, hi: 0.7, count: 20, mean_predicted: 0.65, observed_frequency: 0.6 },
+    { lo: 0.7, hi: 0.8, count: 30, mean_predicted: 0.75, observed_frequency: 0.7 },
+    { lo: 0.8, hi: 0.9, count: 40, mean_predicted: 0.85, observed_frequency: 0.7 },
+    { lo: 0.9, hi: 1, count: 400, mean_predicted: 0.98, observed_frequency: 0.8 },
+  ],
+};
+
 export function syntheticInput(duration_s: number, opts: { roleEvents?: boolean; extraEvents?: readonly ReportEvent[]; name?: string } = {}): ReportInput {
   const d = duration_s;
   const left = syntheticArm({
@@ -143,6 +163,7 @@ export function syntheticInput(duration_s: number, opts: { roleEvents?: boolean;
     ],
     arms: [left, right],
     internalForce: { t: left.rawForce.t, y: internal },
+    calibration: SYNTHETIC_CALIBRATION,
     checks: [
       { name: 'no collision with the clamp post', measured: 'min clearance 41 mm', verdict: 'pass' },
       { name: 'hold within 20 ms of the trip', measured: '1 ms', verdict: 'pass' },

@@ -1,0 +1,242 @@
+/**
+ * Issue 8 measurements, on seeded sets (every seed below is named in the JSON):
+ *   (a) belief calibration on the demo cell (MuJoCo, alternating, the sim's default sensor
+ *       noise, bias and drift) over 40 worlds;
+ *   (b) commitment agreement at the role switches, 8 noise seeds x 4 worlds (every occupancy of
+ *       the two zones) x 20 s, at a correction-band disturbance of 0, 1.5 and 4 N, in the
+ *       kinematic cell and in the MuJoCo cell;
+ *   (c) partner-hold detection: one NaN wrench sample on either arm at a random time in either
+ *       role (48 episodes per cell), the time until the partner's twist is zero for good;
+ *   (d) time with both arms in the same role, adaptive and alternating, on the worlds of (a).
+ *
+ *   npm run build && node --expose-gc dist/bench/run.js issue8
+ *   ANTIPHON_BENCH_JOBS=1 node dist/bench/run.js issue8      (one worker; default 2)
+ *
+ * Prints a table and writes bench/results/issue8.json. About 3 to 6 minutes on 2 cores.
+ */
+import { fileURLToPath } from 'node:url';
+import type { ArmConfig } from '../src/params/config.js';
+import { loadCell } from '../src/params/config.js';
+import { pooledCalibration, type CalibrationSummary } from '../src/sim/belief-metrics.js';
+import { partnerHoldAggregate, runJobs, type CompareJob, type RunOutcome } from '../src/sim/compare.js';
+import { runKinematicCell } from '../src/sim/kinematic-cell.js';
+import { commitmentSummary, percentile, type CommitmentSummary, type PartnerHoldSummary } from '../src/sim/measures.js';
+import type { SimOptionsOverrides } from '../src/sim/options.js';
+import type { StrategySpec } from '../src/sim/strategies.js';
+import { worldSeed } from '../src/sim/world.js';
+import { Rng } from '../src/util/rng.js';
+
+/** Every seed of the sets, by name. */
+export const SEEDS = {
+  /** (a), (d): world i of 40 uses worldSeed(8, i). */
+  calibration_batch: 8,
+  calibration_worlds: 40,
+  /** (b) kinematic: noise seeds 1..8; MuJoCo: world seeds worldSeed(80, i), i < 8, each with the four occupancies. */
+  commitment_kinematic_seeds: [1, 2, 3, 4, 5, 6, 7, 8],
+  commitment_mujoco_batch: 80,
+  /** (c): injection times from Rng(8103); MuJoCo worlds worldSeed(81, i), kinematic noise seed 100 + i. */
+  hold_times: 8103,
+  hold_mujoco_batch: 81,
+  hold_kinematic_seed_base: 100,
+  hold_episodes: 48,
+} as const;
+
+const DISTURBANCES_N = [0, 1.5, 4] as const;
+const COMMIT_DURATION_S = 20;
+const HOLD_DURATION_S = 20;
+const OCCUPANCIES: readonly (readonly boolean[])[] = [[false, false], [true, false], [false, true], [true, true]];
+
+function log(msg: string): void {
+  process.stderr.write(`[issue8] ${msg}\n`);
+}
+
+interface HoldPlan {
+  readonly arm: 'left' | 'right';
+  readonly role: 'speaker' | 'listener';
+  readonly t_s: number;
+}
+
+/**
+ * Injection times: episode i puts the fault on the left arm for even i, else the right; in the
+ * speaker role for i mod 4 < 2, else the listener role; in a random slot from 4 to 15 of the
+ * alternating clock (0.5 s slots) of the parity that gives that role, at a random point 0.05 to
+ * 0.45 s into it (not at a boundary).
+ */
+export function holdPlans(n: number, seed: number, period_s: number, phases: { left: number; right: number }): HoldPlan[] {
+  const rng = new Rng(seed);
+  const out: HoldPlan[] = [];
+  for (let i = 0; i < n; i++) {
+    const arm = i % 2 === 0 ? 'left' : 'right';
+    const role = i % 4 < 2 ? 'speaker' : 'listener';
+    // The arm speaks in slots where (slot + phase) is even.
+    let slot = 4 + rng.int(12);
+    const speaks = ((slot + phases[arm]) & 1) === 0;
+    if (speaks !== (role === 'speaker')) slot += 1;
+    out.push({ arm, role, t_s: slot * period_s + period_s * (0.1 + 0.8 * rng.uniform()) });
+  }
+  return out;
+}
+
+function holdFigures(all: readonly PartnerHoldSummary[]): Record<string, unknown> {
+  const agg = partnerHoldAggregate(all);
+  const byRole = (r: 'speaker' | 'listener') => partnerHoldAggregate(all.filter((p) => p.role_at_injection === r));
+  const rolesSeen = { speaker: all.filter((p) => p.role_at_injection === 'speaker').length, listener: all.filter((p) => p.role_at_injection === 'listener').length };
+  return { ...agg, held_arm_role_counts: rolesSeen, by_held_arm_role: { speaker: byRole('speaker'), listener: byRole('listener') }, arms: { left: all.filter((p) => p.arm === 'left').length, right: all.filter((p) => p.arm === 'right').length } };
+}
+
+export async function benchIssue8(jobs = Number(process.env['ANTIPHON_BENCH_JOBS'] ?? 2)): Promise<Record<string, unknown>> {
+  const t0 = performance.now();
+  const params = fileURLToPath(new URL('../../config/demo_cell.yaml', import.meta.url));
+  const cell = loadCell(params);
+  const left: ArmConfig = cell.left.config;
+  const right: ArmConfig = cell.right.config;
+  const rate = left.wrench_filter.sample_rate_hz;
+  const period = left.roles.period_s;
+  const k = Math.round(period * rate);
+  const alternating: StrategySpec = { name: 'alternating', k };
+  const adaptive: StrategySpec = { name: 'adaptive', k: null };
+  const init = { left, right, options: {} as SimOptionsOverrides, duration_s: undefined };
+
+  // (a) + (d): the 40 worlds with alternating and adaptive.
+  log(`(a, d) calibration and same-role time: ${SEEDS.calibration_worlds} worlds x 2 strategies, MuJoCo, ${jobs} jobs`);
+  const worlds = Array.from({ length: SEEDS.calibration_worlds }, (_, w) => worldSeed(SEEDS.calibration_batch, w));
+  const listA: CompareJob[] = [];
+  [alternating, adaptive].forEach((strategy, si) => worlds.forEach((seed, w) => listA.push({ id: si * worlds.length + w, world: w, seed, strategy })));
+  const runsA = await runJobs(init, listA, jobs);
+  const alt = runsA.slice(0, worlds.length);
+  const ada = runsA.slice(worlds.length);
+  const sameRole = (rs: readonly RunOutcome[]) => {
+    const each = rs.map((r) => r.same_role_s);
+    const time = rs.reduce((a, r) => a + r.sampled_s, 0);
+    const total = each.reduce((a, b) => a + b, 0);
+    return { runs: rs.length, total_s: total, max_per_run_s: Math.max(...each), p95_per_run_s: percentile(each, 0.95), runs_with_any: each.filter((x) => x > 0).length, fraction_of_time: time > 0 ? total / time : 0, successes: rs.filter((r) => r.success).length };
+  };
+  const calibration = {
+    cell: 'mujoco tool_point, config/demo_cell.yaml',
+    strategy: `alternating:${k}`,
+    worlds: worlds.length,
+    world_seeds: worlds,
+    successes: alt.filter((r) => r.success).length,
+    ...pooledCalibration(alt.map((r) => r.calibration)),
+    adaptive: pooledCalibration(ada.map((r) => r.calibration)),
+  };
+
+  // (b) kinematic.
+  log(`(b) commitments, kinematic cell: ${SEEDS.commitment_kinematic_seeds.length} seeds x 4 worlds x ${COMMIT_DURATION_S} s x ${DISTURBANCES_N.length} disturbances`);
+  const kin: Record<string, CommitmentSummary & { calibration: CalibrationSummary }> = {};
+  for (const d of DISTURBANCES_N) {
+    const sums = [];
+    const cal = [];
+    for (const seed of SEEDS.commitment_kinematic_seeds) {
+      for (const occ of OCCUPANCIES) {
+        const r = runKinematicCell(left, right, occ, { seed, duration_s: COMMIT_DURATION_S, disturbance_n: d });
+        sums.push(r.measures!.commitment_sums);
+        cal.push(r.measures!.calibration_sums);
+      }
+    }
+    kin[`${d}`] = { ...commitmentSummary(sums), calibration: pooledCalibration(cal) };
+  }
+
+  // (b) MuJoCo.
+  log(`(b) commitments, MuJoCo cell: 8 worlds x 4 occupancies x ${DISTURBANCES_N.length} disturbances, ${jobs} jobs`);
+  const mjWorlds = Array.from({ length: 8 }, (_, i) => worldSeed(SEEDS.commitment_mujoco_batch, i));
+  const listB: CompareJob[] = [];
+  for (const d of DISTURBANCES_N) {
+    for (const seed of mjWorlds) {
+      for (const occ of OCCUPANCIES) listB.push({ id: listB.length, world: listB.length, seed, strategy: alternating, occupied: occ, options: { disturbance_n: d } });
+    }
+  }
+  const runsB = await runJobs({ ...init, duration_s: COMMIT_DURATION_S }, listB, jobs);
+  const mj: Record<string, CommitmentSummary & { calibration: CalibrationSummary; successes: number; runs: number }> = {};
+  DISTURBANCES_N.forEach((d, di) => {
+    const rs = runsB.slice(di * 32, (di + 1) * 32);
+    mj[`${d}`] = { ...commitmentSummary(rs.map((r) => r.commitments)), calibration: pooledCalibration(rs.map((r) => r.calibration)), successes: rs.filter((r) => r.success).length, runs: rs.length };
+  });
+
+  // (c) partner hold.
+  const plans = holdPlans(SEEDS.hold_episodes, SEEDS.hold_times, period, { left: left.roles.phase, right: right.roles.phase });
+  log(`(c) partner hold: ${plans.length} episodes per cell`);
+  const listC: CompareJob[] = plans.map((p, i) => ({
+    id: i,
+    world: i,
+    seed: worldSeed(SEEDS.hold_mujoco_batch, i),
+    strategy: alternating,
+    options: { inject_hold: { arm: p.arm, t_s: p.t_s }, hold_timeout_s: 0 },
+  }));
+  const runsC = await runJobs({ ...init, duration_s: HOLD_DURATION_S }, listC, jobs);
+  const holdMj = runsC.map((r) => r.partner_hold!);
+  const holdKin: PartnerHoldSummary[] = plans.map((p, i) => {
+    const occ = OCCUPANCIES[i % 4]!;
+    const r = runKinematicCell(left, right, occ, { seed: SEEDS.hold_kinematic_seed_base + i, duration_s: HOLD_DURATION_S, stopAtGoal: false, inject_hold: { arm: p.arm, t_s: p.t_s } });
+    return r.measures!.partner_hold!;
+  });
+
+  const wall = (performance.now() - t0) / 1000;
+  const result = {
+    note: 'Measured on a machine shared with other jobs (2 cores); wall times are indicative only.',
+    config: 'config/demo_cell.yaml',
+    seeds: SEEDS,
+    jobs,
+    calibration,
+    commitments: {
+      duration_s: COMMIT_DURATION_S,
+      strategy: `alternating:${k}`,
+      disturbance_n: DISTURBANCES_N,
+      kinematic: kin,
+      mujoco: { world_seeds: mjWorlds, ...mj },
+    },
+    partner_hold: {
+      duration_s: HOLD_DURATION_S,
+      strategy: `alternating:${k}`,
+      injections: plans,
+      mujoco: { ...holdFigures(holdMj), world_seeds: listC.map((j) => j.seed), episodes: holdMj },
+      kinematic: { ...holdFigures(holdKin), episodes: holdKin },
+    },
+    same_role: { alternating: sameRole(alt), adaptive: sameRole(ada) },
+    wall_s: wall,
+  };
+  process.stdout.write(`\n${issue8Table(result)}\n`);
+  return result;
+}
+
+const f = (v: number | null | undefined, d = 3) => (v === null || v === undefined ? '-' : v.toFixed(d));
+const pc = (v: number | null | undefined, d = 2) => (v === null || v === undefined ? '-' : `${(100 * v).toFixed(d)} %`);
+
+/** The printed table. */
+export function issue8Table(r: {
+  calibration: CalibrationSummary & { worlds: number; strategy: string; adaptive: CalibrationSummary };
+  commitments: { kinematic: Record<string, CommitmentSummary & { calibration: CalibrationSummary }>; mujoco: Record<string, unknown> };
+  partner_hold: { mujoco: Record<string, unknown>; kinematic: Record<string, unknown> };
+  same_role: Record<string, { total_s: number; max_per_run_s: number; runs_with_any: number; runs: number; fraction_of_time: number }>;
+  wall_s: number;
+}): string {
+  const lines: string[] = [];
+  const c = r.calibration;
+  lines.push(`(a) belief calibration, MuJoCo demo cell, ${c.strategy}, ${c.worlds} worlds: ${c.updates} pairs, ECE ${f(c.ece)}, P(truth) < 0.05 in ${pc(c.p_truth_below_0_05_rate)} (goal: ECE <= 0.05, under 0.5 %)`);
+  lines.push(`    adaptive on the same worlds: ECE ${f(c.adaptive.ece)}, P(truth) < 0.05 in ${pc(c.adaptive.p_truth_below_0_05_rate)}`);
+  lines.push('    reliability: ' + c.bins.map((b) => `[${b.lo.toFixed(1)}) n=${b.count} conf ${f(b.mean_predicted, 2)} freq ${f(b.observed_frequency, 2)}`).join('; '));
+  lines.push('(b) commitments at the role switches (alternating; 8 seeds x 4 worlds x 20 s)');
+  lines.push('    cell       dist N  switches  disagreeing  rate      just committed  rate      onsets  repair max s  p95 s  max slots  unrepaired');
+  for (const cellName of ['kinematic', 'mujoco'] as const) {
+    for (const d of DISTURBANCES_N) {
+      const s = r.commitments[cellName][`${d}`] as CommitmentSummary | undefined;
+      if (!s) continue;
+      lines.push(`    ${cellName.padEnd(10)} ${String(d).padStart(6)}  ${String(s.switches).padStart(8)}  ${String(s.disagreeing).padStart(11)}  ${pc(s.rate, 1).padStart(8)}  ${String(s.fresh_disagreeing).padStart(14)}  ${pc(s.fresh_rate, 1).padStart(8)}  ${String(s.onsets).padStart(6)}  ${f(s.repair_s.max).padStart(12)}  ${f(s.repair_s.p95).padStart(5)}  ${String(s.repair_slots_max ?? '-').padStart(9)}  ${String(s.unrepaired).padStart(10)}`);
+    }
+  }
+  lines.push('    belief calibration in the same runs: ' + (['kinematic', 'mujoco'] as const).flatMap((cellName) => DISTURBANCES_N.map((d) => {
+    const cal = (r.commitments[cellName][`${d}`] as { calibration: CalibrationSummary }).calibration;
+    return `${cellName} ${d} N: ECE ${f(cal.ece)}, P(truth) < 0.05 ${pc(cal.p_truth_below_0_05_rate)}`;
+  })).join('; '));
+  lines.push('(c) partner-hold detection (one NaN wrench sample on one arm; partner twist zero to the end)');
+  for (const cellName of ['mujoco', 'kinematic'] as const) {
+    const h = r.partner_hold[cellName] as { runs: number; detected: number; never_rate: number; detection_s: { max: number | null; p95: number | null }; object_moved_m: { max: number | null; mean: number | null }; held_arm_role_counts: { speaker: number; listener: number } };
+    lines.push(`    ${cellName.padEnd(10)} ${h.runs} episodes (held arm speaker ${h.held_arm_role_counts.speaker}, listener ${h.held_arm_role_counts.listener}): detected ${h.detected}, never ${pc(h.never_rate, 1)}; detection max ${f(h.detection_s.max)} s, p95 ${f(h.detection_s.p95)} s; object moved after the hold: mean ${f(h.object_moved_m.mean)} m, max ${f(h.object_moved_m.max)} m`);
+  }
+  lines.push('(d) both arms in the same role (MuJoCo, worlds of (a))');
+  for (const [name, s] of Object.entries(r.same_role)) {
+    lines.push(`    ${name.padEnd(11)} total ${f(s.total_s)} s over ${s.runs} runs (${pc(s.fraction_of_time, 3)} of the time); max per run ${f(s.max_per_run_s)} s; runs with any ${s.runs_with_any}`);
+  }
+  lines.push(`wall time ${r.wall_s.toFixed(0)} s (shared machine)`);
+  return lines.join('\n');
+}
