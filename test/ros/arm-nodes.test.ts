@@ -4,7 +4,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { ArmStep } from '../../src/core/arm-step.js';
-import { activateAfterTare, cell, decodeVec, reader, setup } from './harness.js';
+import { CHECKS } from '../../src/core/watchdog.js';
+import { activateAfterTare, cell, decodeVec, diag, reader, setup } from './harness.js';
 
 describe('ArmNodes (live adapter)', () => {
   it('two nodes in /left: the roles node holds the force-torque and joint inputs, the lifecycle node the twist', () => {
@@ -60,6 +61,18 @@ describe('ArmNodes (live adapter)', () => {
     expect(s.rcl.call('/left/antiphon/reset_hold').reply).toMatchObject({ success: true });
     // Every reset is logged with its outcome.
     expect(s.rcl.node('antiphon').logs.filter((l) => l.includes('reset_hold:')).map((l) => l.split(' ')[2])).toEqual(['refused', 'released']);
+  });
+
+  it('diagnostics: one entry per watchdog check (from CHECKS), the lifecycle state, and whether the joint-speed check is active', () => {
+    const s = setup();
+    s.feed(0, 1000);
+    const d = diag(s.rcl);
+    for (const c of CHECKS) expect(d[`check.${c}`], c).toBe('ok');
+    expect(d['lifecycle_state']).toBe('inactive');
+    expect(d['joint_velocity_check']).toBe('active');
+    const n = setup();
+    n.feed(0, 1000, { joints: () => [{ names: ['j1', 'j2', 'j3'], velocity: [] }] });
+    expect(diag(n.rcl)['joint_velocity_check']).toMatch(/^inactive/);
   });
 
   it('survives a message that does not decode, and counts it', () => {
