@@ -84,6 +84,8 @@ describe('the installed package on ROS 2', () => {
     const twist = await until('ros2 topic echo --once /left/antiphon/recommended_twist', /linear:/);
     expect(twist).toMatch(/x: 0\.0/);
     await sleep(2000);
+    // antiphon/tare answers when the tare is taken (a reply sent later from the sample that takes it).
+    expect(sh('ros2 service call /left/antiphon/tare std_srvs/srv/Trigger', 30_000).out).toMatch(/success=True/);
     expect(sh('ros2 lifecycle set /left/antiphon activate').out).toMatch(/Transitioning successful/);
     expect(sh('ros2 lifecycle set /left/antiphon deactivate').out).toMatch(/Transitioning successful/);
     expect(sh('ros2 lifecycle set /left/antiphon cleanup').out).toMatch(/Transitioning successful/);
