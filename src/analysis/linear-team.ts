@@ -38,10 +38,11 @@
  *
  * Gap: RMS over k = 0..steps of ‖x_team[k] − x_central[k]‖ from the same x0 (steps + 1 samples).
  */
-import { readFileSync } from 'node:fs';
 import { closest } from 'fastest-levenshtein';
-import { LineCounter, isMap, isScalar, isSeq, parseDocument, type Node } from 'yaml';
+import { LineCounter, isMap, isScalar, isSeq, type Node } from 'yaml';
 import { InputError, type Place, type Problem } from '../util/errors.js';
+import { INPUT_LIMITS, readInputText } from '../util/read-input.js';
+import { parseYamlDocument } from '../util/yaml.js';
 import { Rng } from '../util/rng.js';
 import { DareError, rank, solveDare, spectralRadius, type Mat } from './dare.js';
 import * as math from 'mathjs';
@@ -49,6 +50,20 @@ import * as math from 'mathjs';
 export const DEFAULT_PERIODS: readonly number[] = [1, 2, 4, 8, 16];
 export const MAX_PERIOD = 100_000;
 export const MAX_STEPS = 1_000_000;
+/**
+ * Documented size limits of `analyze` (README "Input limits"): states of the model (the
+ * augmented closed loop has up to 2n, so eigenvalues of 64×64 matrices), noisy runs per
+ * period, and the total of simulated steps of one analysis:
+ * steps × (1 + periods × (1 + 2 × runs with noise)).
+ */
+export const MAX_STATES = 32;
+export const MAX_RUNS = 1000;
+export const MAX_SIMULATED_STEPS = 20_000_000;
+
+/** Steps one analysis simulates: the fixed schedule, each period, and with noise 2 × runs per period. */
+export function simulatedSteps(steps: number, periods: number, runs?: number): number {
+  return steps * (1 + periods * (1 + (runs !== undefined ? 2 * runs : 0)));
+}
 
 /** What the model file says. Index lists are 0-based. */
 export interface LinearTeamModel {
@@ -310,9 +325,42 @@ export function biasOffset(team: LinearTeam, period: number, bias: number): numb
  */
 export function monodromy(team: LinearTeam, schedule: Schedule): Mat {
   if (schedule.kind === 'fixed') return stepMatrix(team, schedule.speaker);
+  const p = schedule.period;
+  if (p > 64) {
+    // Φ = S₂ᵖ S₁ᵖ by repeated squaring: 2 log₂ p products instead of 2p.
+    return matMul(matPow(stepMatrix(team, 1), p), matPow(stepMatrix(team, 0), p));
+  }
   let Phi: Mat = toArr(math.identity(augmentedLayout(team).size));
-  for (let k = 0; k < 2 * schedule.period; k++) Phi = toArr(math.multiply(stepMatrix(team, speakerAt(schedule, k)), Phi));
+  for (let k = 0; k < 2 * p; k++) Phi = toArr(math.multiply(stepMatrix(team, speakerAt(schedule, k)), Phi));
   return Phi;
+}
+
+function matMul(a: Mat, b: Mat): Mat {
+  const n = a.length;
+  const m = b[0]?.length ?? 0;
+  const inner = b.length;
+  const out = zeros(n, m);
+  for (let i = 0; i < n; i++) {
+    const ai = a[i]!;
+    const oi = out[i]!;
+    for (let k = 0; k < inner; k++) {
+      const v = ai[k]!;
+      if (v === 0) continue;
+      const bk = b[k]!;
+      for (let j = 0; j < m; j++) oi[j]! += v * bk[j]!;
+    }
+  }
+  return out;
+}
+
+function matPow(S: Mat, p: number): Mat {
+  let result: Mat | undefined;
+  let base = S;
+  for (let e = p; e > 0; e = Math.floor(e / 2)) {
+    if (e % 2 === 1) result = result ? matMul(base, result) : base;
+    if (e > 1) base = matMul(base, base);
+  }
+  return result!;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -535,7 +583,12 @@ export function noiseVariant(
   };
 }
 
-export function analyzeNoise(team: LinearTeam, periods: readonly number[], opts: NoiseOptions, central = centralizedTrajectory(team)): NoiseResult {
+export function analyzeNoise(team: LinearTeam, periods: readonly number[], opts: NoiseOptions, central = centralizedTrajectory(team), onVariant?: () => void): NoiseResult {
+  const variant = (schedule: Schedule, bias: number): NoiseVariant => {
+    const v = noiseVariant(team, schedule, opts.std, bias, opts.runs, opts.seed, central, opts.commonKnowledge);
+    onVariant?.();
+    return v;
+  };
   return {
     std: opts.std,
     bias: opts.bias,
@@ -547,8 +600,8 @@ export function analyzeNoise(team: LinearTeam, periods: readonly number[], opts:
       const schedule: Schedule = { kind: 'alternating', period: p };
       return {
         period_steps: p,
-        unbiased: noiseVariant(team, schedule, opts.std, 0, opts.runs, opts.seed, central, opts.commonKnowledge),
-        biased: noiseVariant(team, schedule, opts.std, opts.bias, opts.runs, opts.seed, central, opts.commonKnowledge),
+        unbiased: variant(schedule, 0),
+        biased: variant(schedule, opts.bias),
       };
     }),
   };
@@ -577,12 +630,46 @@ export function gapGrowsWithPeriod(alternating: readonly AlternatingResult[]): b
   return sorted.every((r, i) => i === 0 || r.gap > sorted[i - 1]!.gap);
 }
 
-export function analyzeTeam(team: LinearTeam, opts: { periods?: readonly number[]; noise?: NoiseOptions; file?: string } = {}): TeamReport {
+export interface AnalyzeOptions {
+  readonly periods?: readonly number[];
+  readonly noise?: NoiseOptions;
+  readonly file?: string;
+  /** Called as the analysis goes: simulated steps done of the total. */
+  readonly onProgress?: (done: number, total: number) => void;
+}
+
+/** Refuse an analysis beyond the documented limits (runs, total simulated steps). */
+export function checkAnalysisSize(steps: number, periods: readonly number[], noise?: NoiseOptions): void {
+  if (noise && (!Number.isInteger(noise.runs) || noise.runs < 1 || noise.runs > MAX_RUNS))
+    throw new InputError({ code: 'cli.bad_runs', message: `--runs must be a whole number from 1 to ${MAX_RUNS}, got ${noise.runs}`, where: { option: '--runs' } });
+  const total = simulatedSteps(steps, periods.length, noise?.runs);
+  if (total > MAX_SIMULATED_STEPS)
+    throw new InputError({
+      code: 'model.too_much_work',
+      message: `this analysis would simulate ${total.toExponential(2)} steps (steps ${steps} × (1 + ${periods.length} periods${noise ? ` × (1 + 2 × ${noise.runs} runs)` : ''})), more than the limit of ${MAX_SIMULATED_STEPS.toExponential(0)}`,
+      where: { key: 'steps' },
+      hint: 'use fewer steps, periods or runs',
+    });
+}
+
+export function analyzeTeam(team: LinearTeam, opts: AnalyzeOptions = {}): TeamReport {
   const periods = opts.periods ?? team.model.periods ?? DEFAULT_PERIODS;
+  checkAnalysisSize(team.model.steps, periods, opts.noise);
+  const total = simulatedSteps(team.model.steps, periods.length, opts.noise?.runs);
+  let done = 0;
+  const tick = (steps: number): void => {
+    done += steps;
+    opts.onProgress?.(done, total);
+  };
   const central = centralizedTrajectory(team);
   const fixed = analyzeFixed(team, central);
-  const alternating = periods.map((p) => analyzeAlternating(team, p, central));
-  const noise = opts.noise ? analyzeNoise(team, periods, opts.noise, central) : undefined;
+  tick(team.model.steps);
+  const alternating = periods.map((p) => {
+    const r = analyzeAlternating(team, p, central);
+    tick(team.model.steps);
+    return r;
+  });
+  const noise = opts.noise ? analyzeNoise(team, periods, opts.noise, central, () => tick(team.model.steps * opts.noise!.runs)) : undefined;
   const checks: CheckResult[] = [];
   const ex = team.model.expect ?? {};
   const add = (name: keyof TeamExpectations, actual: boolean): void => {
@@ -687,7 +774,7 @@ class Reader {
 /** Parse a model from YAML text; `file` names it in error places. Throws InputError. */
 export function parseLinearTeamModel(text: string, file: string): { model: LinearTeamModel; locate: Locator } {
   const lc = new LineCounter();
-  const doc = parseDocument(text, { lineCounter: lc, prettyErrors: false });
+  const doc = parseYamlDocument(text, { lineCounter: lc, prettyErrors: false });
   if (doc.errors.length > 0) {
     throw new InputError(
       doc.errors.map((e) => {
@@ -724,6 +811,10 @@ export function parseLinearTeamModel(text: string, file: string): { model: Linea
     n = A.length;
     if (A[0]!.length !== n)
       rd.fail('model.not_square', `A must be square, got ${A.length}×${A[0]!.length}`, nodes.get('A'), ['A'], 'A is n×n: one row and one column per state');
+    else if (n > MAX_STATES) {
+      rd.fail('model.too_many_states', `A has ${n} states, more than the limit of ${MAX_STATES}`, nodes.get('A'), ['A'], `at most ${MAX_STATES} states (the analysis takes eigenvalues of 2n×2n matrices)`);
+      throw new InputError(rd.problems);
+    }
   }
   const B1 = rd.matrix(nodes.get('B1'), ['B1']);
   const B2 = rd.matrix(nodes.get('B2'), ['B2']);
@@ -847,12 +938,7 @@ export function parseLinearTeamModel(text: string, file: string): { model: Linea
 
 /** Read, parse and build a team from a model file; every refusal is an InputError with file:line:col. */
 export function loadLinearTeam(file: string): LinearTeam {
-  let text: string;
-  try {
-    text = readFileSync(file, 'utf8');
-  } catch (err) {
-    throw new InputError({ code: 'model.unreadable', message: `cannot read the model file: ${(err as Error).message}`, where: { file }, hint: 'give --model a readable YAML file' });
-  }
+  const text = readInputText(file, { what: 'model file', code: 'model', maxBytes: INPUT_LIMITS.model, option: '--model' });
   const { model, locate } = parseLinearTeamModel(text, file);
   return buildTeam(model, locate);
 }

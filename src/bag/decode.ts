@@ -1,23 +1,21 @@
 /**
- * Generic CDR decoding from message definitions, via @foxglove/rosmsg (parse) and
- * @foxglove/rosmsg2-serialization (read). Definitions are tried in this order: ones the caller
- * passes, the one the bag carries, the one antiphon ships. A definition that fails on a message
- * (throws, or leaves more than 3 bytes unread) is set aside for the next, once, with a warning:
- * some bags carry placeholder definitions.
+ * Generic CDR decoding from message definitions, via the definition search path (library.ts:
+ * the bag, `--definitions` sources, AMENT_PREFIX_PATH, the shipped definitions) and
+ * @foxglove/rosmsg2-serialization (read). A definition that fails on a message (throws, or leaves
+ * more than 3 bytes unread) is set aside for the next source's, once, with a note: some bags carry
+ * placeholder definitions.
  */
 import { MessageReader } from '@foxglove/rosmsg2-serialization';
-import { InputError, type Problem } from '../util/errors.js';
-import { logger } from '../util/log.js';
-import { builtinDefinition, canonicalType, parseDefinition } from './definitions.js';
+import { formatPlace, InputError, type Problem } from '../util/errors.js';
+import { canonicalType } from './definitions.js';
+import { DefinitionLibrary, howToSupply, type DefinitionSourceKind, type LibraryOptions, type Resolution } from './library.js';
 import type { Bag, DefinitionText } from './types.js';
 
 /** Trailing bytes a writer may leave as padding to a 4-byte boundary. */
 const MAX_PADDING = 3;
 
 interface Candidate {
-  readonly origin: string;
-  readonly encoding: string;
-  readonly text: string;
+  readonly resolution: Resolution;
   reader?: MessageReader | undefined;
   error?: string | undefined;
 }
@@ -28,8 +26,12 @@ interface TypeState {
 }
 
 export interface DecoderOptions {
-  /** Definitions that take precedence over the bag's, keyed by type (either spelling). */
+  /** Definitions given by the caller, keyed by type (either spelling): searched after the bag's. */
   readonly extra?: ReadonlyMap<string, DefinitionText | string>;
+  /** `--definitions` sources in order: folders, or definition maps of other bags. */
+  readonly definitions?: LibraryOptions['extra'];
+  /** AMENT_PREFIX_PATH (default: the environment's). */
+  readonly amentPrefixPath?: string;
   /** Fall back to antiphon's shipped definitions (default true). */
   readonly builtin?: boolean;
 }
@@ -40,65 +42,70 @@ export interface DecodePlace {
   readonly logTimeNs?: bigint;
 }
 
+/** Where a type's definition comes from, for `bag info`. */
+export interface DefinitionOrigin {
+  readonly source: DefinitionSourceKind | 'missing';
+  /** A file, a bag storage file, or `built-in`; absent when missing. */
+  readonly from?: string;
+  /** Why it is missing or unusable. */
+  readonly problem?: Problem;
+}
+
 export class MessageDecoders {
-  readonly #bagDefinition: (type: string) => DefinitionText | undefined;
-  readonly #extra = new Map<string, DefinitionText>();
-  readonly #builtin: boolean;
+  readonly library: DefinitionLibrary;
   readonly #types = new Map<string, TypeState>();
-  /** Definition fallbacks taken (also logged once each). */
+  /** Definition fallbacks taken (one per type). */
   readonly notes: Problem[] = [];
 
-  constructor(bagDefinition: (type: string) => DefinitionText | undefined = () => undefined, opts: DecoderOptions = {}) {
-    this.#bagDefinition = bagDefinition;
-    this.#builtin = opts.builtin ?? true;
-    for (const [k, v] of opts.extra ?? []) {
-      this.#extra.set(canonicalType(k), typeof v === 'string' ? { encoding: 'ros2msg', text: v, origin: 'given' } : v);
-    }
+  constructor(library: DefinitionLibrary = new DefinitionLibrary()) {
+    this.library = library;
   }
 
   #state(type: string): TypeState {
     const key = canonicalType(type);
     let s = this.#types.get(key);
     if (s) return s;
-    const candidates: Candidate[] = [];
-    const add = (d: DefinitionText | undefined): void => {
-      if (!d || d.text.trim() === '') return;
-      if (candidates.some((c) => c.text === d.text)) return;
-      candidates.push({ origin: d.origin, encoding: d.encoding, text: d.text });
-    };
-    add(this.#extra.get(key));
-    add(this.#bagDefinition(type));
-    if (this.#builtin) {
-      const text = builtinDefinition(key);
-      if (text !== undefined) add({ encoding: 'ros2msg', text, origin: 'built-in' });
-    }
-    s = { candidates, preferred: 0 };
+    s = { candidates: this.library.candidates(key).map((resolution) => ({ resolution })), preferred: 0 };
+    const firstOk = s.candidates.findIndex((c) => c.resolution.ok);
+    if (firstOk > 0) s.preferred = firstOk;
     this.#types.set(key, s);
     return s;
   }
 
-  /** True when some definition is available for the type (it may still fail on messages). */
+  /** True when some source has a definition for the type (it may still fail to resolve or fit). */
   has(type: string): boolean {
     return this.#state(type).candidates.length > 0;
   }
 
-  #reader(type: string, c: Candidate): MessageReader | undefined {
+  /** Where the definition of `type` comes from (the first that resolves with its nested types). */
+  origin(type: string): DefinitionOrigin {
+    const s = this.#state(type);
+    const c = s.candidates[s.preferred];
+    if (!c) return { source: 'missing', problem: { code: 'bag.no_definition', message: `no definition of ${canonicalType(type)} on the search path`, hint: howToSupply(canonicalType(type)) } };
+    if (c.resolution.ok) return { source: c.resolution.kind, from: c.resolution.origin };
+    return { source: 'missing', problem: c.resolution.problem };
+  }
+
+  #reader(c: Candidate): MessageReader | undefined {
     if (c.reader || c.error !== undefined) return c.reader;
-    if (c.encoding !== 'ros2msg' && c.encoding !== '') {
-      c.error = `definition encoding '${c.encoding}' is not supported (only ros2msg)`;
+    const r = c.resolution;
+    if (!r.ok) {
+      const place = formatPlace(r.problem.where);
+      c.error = `${place ? `${place}: ` : ''}${r.problem.message}`;
       return undefined;
     }
     try {
-      c.reader = new MessageReader(parseDefinition(type, c.text));
+      c.reader = new MessageReader(r.definitions);
     } catch (err) {
-      c.error = `definition from ${c.origin} does not parse: ${(err as Error).message}`;
+      c.error = `definition from ${r.origin} is not usable: ${(err as Error).message}`;
     }
     return c.reader;
   }
 
   /**
    * Decode one CDR message of `type`. Throws InputError `bag.no_definition` when no definition is
-   * known, `bag.decode_failed` when none fits the bytes.
+   * known, the definition's own problem code when none resolves, `bag.decode_failed` when none
+   * fits the bytes.
    */
   decode(type: string, data: Uint8Array, where: DecodePlace = {}): unknown {
     const s = this.#state(type);
@@ -112,7 +119,7 @@ export class MessageDecoders {
         code: 'bag.no_definition',
         message: `no message definition for type ${type}${at}`,
         where: place,
-        hint: 'the bag carries none and antiphon ships none; pass definitions from a bag that has them (e.g. --definitions <bag>)',
+        hint: `the bag carries none and the search path has none; ${howToSupply(canonicalType(type))}`,
       });
     }
     if (data.length < 4) {
@@ -127,37 +134,44 @@ export class MessageDecoders {
     }
     const reasons: string[] = [];
     const order = [s.preferred, ...s.candidates.keys()].filter((v, i, a) => a.indexOf(v) === i);
+    let anyReader = false;
     for (const k of order) {
       const c = s.candidates[k]!;
-      const reader = this.#reader(type, c);
+      const reader = this.#reader(c);
       if (!reader) {
         reasons.push(c.error!);
         continue;
       }
+      anyReader = true;
+      const origin = c.resolution.origin ?? '?';
       let value: unknown;
       try {
         value = reader.readMessage(data);
       } catch (err) {
-        reasons.push(`definition from ${c.origin}: ${(err as Error).message}`);
+        reasons.push(`definition from ${origin}: ${(err as Error).message}`);
         continue;
       }
       const left = data.length - reader.lastReadByteLength();
       if (left > MAX_PADDING) {
-        reasons.push(`definition from ${c.origin} leaves ${left} of ${data.length} bytes unread`);
+        reasons.push(`definition from ${origin} leaves ${left} of ${data.length} bytes unread`);
         continue;
       }
       if (k !== s.preferred) {
         const first = s.candidates[s.preferred]!;
         const note: Problem = {
           code: 'bag.definition_fallback',
-          message: `definition of ${type} from ${first.origin} does not fit its messages (${reasons[0] ?? first.error ?? '?'}); using the one from ${c.origin}`,
+          message: `definition of ${type} from ${first.resolution.origin ?? '?'} does not fit its messages (${reasons[0] ?? first.error ?? '?'}); using the one from ${origin}`,
           where: place,
         };
         this.notes.push(note);
-        logger('bag').warn({ code: note.code, type, topic: where.topic }, note.message);
         s.preferred = k;
       }
       return value;
+    }
+    const unresolved = s.candidates.map((c) => c.resolution).find((r): r is Extract<Resolution, { ok: false }> => !r.ok);
+    if (!anyReader && unresolved) {
+      // No definition resolves: the first one's own problem (its file and line) is the reason.
+      throw new InputError({ ...unresolved.problem, message: reasons.join('; '), where: { ...place, ...unresolved.problem.where } });
     }
     throw new InputError({
       code: 'bag.decode_failed',
@@ -171,9 +185,26 @@ function hex(b: number): string {
   return b.toString(16).padStart(2, '0');
 }
 
-/** Decoders for a bag's messages, with its carried definitions. */
-export function bagDecoders(bag: Pick<Bag, 'definition'>, opts: DecoderOptions = {}): MessageDecoders {
-  return new MessageDecoders((t) => bag.definition(t), opts);
+/** The definition search path for a bag: its own definitions, then `opts`' sources, the environment, the shipped ones. */
+export function bagLibrary(bag: Pick<Bag, 'definitions'> | undefined, opts: DecoderOptions = {}): DefinitionLibrary {
+  const extra: NonNullable<LibraryOptions['extra']>[number][] = [];
+  if (opts.extra) {
+    const m = new Map<string, DefinitionText>();
+    for (const [k, v] of opts.extra) m.set(k, typeof v === 'string' ? { encoding: 'ros2msg', text: v, origin: 'given' } : v);
+    extra.push({ label: 'given', definitions: m });
+  }
+  extra.push(...(opts.definitions ?? []));
+  return new DefinitionLibrary({
+    ...(bag ? { bag: bag.definitions() } : {}),
+    extra,
+    ...(opts.amentPrefixPath !== undefined ? { amentPrefixPath: opts.amentPrefixPath } : {}),
+    ...(opts.builtin !== undefined ? { builtin: opts.builtin } : {}),
+  });
+}
+
+/** Decoders for a bag's messages, with its carried definitions first on the search path. */
+export function bagDecoders(bag: Pick<Bag, 'definitions'>, opts: DecoderOptions = {}): MessageDecoders {
+  return new MessageDecoders(bagLibrary(bag, opts));
 }
 
 /**

@@ -2,7 +2,8 @@
  * Message definition texts (ROS 2 `.msg`, the `ros2msg` schema encoding): type-name spellings,
  * splitting and joining the multi-definition text bags carry (root text, then per dependency a
  * line of `=` and `MSG: pkg/Type`), dependency discovery, and the definitions antiphon ships for
- * bags that carry none.
+ * bags that carry none. The search path over bags, definition folders, the ROS environment and
+ * the shipped definitions is in `library.ts`.
  */
 import { readdirSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
@@ -150,9 +151,34 @@ const STANDARD: Record<string, string> = {
   'diagnostic_msgs/DiagnosticArray': 'std_msgs/Header header\nDiagnosticStatus[] status',
   // /rosout is in nearly every recording; shipping it lets bags without (or with placeholder)
   // definitions decode their log messages.
+  // Every ROS 2 from Iron on records service events with this header (from memory: the
+  // service_msgs package of rcl_interfaces).
+  'service_msgs/ServiceEventInfo':
+    'uint8 REQUEST_SENT = 0\nuint8 REQUEST_RECEIVED = 1\nuint8 RESPONSE_SENT = 2\nuint8 RESPONSE_RECEIVED = 3\nuint8 event_type\nbuiltin_interfaces/Time stamp\nchar[16] client_gid\nint64 sequence_number',
+  // Goal identity and status of actions (from memory: unique_identifier_msgs and action_msgs).
+  'unique_identifier_msgs/UUID': 'uint8[16] uuid',
+  'action_msgs/GoalInfo': 'unique_identifier_msgs/UUID goal_id\nbuiltin_interfaces/Time stamp',
+  'action_msgs/GoalStatus':
+    'int8 STATUS_UNKNOWN = 0\nint8 STATUS_ACCEPTED = 1\nint8 STATUS_EXECUTING = 2\nint8 STATUS_CANCELING = 3\nint8 STATUS_SUCCEEDED = 4\nint8 STATUS_CANCELED = 5\nint8 STATUS_ABORTED = 6\nGoalInfo goal_info\nint8 status',
+  'action_msgs/GoalStatusArray': 'GoalStatus[] status_list',
   'rcl_interfaces/Log':
     'byte DEBUG=10\nbyte INFO=20\nbyte WARN=30\nbyte ERROR=40\nbyte FATAL=50\nbuiltin_interfaces/Time stamp\nuint8 level\nstring name\nstring msg\nstring file\nstring function\nuint32 line',
 };
+
+/** Shipped service definitions (`.srv` text: request, `---`, response), keyed `pkg/srv/Name`. */
+export const STANDARD_SERVICES: Record<string, string> = {
+  // Cancelling action goals (from memory: action_msgs/srv/CancelGoal).
+  'action_msgs/srv/CancelGoal':
+    'GoalInfo goal_info\n---\nint8 ERROR_NONE = 0\nint8 ERROR_REJECTED = 1\nint8 ERROR_UNKNOWN_GOAL_ID = 2\nint8 ERROR_GOAL_TERMINATED = 3\nint8 return_code\nGoalInfo[] goals_canceling',
+};
+
+/** The shipped single-type `.msg` texts, keyed `pkg/msg/Type`. */
+export function builtinMessages(): ReadonlyMap<string, string> {
+  const out = new Map<string, string>();
+  for (const [k, v] of Object.entries(STANDARD)) out.set(canonicalType(k), v);
+  for (const [k, v] of Object.entries(projectMessages())) out.set(canonicalType(k), v);
+  return out;
+}
 
 let project: Record<string, string> | undefined;
 

@@ -10,7 +10,7 @@ import { closeSync, existsSync, mkdtempSync, openSync, readSync, readdirSync, re
 import { tmpdir } from 'node:os';
 import { basename, extname, join, resolve } from 'node:path';
 import { InputError, type Problem } from '../util/errors.js';
-import { logger } from '../util/log.js';
+import { warnOnce } from '../util/log.js';
 import { mergeSources, type BatchSource } from './batch.js';
 import { canonicalType } from './definitions.js';
 import { FileSource, MemorySource, type ByteSource } from './io.js';
@@ -253,7 +253,7 @@ export async function openBag(path: string, opts: OpenOptions = {}): Promise<Bag
   const warnings: Problem[] = [];
   const warn = (p: Problem): void => {
     warnings.push(p);
-    logger('bag').warn({ code: p.code, where: p.where }, p.message);
+    warnOnce('bag', p);
     opts.onWarning?.(p);
   };
   const abs = resolve(path);

@@ -1,8 +1,9 @@
 /**
  * Writing bags: one MCAP file in the `ros2` profile (schemas `ros2msg` with the full definition
- * text, messages `cdr`, zstd-compressed chunks) plus a metadata.yaml beside it (version 5).
- * Both are written under a temporary name and renamed when complete. Deterministic: the same
- * topics and messages give byte-identical files (no wall-clock anywhere, fixed library string).
+ * text, messages `cdr`, zstd-compressed chunks) plus a metadata.yaml beside it (version 5), or,
+ * with `storage: 'sqlite3'`, one `.db3` file (sqlite-writer.ts). Both are written under a
+ * temporary name and renamed when complete. Deterministic: the same topics and messages give
+ * byte-identical files (no wall-clock anywhere, fixed library string).
  */
 import { McapWriter, type IWritable } from '@mcap/core';
 import { closeSync, existsSync, mkdirSync, openSync, renameSync, rmSync, writeFileSync, writeSync } from 'node:fs';
@@ -12,7 +13,7 @@ import { InputError } from '../util/errors.js';
 import { logger } from '../util/log.js';
 import { builtinDefinition, canonicalType } from './definitions.js';
 import { formatMetadataYaml, INT64_MAX } from './metadata.js';
-import type { Bag, DefinitionText, QosProfile, ReadOptions } from './types.js';
+import type { Bag, DefinitionText, QosProfile, ReadOptions, StorageId } from './types.js';
 import { zstdCompressor } from './zstd.js';
 
 /** The MCAP header's library string. Fixed so that output does not depend on versions. */
@@ -35,6 +36,8 @@ export interface WriterTopic {
 }
 
 export interface BagWriterOptions {
+  /** Storage of the bag (default mcap). */
+  readonly storage?: StorageId;
   /** Chunk compression (default zstd; uncompressed when the zstd module cannot load, with a warning). */
   readonly compression?: 'zstd' | 'none';
   readonly zstdLevel?: number;
@@ -53,6 +56,7 @@ export interface BagWriterOptions {
 }
 
 export interface WrittenBag {
+  readonly storage: StorageId;
   readonly dir: string;
   readonly file: string;
   readonly metadataPath: string;
@@ -60,6 +64,104 @@ export interface WrittenBag {
   readonly startNs: bigint;
   readonly endNs: bigint;
   readonly compression: 'zstd' | 'none';
+}
+
+/** What both storages' writers do. */
+export interface BagOutput {
+  readonly dir: string;
+  /** Final path of the storage file. */
+  readonly file: string;
+  readonly metadataPath: string;
+  /** Declare a topic (before its first message). Returns its id for `write`. */
+  addTopic(t: WriterTopic): Promise<number>;
+  /** Append one serialized message (calls are taken in order; awaiting each is optional). */
+  write(topic: number | string, logTimeNs: bigint, data: Uint8Array, publishTimeNs?: bigint): Promise<void>;
+  /** Finish the storage file and metadata.yaml, renamed into place. */
+  close(): Promise<WrittenBag>;
+  /** Stop and remove the partial file. */
+  abort(): void;
+}
+
+/**
+ * The definition to record for a topic: its own, then the `definitions` option, then the shipped
+ * one. Undefined only with `allowMissingDefinitions`; otherwise a missing one is an InputError.
+ */
+export function topicDefinition(t: WriterTopic, type: string, opts: BagWriterOptions): { encoding: string; text: string } | undefined {
+  if (t.definition !== undefined) return { encoding: t.definitionEncoding ?? 'ros2msg', text: t.definition };
+  const given = opts.definitions;
+  if (given) {
+    for (const [k, v] of given) {
+      if (canonicalType(k) === type) return typeof v === 'string' ? { encoding: 'ros2msg', text: v } : { encoding: v.encoding, text: v.text };
+    }
+  }
+  const shipped = builtinDefinition(type);
+  if (shipped !== undefined) return { encoding: 'ros2msg', text: shipped };
+  if (opts.allowMissingDefinitions) return undefined;
+  throw new InputError({
+    code: 'bag.no_definition',
+    message: `no message definition for ${type}`,
+    where: { topic: t.name },
+    hint: 'pass `definition` for the topic or the `definitions` option',
+  });
+}
+
+/**
+ * Set up the directory of a new bag: refuse an existing bag unless `overwrite`, create the
+ * directory, and name the storage file (`<stem>_0.<ext>`) and its temporary twin.
+ */
+export function prepareBagDir(dir: string, opts: BagWriterOptions, ext: string): { abs: string; file: string; tmp: string } {
+  const abs = resolve(dir);
+  if (existsSync(join(abs, 'metadata.yaml')) && !opts.overwrite) {
+    throw new InputError({
+      code: 'bag.output_exists',
+      message: 'a bag already exists here (metadata.yaml present)',
+      where: { file: join(abs, 'metadata.yaml') },
+      hint: 'choose a new directory, or pass overwrite',
+    });
+  }
+  mkdirSync(abs, { recursive: true });
+  const stem = opts.fileStem ?? basename(abs);
+  const file = join(abs, `${stem}_0.${ext}`);
+  return { abs, file, tmp: `${file}.partial` };
+}
+
+/** Rename a finished storage file into place, then write metadata.yaml whole (temporary name, rename). */
+export function publishBag(tmp: string, file: string, metadataPath: string, yaml: string): void {
+  renameSync(tmp, file);
+  const tmpMeta = `${metadataPath}.partial`;
+  writeFileSync(tmpMeta, yaml);
+  renameSync(tmpMeta, metadataPath);
+}
+
+/** metadata.yaml (rosbag2 version 5) of a written bag of one storage file. */
+export function writtenMetadataYaml(storage: StorageId, file: string, topics: readonly { name: string; type: string; serializationFormat: string; qosText: string; count: number }[], startNs: bigint | undefined, endNs: bigint | undefined, count: number): string {
+  const start = startNs ?? INT64_MAX;
+  const duration = startNs === undefined ? 0n : endNs! - startNs;
+  const rel = basename(file);
+  return formatMetadataYaml({
+    storageIdentifier: storage,
+    durationNs: duration,
+    startingTimeNs: start,
+    messageCount: count,
+    topics: topics.map((t) => ({
+      name: t.name,
+      type: t.type,
+      serializationFormat: t.serializationFormat,
+      offeredQosText: t.qosText,
+      offeredQos: [],
+      typeDescriptionHash: '',
+      messageCount: t.count,
+    })),
+    compressionFormat: '',
+    compressionMode: '',
+    relativeFilePaths: [rel],
+    files: [{ path: rel, startingTimeNs: start, durationNs: duration, messageCount: count }],
+  });
+}
+
+/** QoS as rosbag2 stores it: the YAML text (profiles are serialized). */
+export function qosText(q: WriterTopic['offeredQos']): string {
+  return typeof q === 'string' ? q : q ? stringifyYaml(q).trimEnd() : '';
 }
 
 /** A positioned, synchronous file writable (McapWriter reuses the buffer it passes). */
@@ -88,7 +190,7 @@ interface TopicState {
   count: number;
 }
 
-export class BagWriter {
+export class BagWriter implements BagOutput {
   readonly dir: string;
   /** Final path of the MCAP file. */
   readonly file: string;
@@ -122,19 +224,7 @@ export class BagWriter {
 
   /** Start a bag in directory `dir` (created if missing). */
   static async create(dir: string, opts: BagWriterOptions = {}): Promise<BagWriter> {
-    const abs = resolve(dir);
-    if (existsSync(join(abs, 'metadata.yaml')) && !opts.overwrite) {
-      throw new InputError({
-        code: 'bag.output_exists',
-        message: 'a bag already exists here (metadata.yaml present)',
-        where: { file: join(abs, 'metadata.yaml') },
-        hint: 'choose a new directory, or pass overwrite',
-      });
-    }
-    mkdirSync(abs, { recursive: true });
-    const stem = opts.fileStem ?? basename(abs);
-    const file = join(abs, `${stem}_0.mcap`);
-    const tmp = `${file}.partial`;
+    const { abs, file, tmp } = prepareBagDir(dir, opts, 'mcap');
     let compression: 'zstd' | 'none' = opts.compression ?? 'zstd';
     let compressChunk: ((d: Uint8Array) => { compression: string; compressedData: Uint8Array }) | undefined;
     if (compression === 'zstd') {
@@ -157,18 +247,6 @@ export class BagWriter {
     return new BagWriter(abs, file, fd, tmp, mcap, compression, opts);
   }
 
-  #definitionFor(t: WriterTopic, type: string): { encoding: string; text: string } | undefined {
-    if (t.definition !== undefined) return { encoding: t.definitionEncoding ?? 'ros2msg', text: t.definition };
-    const given = this.#opts.definitions;
-    if (given) {
-      for (const [k, v] of given) {
-        if (canonicalType(k) === type) return typeof v === 'string' ? { encoding: 'ros2msg', text: v } : { encoding: v.encoding, text: v.text };
-      }
-    }
-    const shipped = builtinDefinition(type);
-    return shipped !== undefined ? { encoding: 'ros2msg', text: shipped } : undefined;
-  }
-
   /** Declare a topic (before its first message). Returns its id for `write`. */
   async addTopic(t: WriterTopic): Promise<number> {
     this.#assertOpen();
@@ -178,15 +256,7 @@ export class BagWriter {
     const type = canonicalType(t.type);
     let schemaId = this.#schemas.get(type);
     if (schemaId === undefined) {
-      const def = this.#definitionFor(t, type);
-      if (!def && !this.#opts.allowMissingDefinitions) {
-        throw new InputError({
-          code: 'bag.no_definition',
-          message: `no message definition for ${type}`,
-          where: { topic: t.name },
-          hint: 'pass `definition` for the topic or the `definitions` option',
-        });
-      }
+      const def = topicDefinition(t, type, this.#opts);
       schemaId = await this.#mcap.registerSchema({
         name: type,
         encoding: def ? def.encoding : '',
@@ -194,8 +264,8 @@ export class BagWriter {
       });
       this.#schemas.set(type, schemaId);
     }
-    const qosText = typeof t.offeredQos === 'string' ? t.offeredQos : t.offeredQos ? stringifyYaml(t.offeredQos).trimEnd() : '';
-    const metadata = new Map<string, string>([['offered_qos_profiles', qosText]]);
+    const qos = qosText(t.offeredQos);
+    const metadata = new Map<string, string>([['offered_qos_profiles', qos]]);
     if (t.typeHash) metadata.set('topic_type_hash', t.typeHash);
     const channelId = await this.#mcap.registerChannel({
       topic: t.name,
@@ -203,7 +273,7 @@ export class BagWriter {
       messageEncoding: t.serializationFormat ?? 'cdr',
       metadata,
     });
-    const state: TopicState = { name: t.name, type, serializationFormat: t.serializationFormat ?? 'cdr', qosText, channelId, count: 0 };
+    const state: TopicState = { name: t.name, type, serializationFormat: t.serializationFormat ?? 'cdr', qosText: qos, channelId, count: 0 };
     this.#topics.push(state);
     this.#byName.set(t.name, state);
     return this.#topics.length - 1;
@@ -262,33 +332,9 @@ export class BagWriter {
     } finally {
       closeSync(this.#fd);
     }
-    renameSync(this.#tmp, this.file);
-    const start = this.#start ?? INT64_MAX;
-    const duration = this.#start === undefined ? 0n : this.#end! - this.#start;
-    const rel = basename(this.file);
-    const yaml = formatMetadataYaml({
-      storageIdentifier: 'mcap',
-      durationNs: duration,
-      startingTimeNs: start,
-      messageCount: this.#count,
-      topics: this.#topics.map((t) => ({
-        name: t.name,
-        type: t.type,
-        serializationFormat: t.serializationFormat,
-        offeredQosText: t.qosText,
-        offeredQos: [],
-        typeDescriptionHash: '',
-        messageCount: t.count,
-      })),
-      compressionFormat: '',
-      compressionMode: '',
-      relativeFilePaths: [rel],
-      files: [{ path: rel, startingTimeNs: start, durationNs: duration, messageCount: this.#count }],
-    });
-    const tmpMeta = `${this.metadataPath}.partial`;
-    writeFileSync(tmpMeta, yaml);
-    renameSync(tmpMeta, this.metadataPath);
+    publishBag(this.#tmp, this.file, this.metadataPath, writtenMetadataYaml('mcap', this.file, this.#topics, this.#start, this.#end, this.#count));
     return {
+      storage: 'mcap',
       dir: this.dir,
       file: this.file,
       metadataPath: this.metadataPath,
@@ -316,24 +362,36 @@ export class BagWriter {
   }
 }
 
-/** Create a bag writer in `dir`. */
-export function createBagWriter(dir: string, opts: BagWriterOptions = {}): Promise<BagWriter> {
+/** Create a bag writer in `dir`, of the storage `opts.storage` (default mcap). */
+export async function createBagWriter(dir: string, opts: BagWriterOptions = {}): Promise<BagOutput> {
+  if (opts.storage === 'sqlite3') {
+    const { SqliteBagWriter } = await import('./sqlite-writer.js');
+    return SqliteBagWriter.create(dir, opts);
+  }
   return BagWriter.create(dir, opts);
 }
 
+/** Parse a `--storage` option value. */
+export function storageOption(raw: string | undefined, option = '--storage'): StorageId {
+  if (raw === undefined || raw === 'mcap') return 'mcap';
+  if (raw === 'sqlite3') return 'sqlite3';
+  throw new InputError({ code: 'cli.bad_storage', message: `${option} must be mcap or sqlite3, got '${raw}'`, where: { option }, hint: 'mcap (default) or sqlite3' });
+}
+
 /**
- * Copy (some of) a bag into a new MCAP bag: every topic with its type, QoS, hash and the
+ * Copy (some of) a bag into a new bag (MCAP, or sqlite3 with `storage`): every topic with its type, QoS, hash and the
  * definition the source carries (or a shipped one); messages in log-time order, bytes unchanged.
  */
 export async function copyBag(bag: Bag, dir: string, opts: BagWriterOptions & ReadOptions = {}): Promise<WrittenBag> {
-  const w = await BagWriter.create(dir, { allowMissingDefinitions: true, ...opts });
+  const w = await createBagWriter(dir, { allowMissingDefinitions: true, ...opts });
   try {
     const wanted = opts.topics ? new Set(opts.topics) : undefined;
     const ids = new Map<string, number>();
     for (const t of bag.topics()) {
       if (wanted && !wanted.has(t.name)) continue;
       const d = bag.definition(t.type);
-      const usable = d && d.text.trim() !== '';
+      // An empty text recorded as ros2msg is a type with no fields, not a missing definition.
+      const usable = d && (d.text.trim() !== '' || d.encoding === 'ros2msg');
       ids.set(
         t.name,
         await w.addTopic({

@@ -5,6 +5,7 @@
  * Exit 0 when every expectation in the model file holds, 1 when one fails, 2 on bad input.
  */
 import type { Command } from 'commander';
+import cliProgress from 'cli-progress';
 // The analysis (and mathjs, about a second to load) is imported only when the command runs.
 import type { NoiseOptions, TeamReport } from '../analysis/linear-team.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
@@ -105,7 +106,7 @@ export function register(program: Command): void {
         const periods = opts.periods !== undefined ? parsePeriodsOption(opts.periods) : undefined;
         const std = numberOption('--noise-std', opts.noiseStd, 0, 1e6);
         const bias = numberOption('--noise-bias', opts.noiseBias, -1e6, 1e6);
-        const runs = integerOption('--runs', opts.runs, 1, 10_000);
+        const runs = integerOption('--runs', opts.runs, 1, 1000); // MAX_RUNS
         const seed = integerOption('--seed', opts.seed, 0, 0xffffffff);
         const ck = opts.commonKnowledge;
         if (ck !== undefined && ck !== 'shared' && ck !== 'reconstructed')
@@ -121,7 +122,30 @@ export function register(program: Command): void {
           log.warn('--noise-bias, --runs, --seed and --common-knowledge take effect only with --noise-std');
         const team = loadLinearTeam(file);
         log.debug({ file, states: team.n, periods: periods ?? team.model.periods }, 'analyzing');
-        const report = analyzeTeam(team, { ...(periods ? { periods } : {}), ...(noise ? { noise } : {}), file });
+        // A progress bar on a terminal (stderr), never with --json. The limits (MAX_STATES,
+        // MAX_RUNS, MAX_SIMULATED_STEPS in src/analysis/linear-team.ts) are checked first.
+        const showBar = !json && process.stderr.isTTY === true && !process.env['CI'];
+        const bar = showBar ? new cliProgress.SingleBar({ stream: process.stderr, hideCursor: true, format: 'analyze [{bar}] {percentage}% | {eta}s left' }, cliProgress.Presets.shades_classic) : undefined;
+        let report: TeamReport;
+        let started = false;
+        try {
+          report = analyzeTeam(team, {
+            ...(periods ? { periods } : {}),
+            ...(noise ? { noise } : {}),
+            file,
+            ...(bar
+              ? {
+                  onProgress: (done: number, total: number) => {
+                    if (!started) bar.start(total, 0);
+                    started = true;
+                    bar.update(done);
+                  },
+                }
+              : {}),
+          });
+        } finally {
+          bar?.stop();
+        }
         if (json) printJson(report);
         else printText(formatReport(report));
         return report.ok ? EXIT_OK : EXIT_CHECKS_FAILED;

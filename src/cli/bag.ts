@@ -4,13 +4,16 @@
  */
 import type { Command } from 'commander';
 import { bagDecoders, describeQos, openBag, toJsonValue, type Bag } from '../bag/index.js';
-import { EXIT_CHECKS_FAILED, EXIT_OK, InputError, formatProblem, type Problem } from '../util/errors.js';
-import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
+import type { DefinitionOrigin, MessageDecoders } from '../bag/decode.js';
+import { canonicalType } from '../bag/definitions.js';
+import { loadDefinitionSources } from '../bag/definition-sources.js';
+import { howToSupply, SOURCE_WORDS } from '../bag/library.js';
+import { EXIT_CHECKS_FAILED, EXIT_OK, InputError, formatPlace, problemToJson } from '../util/errors.js';
+import { warnOnce } from '../util/log.js';
+import { integerOption, numberOption, printJson, printText, runCommand, stdoutFailed, writeStdout } from './common.js';
 
 /** Warnings meaning some recorded messages could not be read. */
 const DATA_LOSS = new Set(['bag.mcap_chunk_corrupt', 'bag.mcap_truncated', 'bag.mcap_unknown_channel', 'bag.sqlite_unknown_topic']);
-/** Per topic, this many undecodable messages are reported one by one, then only counted. */
-const REPORT_PER_TOPIC = 20;
 
 function seconds(ns: bigint): string {
   const neg = ns < 0n;
@@ -25,7 +28,17 @@ function isoTime(ns: bigint): string {
   return d.toISOString().replace(/\.\d{3}Z$/, `.${(ns % 1_000_000_000n).toString().padStart(9, '0')}Z`);
 }
 
-function infoJson(bag: Bag): Record<string, unknown> {
+function originJson(o: DefinitionOrigin): Record<string, unknown> {
+  return { source: SOURCE_WORDS[o.source], ...(o.from !== undefined ? { from: o.from } : {}), ...(o.problem ? { problem: problemToJson(o.problem) } : {}) };
+}
+
+function originText(o: DefinitionOrigin): string {
+  if (o.source !== 'missing') return `${SOURCE_WORDS[o.source]}${o.from && o.from !== 'built-in' ? ` (${o.from})` : ''}`;
+  const place = o.problem ? formatPlace(o.problem.where) : '';
+  return `missing${o.problem ? `: ${place ? `${place}: ` : ''}${o.problem.message}${o.problem.hint ? ` (${o.problem.hint})` : ''}` : ''}`;
+}
+
+function infoJson(bag: Bag, dec: MessageDecoders): Record<string, unknown> {
   return {
     path: bag.path,
     storage: bag.storage,
@@ -36,7 +49,9 @@ function infoJson(bag: Bag): Record<string, unknown> {
     message_count: bag.messageCount,
     topics: bag.topics().map((t) => ({
       name: t.name,
-      type: t.type,
+      type: canonicalType(t.type),
+      ...(canonicalType(t.type) !== t.type ? { recorded_type: t.type } : {}),
+      definition: originJson(dec.origin(t.type)),
       serialization_format: t.serializationFormat,
       count: t.count,
       offered_qos: t.offeredQos,
@@ -46,7 +61,7 @@ function infoJson(bag: Bag): Record<string, unknown> {
   };
 }
 
-function infoText(bag: Bag): string {
+function infoText(bag: Bag, dec: MessageDecoders): string {
   const L: string[] = [];
   L.push(`bag:       ${bag.path}`);
   L.push(`storage:   ${bag.storage} (${bag.files.length} file${bag.files.length === 1 ? '' : 's'})`);
@@ -62,13 +77,16 @@ function infoText(bag: Bag): string {
   const topics = bag.topics();
   L.push(`topics:    ${topics.length}`);
   const wName = Math.max(0, ...topics.map((t) => t.name.length));
-  const wType = Math.max(0, ...topics.map((t) => t.type.length));
+  const wType = Math.max(0, ...topics.map((t) => canonicalType(t.type).length));
   const wCount = Math.max(0, ...topics.map((t) => String(t.count).length));
   for (const t of topics) {
-    L.push(`  ${t.name.padEnd(wName)}  ${t.type.padEnd(wType)}  ${String(t.count).padStart(wCount)} msgs  ${t.serializationFormat}`);
+    const type = canonicalType(t.type);
+    L.push(`  ${t.name.padEnd(wName)}  ${type.padEnd(wType)}  ${String(t.count).padStart(wCount)} msgs  ${t.serializationFormat}${type !== t.type ? `  (recorded as ${t.type})` : ''}`);
+    L.push(`  ${''.padEnd(wName)}  definition: ${originText(dec.origin(t.type))}`);
     for (const q of t.offeredQos) L.push(`  ${''.padEnd(wName)}  QoS: ${describeQos(q)}`);
   }
-  for (const w of bag.warnings) L.push(`warning:   ${formatProblem(w)}`);
+  // The warnings themselves went to stderr once, when they were found.
+  if (bag.warnings.length > 0) L.push(`warnings:  ${bag.warnings.length} (on stderr)`);
   return L.join('\n');
 }
 
@@ -86,8 +104,13 @@ interface DumpOptions {
   start?: string;
   end?: string;
   limit?: string;
-  definitions?: string;
+  definitions?: string[];
+  allowUndecoded?: boolean;
 }
+
+/** The definitions option of info and dump (repeatable). */
+const collect = (v: string, acc: string[] = []): string[] => [...acc, v];
+
 
 async function dump(path: string, opts: DumpOptions): Promise<number> {
   const start = numberOption('--start', opts.start, 0, 1e10);
@@ -96,10 +119,7 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
   if (start !== undefined && end !== undefined && end < start) {
     throw new InputError({ code: 'cli.bad_range', message: `--end ${end} is before --start ${start}`, where: { option: '--end' } });
   }
-  let extra: Map<string, { encoding: string; text: string; origin: string }> | undefined;
-  if (opts.definitions !== undefined) {
-    extra = await withBag(opts.definitions, (other) => new Map(other.definitions()));
-  }
+  const sources = await loadDefinitionSources(opts.definitions);
   return withBag(path, async (bag) => {
     const known = new Set(bag.topics().map((t) => t.name));
     for (const t of opts.topic ?? []) {
@@ -113,35 +133,21 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
       }
     }
     const toNs = (s: number): bigint => bag.startNs + BigInt(Math.round(s * 1e9));
-    const decoders = bagDecoders(bag, extra ? { extra } : {});
-    const failures = new Map<string, number>();
+    const decoders = bagDecoders(bag, { definitions: sources });
+    // Per topic: how many messages were left undecoded, the type and the first reason.
+    const failures = new Map<string, { type: string; count: number; reason: string }>();
     let failed = 0;
     let broken = false;
-    const onError = (err: NodeJS.ErrnoException): void => {
-      if (err.code === 'EPIPE') broken = true;
-    };
-    process.stdout.on('error', onError);
-    try {
+    {
       let out = '';
       let n = 0;
+      // The one stdout writer (src/cli/common.ts): a closed pipe ends the dump quietly, any other
+      // write error (ENOSPC) is reported by runCommand with a non-zero exit.
       const flush = async (): Promise<void> => {
         if (out === '' || broken) return;
-        const ok = process.stdout.write(out);
+        const ok = await writeStdout(out);
         out = '';
-        if (!ok) {
-          await new Promise<void>((resolve) => {
-            const done = (): void => {
-              process.stdout.off('drain', done);
-              process.stdout.off('error', done);
-              resolve();
-            };
-            process.stdout.on('drain', done);
-            process.stdout.on('error', done);
-          });
-        } else {
-          // Let a closed pipe (EPIPE, e.g. `| head`) be noticed.
-          await new Promise<void>((resolve) => setImmediate(resolve));
-        }
+        if (!ok) broken = true;
       };
       const read = {
         ...(opts.topic ? { topics: opts.topic } : {}),
@@ -152,37 +158,57 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
         if (limit !== undefined && n >= limit) break;
         if (broken) break;
         n++;
+        const type = canonicalType(m.type);
         let value: unknown;
         try {
-          value = decoders.decode(m.type, m.data, { topic: m.topic, logTimeNs: m.logTimeNs });
+          value = decoders.decode(m.type, m.data, { topic: m.topic });
         } catch (err) {
           if (!(err instanceof InputError)) throw err;
           failed++;
-          const k = (failures.get(m.topic) ?? 0) + 1;
-          failures.set(m.topic, k);
-          if (k <= REPORT_PER_TOPIC) {
-            const p: Problem = err.problems[0]!;
-            process.stderr.write(`antiphon: topic ${m.topic}, log time ${m.logTimeNs} ns: ${p.message}${p.hint ? ` (${p.hint})` : ''}\n`);
-          }
+          const p = err.problems[0]!;
+          const f = failures.get(m.topic) ?? { type, count: 0, reason: p.message };
+          f.count++;
+          failures.set(m.topic, f);
+          // Nothing dropped: the message as it was recorded, with why it is not decoded.
+          out +=
+            JSON.stringify({
+              topic: m.topic,
+              type,
+              log_time_ns: m.logTimeNs.toString(),
+              cdr_base64: Buffer.from(m.data.buffer, m.data.byteOffset, m.data.byteLength).toString('base64'),
+              undecoded: p.message,
+            }) + '\n';
+          if (out.length >= 1 << 16) await flush();
           continue;
         }
-        out += JSON.stringify({ topic: m.topic, type: m.type, log_time_ns: m.logTimeNs.toString(), message: toJsonValue(value) }) + '\n';
+        out += JSON.stringify({ topic: m.topic, type, log_time_ns: m.logTimeNs.toString(), message: toJsonValue(value) }) + '\n';
         if (out.length >= 1 << 16) await flush();
       }
       await flush();
-    } finally {
-      // After a broken pipe, later write errors may still arrive: keep swallowing them.
-      if (!broken) process.stdout.off('error', onError);
     }
-    if (broken) return EXIT_OK;
-    for (const [topic, k] of failures) {
-      if (k > REPORT_PER_TOPIC) process.stderr.write(`antiphon: topic ${topic}: ${k - REPORT_PER_TOPIC} more messages could not be decoded\n`);
+    if (broken || stdoutFailed()) return EXIT_OK;
+    // One warning per topic, never one per message (the bag's own warnings were given when found).
+    for (const n of decoders.notes) warnOnce('bag', n);
+    for (const [topic, f] of failures) {
+      warnOnce(
+        'bag',
+        {
+          code: 'bag.undecoded',
+          message: `${f.count} message${f.count === 1 ? '' : 's'} of type ${f.type} left undecoded (emitted as cdr_base64): ${f.reason}`,
+          where: { topic },
+          hint: howToSupply(f.type),
+        },
+        { type: f.type, count: f.count },
+      );
     }
     const lost = bag.warnings.filter((w) => DATA_LOSS.has(w.code));
-    for (const w of bag.warnings) process.stderr.write(`antiphon: warning: ${formatProblem(w)}\n`);
-    return failed > 0 || lost.length > 0 ? EXIT_CHECKS_FAILED : EXIT_OK;
+    return (failed > 0 && !opts.allowUndecoded) || lost.length > 0 ? EXIT_CHECKS_FAILED : EXIT_OK;
   });
 }
+
+const DEFINITIONS_HELP =
+  'more message definitions, searched after the bag`s own and before AMENT_PREFIX_PATH and the built-in ones (repeatable): ' +
+  'another bag, a folder of ROS packages (<pkg>/msg|srv|action/…) or an install prefix (share/<pkg>/…)';
 
 export function register(program: Command): void {
   const bag = program.command('bag').description('Inspect rosbag2 recordings (MCAP or sqlite3; a bag directory or one storage file).');
@@ -192,27 +218,31 @@ export function register(program: Command): void {
     .description('Storage, duration, start and end, message count, topics with types, counts and QoS (read from the storage files).')
     .argument('<bag>', 'bag directory, .mcap or .db3 file')
     .option('--json', 'one JSON object on stdout')
-    .action(async (path: string, opts: { json?: boolean }) =>
-      runCommand(!!opts.json, () =>
-        withBag(path, (b) => {
-          if (opts.json) printJson({ ok: true, ...infoJson(b) });
-          else printText(infoText(b));
+    .option('--definitions <bag|dir>', DEFINITIONS_HELP, collect)
+    .action(async (path: string, opts: { json?: boolean; definitions?: string[] }) =>
+      runCommand(!!opts.json, async () => {
+        const sources = await loadDefinitionSources(opts.definitions);
+        return withBag(path, (b) => {
+          const dec = bagDecoders(b, { definitions: sources });
+          if (opts.json) printJson({ ok: true, ...infoJson(b, dec) });
+          else printText(infoText(b, dec));
           return EXIT_OK;
-        }),
-      ),
+        });
+      }),
     );
 
   bag
     .command('dump')
     .description(
-      'Every message decoded, one JSON line each: {"topic","type","log_time_ns","message"} (64-bit integers as strings, uint8/byte arrays as base64). ' +
-        'Messages that cannot be decoded are reported on stderr and make the exit code 1.',
+      'Every message, one JSON line each: {"topic","type","log_time_ns","message"} (64-bit integers as strings, uint8/byte arrays as base64). ' +
+        'A message that cannot be decoded is emitted as {"topic","type","log_time_ns","cdr_base64","undecoded":"<reason>"}, with one warning per topic on stderr, and makes the exit code 1 (unless --allow-undecoded).',
     )
     .argument('<bag>', 'bag directory, .mcap or .db3 file')
     .option('--topic <name...>', 'only these topics (repeatable)')
     .option('--start <s>', 'skip messages before this many seconds after the bag start')
     .option('--end <s>', 'stop after this many seconds after the bag start (inclusive)')
     .option('--limit <n>', 'stop after n messages')
-    .option('--definitions <bag>', 'take message definitions from this other bag first (e.g. the MCAP twin of a .db3 without them)')
+    .option('--definitions <bag|dir>', DEFINITIONS_HELP, collect)
+    .option('--allow-undecoded', 'exit 0 even when some messages were left undecoded')
     .action(async (path: string, opts: DumpOptions) => runCommand(false, () => dump(path, opts)));
 }

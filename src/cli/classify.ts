@@ -2,11 +2,11 @@
 import type { Command } from 'commander';
 import { classifyWrench, LABELS } from '../core/classify.js';
 import type { WrenchFilterConfig } from '../core/filter/index.js';
-import { readWrenchCsv, estimateRate } from '../io/wrench-csv.js';
+import { GAP_PERIODS, findGaps, readWrenchCsv, estimateRate } from '../io/wrench-csv.js';
 import { buildArmConfig } from '../params/config.js';
 import { loadParamsFile } from '../params/load.js';
-import { InputError } from '../util/errors.js';
-import { numberOption, printJson, runCommand } from './common.js';
+import { InputError, formatProblem, type Problem } from '../util/errors.js';
+import { numberOption, printJson, printText, runCommand } from './common.js';
 
 export function register(program: Command): void {
   program
@@ -36,6 +36,16 @@ export function register(program: Command): void {
         if (wf.cutoff_hz >= 0.45 * rate) {
           throw new InputError({ code: 'param.cutoff_too_high', message: `wrench_filter.cutoff_hz = ${wf.cutoff_hz} Hz is too high for ${rate.toFixed(1)} Hz samples`, where: { key: 'wrench_filter.cutoff_hz' }, hint: `below ${(0.45 * rate).toFixed(1)} Hz` });
         }
+        // Holes in t: the filter runs on sample count, so a hole reads as a jump. Warn with the line.
+        const holes = findGaps(table, rate);
+        const warnings: Problem[] = holes.gaps.map((g) => ({
+          code: 'csv.gap',
+          message: `no sample for ${g.duration_s.toPrecision(4)} s (t ${g.from_s} s to ${g.to_s} s), more than ${GAP_PERIODS} sample periods at ${rate.toFixed(1)} Hz`,
+          where: { file: opts.csv, line: g.line },
+          hint: 'the filter treats the samples as evenly spaced; split the file at the gap',
+        }));
+        if (holes.count > holes.gaps.length) warnings.push({ code: 'csv.gap', message: `${holes.count - holes.gaps.length} more gaps`, where: { file: opts.csv } });
+        if (!opts.json) for (const w of warnings) process.stderr.write(`antiphon: warning: ${formatProblem(w)}\n`);
         const r = classifyWrench(table.t, table.wrench, wf, config.wrench_filter.correction_force_n, config.wrench_filter.correction_torque_nm);
         const counts = { quiet: 0, correction: 0, impact: 0 };
         for (const l of r.labels) counts[LABELS[l]!]++;
@@ -50,6 +60,7 @@ export function register(program: Command): void {
             scores: Array.from(r.scores, (s) => Math.round(s * 1e4) / 1e4),
             impacts: r.impacts,
             params: wf,
+            warnings: warnings.map((w) => ({ code: w.code, message: w.message, where: w.where })),
           });
           return 0;
         }
@@ -60,8 +71,9 @@ export function register(program: Command): void {
         }
         out.push(`# ${table.samples} samples at ${rate.toFixed(1)} Hz (${rateOpt === undefined ? 'estimated from t' : '--rate'}); tared at ${r.tared_at_s === null ? 'never (no still window)' : r.tared_at_s.toFixed(3) + ' s'}`);
         out.push(`# quiet ${counts.quiet}, correction ${counts.correction}, impact ${counts.impact}`);
+        if (holes.count) out.push(`# ${holes.count} gap${holes.count === 1 ? '' : 's'} longer than ${GAP_PERIODS} sample periods (see the warnings)`);
         for (const i of r.impacts) out.push(`# impact ${i.start_s.toFixed(3)}-${i.end_s.toFixed(3)} s, peak score ${i.peak_score.toFixed(2)}`);
-        process.stdout.write(out.join('\n') + '\n');
+        printText(out.join('\n'));
         return 0;
       }),
     );

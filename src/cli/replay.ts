@@ -3,16 +3,17 @@ import { join } from 'node:path';
 import type { Command } from 'commander';
 import cliProgress from 'cli-progress';
 import { openBag } from '../bag/index.js';
-import { BagWriter } from '../bag/writer.js';
+import { loadDefinitionSources } from '../bag/definition-sources.js';
+import { createBagWriter, storageOption } from '../bag/writer.js';
 import { loadCell } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
-import { evaluate, loadExpectations, type Verdict } from '../replay/expect.js';
+import { evaluate, hiddenZonesOf, loadExpectations, type Verdict } from '../replay/expect.js';
 import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
 import { replayReportInput, summarize } from '../replay/summary.js';
 import { renderReport } from '../report/html.js';
 import { parseRemaps } from '../ros/topics.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
-import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
+import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { numberOption, printJson, printText, runCommand } from './common.js';
 
 interface Opts {
@@ -24,6 +25,8 @@ interface Opts {
   out?: string;
   overwrite?: boolean;
   expect?: string;
+  storage?: string;
+  definitions?: string[];
   json?: boolean;
 }
 
@@ -48,6 +51,8 @@ export function register(program: Command): void {
     .option('--out <dir>', 'write the output bag, summary.json and report.html here')
     .option('--overwrite', 'replace an existing --out folder')
     .option('--expect <file>', 'expectations file (YAML); exit 1 when any fails')
+    .option('--storage <s>', 'storage of the output bag: mcap or sqlite3 (rosbag2 .db3, as Humble records by default)', 'mcap')
+    .option('--definitions <bag|dir>', 'more message definitions (repeatable): another bag, a folder of ROS packages or an install prefix; searched after the bag`s own', (v: string, acc: string[] = []) => [...acc, v])
     .option('--json', 'print the summary as JSON on stdout')
     .action((bagPath: string, opts: Opts) =>
       runCommand(!!opts.json, async () => {
@@ -60,14 +65,19 @@ export function register(program: Command): void {
         const startS = numberOption('--start', opts.start, 0, 1e9);
         const endS = numberOption('--end', opts.end, 0, 1e9);
         const cell = loadCell(opts.params);
-        const expectations = opts.expect ? loadExpectations(opts.expect) : undefined;
+        const storage = storageOption(opts.storage);
+        // --out is checked before any work; names in the expectations are checked at load.
+        const outOpts = { overwrite: !!opts.overwrite, inputs: [bagPath, opts.params, opts.expect] };
+        if (opts.out !== undefined) checkOutputDir(opts.out, outOpts);
+        const expectations = opts.expect ? loadExpectations(opts.expect, { arms, hiddenZones: hiddenZonesOf(cell) }) : undefined;
+        const definitions = await loadDefinitionSources(opts.definitions);
         const bag = await openBag(bagPath);
         try {
           const showBar = process.stdout.isTTY && !opts.json && !process.env['CI'];
           const bar = showBar ? new cliProgress.SingleBar({ format: 'replay [{bar}] {percentage}% | {eta}s left', hideCursor: true }, cliProgress.Presets.shades_classic) : undefined;
           bar?.start(1000, 0);
           const progress = bar ? (f: number) => bar.update(Math.round(f * 1000)) : undefined;
-          const base = { arms, configs: { left: cell.left.config, right: cell.right.config }, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}) };
+          const base = { arms, configs: { left: cell.left.config, right: cell.right.config }, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}), ...(definitions.length ? { definitions } : {}) };
           let record: ReplayRecord;
           let summary: Record<string, unknown>;
           let verdicts: Verdict[] | undefined;
@@ -75,9 +85,9 @@ export function register(program: Command): void {
             verdicts = expectations ? evaluate(r, expectations) : undefined;
             summary = summarize(r, opts.params ?? null, verdicts);
           };
-          if (opts.out) {
-            await withOutputDir(opts.out, !!opts.overwrite, async (tmp) => {
-              const writer = await BagWriter.create(join(tmp, 'bag'), { compression: 'zstd' });
+          if (opts.out !== undefined) {
+            await withOutputDir(opts.out, outOpts, async (tmp) => {
+              const writer = await createBagWriter(join(tmp, 'bag'), { compression: 'zstd', storage });
               try {
                 record = await replayBag(bag, { ...base, sink: writerSink(writer, bag) });
               } catch (err) {
@@ -105,7 +115,8 @@ export function register(program: Command): void {
             }
             const inf = summary!['internal_force'] as { peak_n: number } | undefined;
             if (inf) lines.push(`  peak internal force ${inf.peak_n} N`);
-            for (const w of record!.warnings) lines.push(`  warning: ${w.message}`);
+            // The warnings themselves went to stderr once, as they were found.
+            if (record!.warnings.length > 0) lines.push(`  ${record!.warnings.length} warning${record!.warnings.length === 1 ? '' : 's'} (on stderr; in summary.json with --out)`);
             if (verdicts) lines.push('', verdictTable(verdicts));
             if (opts.out) lines.push('', `wrote ${join(opts.out, 'bag')}, ${join(opts.out, 'summary.json')}, ${join(opts.out, 'report.html')}`);
             printText(lines.join('\n'));

@@ -1,6 +1,8 @@
 /** `antiphon simulate`: one episode of the simulated cell; prints the summary and writes summary.json. */
 import { join } from 'node:path';
 import type { Command } from 'commander';
+import type { StorageId } from '../bag/types.js';
+import { storageOption } from '../bag/writer.js';
 import { loadCell } from '../params/config.js';
 import { renderReport } from '../report/html.js';
 import { writeEpisodeBag } from '../sim/episode-bag.js';
@@ -10,7 +12,7 @@ import type { CommitmentSummary, PartnerHoldSummary } from '../sim/measures.js';
 import { ARM_MODELS, type ArmModel, type InjectHold, type SimOptionsOverrides } from '../sim/options.js';
 import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
-import { withOutputDir, writeFileAtomic } from '../util/outdir.js';
+import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
 /**
@@ -18,10 +20,10 @@ import { integerOption, numberOption, printJson, printText, runCommand } from '.
  * `bag/` (both arms' inputs and every output, under the live topic names), `summary.json`
  * and `report.html`.
  */
-export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean): Promise<{ files: string[]; replayMatches: boolean }> {
+export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean, storage: StorageId = 'mcap', inputs: readonly (string | undefined)[] = []): Promise<{ files: string[]; replayMatches: boolean }> {
   let replayMatches = false;
-  await withOutputDir(dir, overwrite, async (tmp) => {
-    const art = await writeEpisodeBag(tmp, result, result.configs);
+  await withOutputDir(dir, { overwrite, inputs }, async (tmp) => {
+    const art = await writeEpisodeBag(tmp, result, result.configs, storage);
     replayMatches = art.matchingSamples === art.samples;
     const summary = { ...result.summary, bag_replay_matches_closed_loop: replayMatches };
     writeFileAtomic(join(tmp, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
@@ -110,8 +112,9 @@ export function register(program: Command): void {
     .option('--inject-hold <arm:t>', 'one NaN wrench sample on that arm at that time, s (e.g. left:3.0); also turns off the hold timeout')
     .option('--out <dir>', 'output folder for bag/, summary.json and report.html (default out/sim-<seed>)')
     .option('--overwrite', 'replace an existing output folder')
+    .option('--storage <s>', 'storage of the output bag: mcap or sqlite3 (rosbag2 .db3, as Humble records by default)', 'mcap')
     .option('--json', 'print the summary as JSON')
-    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; json?: boolean }) =>
+    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; storage?: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
         const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
@@ -119,6 +122,7 @@ export function register(program: Command): void {
         const armModel = armModelOption(opts.armModel);
         const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
         const inject = injectHoldOption(opts.injectHold);
+        const storage = storageOption(opts.storage);
         const cell = loadCell(opts.params);
         const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
         let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
@@ -128,9 +132,11 @@ export function register(program: Command): void {
           }
           strategy = { name: strategy.name, k: period };
         }
-        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        // --out is checked before the episode runs (it may take minutes).
         const dir = opts.out ?? join('out', `sim-${seed}`);
-        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite);
+        checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
+        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
         if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });
         else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
         return 0;

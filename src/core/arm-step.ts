@@ -426,7 +426,7 @@ export class ArmStep {
     const py = this.obj[1]!;
     const role = this.roles.update(t, this.watchdog.held);
     if (role !== this.lastRole) {
-      this.commitAtSwitch(role);
+      this.commitAtSwitch(role, px);
       this.lastRole = role;
     }
 
@@ -638,11 +638,28 @@ export class ArmStep {
       this.scoreSpeaker(this.hiddenTable, known | bit, fx, fy, vx, vy, this.loglik);
       this.scoreSpeaker(this.hiddenTable2, known & ~bit, fx, fy, vx, vy, this.loglik2);
       const lw = Math.log(w), lw0 = Math.log(1 - w);
+      // The commitment is a hidden variable too: what the speaker does tells whether it
+      // committed the zone. Its posterior, P(c | window) ∝ w Σ_h p(h) L1(h) against
+      // (1 − w) Σ_h p(h) L0(h), becomes the weight of the next window (and, rounded, this arm's
+      // view of the partner's commitment), so a disagreement repairs itself while listening.
+      let top = Number.NEGATIVE_INFINITY;
+      for (let h = 0; h < this.hypotheses; h++) top = Math.max(top, this.loglik[h]!, this.loglik2[h]!);
+      const p = this.belief.p;
+      let e1 = 0, e0 = 0;
       for (let h = 0; h < this.hypotheses; h++) {
-        const a = lw + this.loglik[h]!;
-        const b = lw0 + this.loglik2[h]!;
+        const l1 = this.loglik[h]!, l0 = this.loglik2[h]!;
+        e1 += p[h]! * Math.exp(l1 - top);
+        e0 += p[h]! * Math.exp(l0 - top);
+        const a = lw + l1;
+        const b = lw0 + l0;
         const m = a > b ? a : b;
         this.loglik[h] = m + Math.log(Math.exp(a - m) + Math.exp(b - m));
+      }
+      const post = (w * e1) / (w * e1 + (1 - w) * e0);
+      if (Number.isFinite(post)) {
+        const wp = Math.min(Math.max(post, 1e-9), 1 - 1e-9);
+        this.commitWeight[doubt] = wp;
+        this.committedOwn = wp >= 0.5 ? this.committedOwn | bit : this.committedOwn & ~bit;
       }
     }
     this.belief.update(this.loglik, this.config.belief.forgetting);
@@ -678,8 +695,10 @@ export class ArmStep {
    * Commit what was learned into common knowledge when the role changes. Commitments are
    * sticky: a zone is committed once its marginal reaches commit_probability and stays so
    * while it holds release_probability, on both arms by the same rule (belief and replica).
+   * A zone the object has passed is dropped on both arms: no action depends on it any more, so
+   * nothing could repair a disagreement about it (and none can matter).
    */
-  private commitAtSwitch(role: Role): void {
+  private commitAtSwitch(role: Role, px: number): void {
     const bp = this.config.belief;
     if (role === SPEAKER) {
       // Turning speaker: what I inferred of the partner's zones while listening.
@@ -688,7 +707,7 @@ export class ArmStep {
       for (let b = 0; b < this.task.hidden.length; b++) {
         const bit = 1 << this.task.hidden[b]!;
         const th = (this.committedHidden & bit) !== 0 ? bp.release_probability : bp.commit_probability;
-        if (this.marg[b]! >= th) m |= bit;
+        if (this.marg[b]! >= th && !this.task.passed(this.task.hidden[b]!, px)) m |= bit;
       }
       this.committedHidden = m;
     } else {
@@ -703,9 +722,10 @@ export class ArmStep {
         const th = (this.committedOwn & bit) !== 0 ? bp.release_probability : bp.commit_probability;
         const lo = logit(this.marg[b]!);
         const spread = Math.sqrt(Math.max(2 * Math.abs(lo), 0.25));
-        const w = normalCdf((lo - logit(th)) / spread);
+        const passed = this.task.passed(this.task.own[b]!, px);
+        const w = passed ? 0 : normalCdf((lo - logit(th)) / spread);
         this.commitWeight[b] = w;
-        if (this.marg[b]! >= th) m |= bit;
+        if (this.marg[b]! >= th && !passed) m |= bit;
       }
       this.committedOwn = m;
     }

@@ -8,10 +8,11 @@
  * flatten to dotted keys as ROS does. Every problem names the dotted key, the file, line and
  * column, and what is allowed; all problems are reported at once and nothing is half-applied.
  */
-import { readFileSync } from 'node:fs';
 import { closest } from 'fastest-levenshtein';
-import { isMap, isScalar, isSeq, LineCounter, parseDocument, type Node, type Pair } from 'yaml';
+import { isMap, isScalar, isSeq, LineCounter, type Node, type Pair } from 'yaml';
 import { InputError, type Problem } from '../util/errors.js';
+import { INPUT_LIMITS, readInputText } from '../util/read-input.js';
+import { parseYamlDocument } from '../util/yaml.js';
 import { SCHEMA, specFor } from './schema.js';
 import { ARMS, type ArmName, type ParamSpec, type ParamValue, type ResolvedValue, type ValueSource } from './spec.js';
 
@@ -44,19 +45,15 @@ export interface ParamsFile {
 
 /** Read and validate a parameters file. Throws InputError listing every problem. */
 export function loadParamsFile(path: string): ParamsFile {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (err) {
-    throw new InputError({ code: 'param.file_unreadable', message: `cannot read parameters file: ${(err as Error).message}`, where: { file: path } });
-  }
+  // A regular file of at most INPUT_LIMITS.params bytes (no device, FIFO or folder).
+  const text = readInputText(path, { what: 'parameters file', code: 'param', unreadableCode: 'param.file_unreadable', maxBytes: INPUT_LIMITS.params });
   return parseParamsText(text, path);
 }
 
 /** Parse parameters-file text (exposed for tests and for the ROS adapter). */
 export function parseParamsText(text: string, path: string): ParamsFile {
   const lc = new LineCounter();
-  const doc = parseDocument(text, { lineCounter: lc, intAsBigInt: true, uniqueKeys: true, prettyErrors: false });
+  const doc = parseYamlDocument(text, { lineCounter: lc, intAsBigInt: true, uniqueKeys: true, prettyErrors: false });
   const problems: Problem[] = [];
   const at = (node: Node | Pair | null | undefined): { file: string; line?: number; column?: number } => {
     const range = (node as { range?: [number, number, number] } | null | undefined)?.range;
@@ -182,10 +179,14 @@ function keyPrefixMatches(pattern: string, key: string): boolean {
   return kk.every((k, n) => pp[n] === '*' || pp[n] === k);
 }
 
+/** The schema keys split once (unknownKey runs once per unknown key: 100,000 in a hostile file). */
+let schemaParts: string[][] | undefined;
+
 function unknownKey(key: string, where: { file: string; line?: number; column?: number }): Problem {
   // Candidates: every schema key, with `*` filled from the user's own segments.
   const kk = key.split('.');
-  const candidates = SCHEMA.map((s) => s.key.split('.').map((p, n) => (p === '*' ? (kk[n] ?? p) : p)).join('.'));
+  schemaParts ??= SCHEMA.map((s) => s.key.split('.'));
+  const candidates = SCHEMA.map((s, i) => (s.key.includes('*') ? schemaParts![i]!.map((p, n) => (p === '*' ? (kk[n] ?? p) : p)).join('.') : s.key));
   // Compare against keys of the same depth first, then any.
   const nearest = closest(key, candidates);
   return {

@@ -78,7 +78,7 @@ export const SCHEMA: readonly ParamSpec[] = [
   // ---- belief ------------------------------------------------------------------------------
   d('belief.update_rate_hz', 'Hz', 100, 1, 8000, 'Rate of Bayes updates (the correction band is a few hertz wide).'),
   d('belief.noise_force_n', 'N', 1.5, 0.001, 100, 'Standard deviation of the correction-band force around the coupling model, per axis.'),
-  d('belief.forgetting', '1', 0.002, 0, 0.5, 'Mixing toward the uniform belief at each update, for a world that changes.'),
+  d('belief.forgetting', '1', 0.0005, 0, 0.5, 'Mixing toward the uniform belief at each update: the chance per update that a zone changed (0.0005 at 100 Hz: a half-life of about 14 s). Larger than the world\'s real rate of change makes the belief underconfident once the evidence stops.'),
   d('belief.commit_probability', '1', 0.8, 0.5, 1, 'At a role switch, a zone whose occupied probability reaches this becomes common knowledge.'),
   d('belief.release_probability', '1', 0.5, 0, 1, 'At a role switch, a committed zone stays committed while its occupied probability is at least this (sticky commitments: a hysteresis below commit_probability).'),
   i('belief.max_hidden_zones', 8, 0, 8, 'Most zones only the partner observes (exact enumeration: 2^n hypotheses, at most 256).'),

@@ -13,13 +13,18 @@
  *
  * Every entry holds one kind and may carry `name:`. Times are seconds from the bag start.
  * The structure is checked with JSON Schema (ajv); every problem names file, line and column.
+ * Checked at load too, before any replay work: windows in order (`between_s` [a, b] with a ≤ b;
+ * `from_s` ≤ `by_s` ≤ `until_s`; `tolerance_s` below half of `period_s`) and, given what is
+ * replayed, the names: arms that are replayed, zones the arm infers (partner-only zones).
+ * Anchors and aliases work; their expansion is bounded (src/util/yaml.ts).
  */
-import { readFileSync } from 'node:fs';
 import { Ajv, type ErrorObject } from 'ajv';
 import { closest } from 'fastest-levenshtein';
-import { isMap, isSeq, LineCounter, parseDocument, type Document, type Node } from 'yaml';
+import { isMap, isSeq, LineCounter, type Document, type Node } from 'yaml';
 import { CHECKS } from '../core/watchdog.js';
 import { InputError, type Problem } from '../util/errors.js';
+import { INPUT_LIMITS, readInputText } from '../util/read-input.js';
+import { parseYamlDocument, yamlToJs } from '../util/yaml.js';
 import type { ArmReplayRecord, ReplayRecord } from './replay.js';
 
 const arm = { enum: ['left', 'right', 'both'] } as const;
@@ -69,7 +74,27 @@ export interface Expectation {
   readonly name: string;
   readonly kind: ExpectationKind;
   readonly args: Record<string, unknown>;
+  readonly file?: string;
   readonly line?: number;
+  readonly column?: number;
+}
+
+/** What a replay will have, so names in expectations are checked at load. */
+export interface ExpectationContext {
+  /** The arms replayed. */
+  readonly arms: readonly ('left' | 'right')[];
+  /** Per arm, the zones it infers (seen only by its partner), in belief order. */
+  readonly hiddenZones: { readonly left: readonly string[]; readonly right: readonly string[] };
+}
+
+interface CellZones {
+  readonly config: { readonly task: { readonly zones: readonly { readonly name: string; readonly observed_by: string }[] } };
+}
+
+/** The zones each arm of a cell infers: those observed by its partner only (src/params/config.ts). */
+export function hiddenZonesOf(cell: { readonly left: CellZones; readonly right: CellZones }): ExpectationContext['hiddenZones'] {
+  const of = (arm: 'left' | 'right'): string[] => cell[arm].config.task.zones.filter((z) => z.observed_by !== 'both' && z.observed_by !== arm).map((z) => z.name);
+  return { left: of('left'), right: of('right') };
 }
 
 export interface Verdict {
@@ -122,26 +147,23 @@ function ajvProblems(errors: ErrorObject[] | null | undefined, base: (string | n
   });
 }
 
-export function loadExpectations(path: string): Expectation[] {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (err) {
-    throw new InputError({ code: 'expect.unreadable', message: `cannot read expectations: ${(err as Error).message}`, where: { file: path } });
-  }
-  return parseExpectations(text, path);
+export function loadExpectations(path: string, context?: ExpectationContext): Expectation[] {
+  const text = readInputText(path, { what: 'expectations file', code: 'expect', maxBytes: INPUT_LIMITS.expectations, option: '--expect' });
+  return parseExpectations(text, path, context);
 }
 
-export function parseExpectations(text: string, file: string): Expectation[] {
+export function parseExpectations(text: string, file: string, context?: ExpectationContext): Expectation[] {
   const lc = new LineCounter();
-  const doc = parseDocument(text, { lineCounter: lc, uniqueKeys: true });
+  const doc = parseYamlDocument(text, { lineCounter: lc, uniqueKeys: true });
   if (doc.errors.length) {
     throw new InputError(doc.errors.map((e) => {
       const p = lc.linePos(e.pos[0]);
       return { code: 'expect.yaml_syntax', message: `YAML syntax: ${e.message.split('\n')[0]}`, where: { file, line: p.line, column: p.col } };
     }));
   }
-  const data = doc.toJS() as unknown;
+  const js = yamlToJs(doc);
+  if (!js.ok) throw new InputError({ code: 'expect.yaml_aliases', message: js.message, where: { file }, hint: 'write the values out, or reuse anchors fewer times' });
+  const data = js.value;
   if (!validateFile(data)) throw new InputError(ajvProblems(validateFile.errors, [], doc, lc, file, 'expectations'));
   const list = (data as { expect: Record<string, unknown>[] }).expect;
   const problems: Problem[] = [];
@@ -164,10 +186,40 @@ export function parseExpectations(text: string, file: string): Expectation[] {
       problems.push(...ajvProblems(v.errors, ['expect', k, kind], doc, lc, file, `expect[${k}].${kind}`));
       return;
     }
+    const at = (key: string) => position(doc, lc, ['expect', k, kind, key], file);
+    const before = problems.length;
     const b = (args as { between_s?: [number, number] }).between_s;
-    if (b && b[1] < b[0]) problems.push({ code: 'expect.bad_window', message: `expect[${k}].hold.between_s ends before it starts`, where: position(doc, lc, ['expect', k, kind, 'between_s'], file) });
+    if (b && b[1] < b[0]) problems.push({ code: 'expect.bad_window', message: `expect[${k}].hold.between_s ends before it starts`, where: at('between_s') });
+    const a = args as { from_s?: number; by_s?: number; until_s?: number; period_s?: number; tolerance_s?: number; arm?: string; zone?: string };
+    if (kind === 'belief_above') {
+      if (a.from_s !== undefined && a.by_s !== undefined && a.from_s > a.by_s)
+        problems.push({ code: 'expect.bad_window', message: `expect[${k}].belief_above: from_s ${a.from_s} s is after by_s ${a.by_s} s`, where: at('from_s'), hint: 'from_s <= by_s <= until_s' });
+      if (a.until_s !== undefined && a.by_s !== undefined && a.until_s < a.by_s)
+        problems.push({ code: 'expect.bad_window', message: `expect[${k}].belief_above: until_s ${a.until_s} s is before by_s ${a.by_s} s`, where: at('until_s'), hint: 'from_s <= by_s <= until_s' });
+    }
+    if (kind === 'role_switches' && a.tolerance_s !== undefined && a.period_s !== undefined && a.tolerance_s >= a.period_s / 2)
+      problems.push({ code: 'expect.bad_window', message: `expect[${k}].role_switches: tolerance_s ${a.tolerance_s} s is not below half of period_s (${a.period_s / 2} s), so any time would pass`, where: at('tolerance_s'), hint: `below ${a.period_s / 2} s` });
+    if (context && a.arm !== undefined) {
+      const need = a.arm === 'both' ? (['left', 'right'] as const) : [a.arm as 'left' | 'right'];
+      const missing = need.filter((x) => !context.arms.includes(x));
+      if (missing.length)
+        problems.push({ code: 'expect.arm_not_replayed', message: `expect[${k}].${kind} needs the ${missing.join(' and ')} arm, which is not replayed`, where: at('arm'), hint: 'replay with --arm both (or the arm named)' });
+      else if (kind === 'belief_above' && a.zone !== undefined) {
+        const zones = context.hiddenZones[a.arm as 'left' | 'right'];
+        if (!zones.includes(a.zone))
+          problems.push({
+            code: 'expect.unknown_zone',
+            message: `expect[${k}].belief_above: '${a.zone}' is not a zone the ${a.arm} arm infers`,
+            where: at('zone'),
+            hint: zones.length ? `the ${a.arm} arm infers ${zones.join(', ')}; did you mean ${closest(a.zone, [...zones])}?` : `the ${a.arm} arm infers no zone (it sees every zone itself)`,
+          });
+      }
+    }
+    if (kind === 'peak_internal_force_below_n' && context && context.arms.length < 2)
+      problems.push({ code: 'expect.arm_not_replayed', message: `expect[${k}].peak_internal_force_below_n needs both arms, which are not replayed`, where, hint: 'replay with --arm both' });
+    if (problems.length > before) return;
     const name = typeof item['name'] === 'string' ? (item['name'] as string) : `${kind} ${JSON.stringify(args)}`;
-    out.push({ name, kind: kind as ExpectationKind, args, ...(where.line !== undefined ? { line: where.line } : {}) });
+    out.push({ name, kind: kind as ExpectationKind, args, file, ...(where.line !== undefined ? { line: where.line } : {}), ...(where.column !== undefined ? { column: where.column } : {}) });
   });
   if (problems.length) throw new InputError(problems);
   return out;
@@ -214,7 +266,7 @@ export function evaluate(record: ReplayRecord, list: readonly Expectation[]): Ve
       case 'belief_above': {
         const r = armsOf(record, a.arm, e)[0]!;
         const z = r.hiddenZones.indexOf(a.zone);
-        if (z < 0) throw new InputError({ code: 'expect.unknown_zone', message: `expectation '${e.name}': '${a.zone}' is not a zone the ${r.arm} arm infers`, ...(e.line !== undefined ? { where: { line: e.line } } : {}), hint: `the ${r.arm} arm's hidden zones: ${r.hiddenZones.join(', ') || 'none'}` });
+        if (z < 0) throw new InputError({ code: 'expect.unknown_zone', message: `expectation '${e.name}': '${a.zone}' is not a zone the ${r.arm} arm infers`, where: { ...(e.file !== undefined ? { file: e.file } : {}), ...(e.line !== undefined ? { line: e.line } : {}), ...(e.column !== undefined ? { column: e.column } : {}) }, hint: `the ${r.arm} arm's hidden zones: ${r.hiddenZones.join(', ') || 'none'}` });
         const occupied = a.occupied !== false;
         const w = r.hiddenZones.length;
         const from = (a.from_s as number | undefined) ?? 0;

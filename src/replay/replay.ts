@@ -4,10 +4,10 @@
  * same record, summary and output bag, byte for byte.
  */
 import { openBag, type Bag, type MessageBatch, type TopicInfo } from '../bag/index.js';
-import { bagDecoders } from '../bag/decode.js';
+import { bagDecoders, type DecoderOptions } from '../bag/decode.js';
 import { canonicalType } from '../bag/definitions.js';
 import { decodePoseStamped, decodeWrenchStamped, JointStateDecoder } from '../bag/fast.js';
-import type { BagWriter } from '../bag/writer.js';
+import type { BagOutput } from '../bag/writer.js';
 import { ArmStep, TARE_OUTCOME_REFUSED, ZONE_UNKNOWN, type ArmOutputs } from '../core/arm-step.js';
 import { CHECKS } from '../core/watchdog.js';
 import type { ArmConfig } from '../params/config.js';
@@ -15,7 +15,7 @@ import type { ArmName } from '../params/spec.js';
 import { OutputEncoder } from '../ros/encode.js';
 import { INPUT_KINDS, INPUT_TYPES, inputTopic, OUTPUT_KINDS, OUTPUT_TYPES, outputTopic, type InputKind } from '../ros/topics.js';
 import { InputError, type Problem } from '../util/errors.js';
-import { logger } from '../util/log.js';
+import { warnOnce } from '../util/log.js';
 import { Column } from './series.js';
 
 export interface ReplayEvent {
@@ -90,6 +90,8 @@ export interface ReplayOptions {
   readonly sink?: OutputSink;
   /** Called with the fraction done, at most a few hundred times. */
   readonly progress?: (fraction: number) => void;
+  /** `--definitions` sources for the types decoded generically (the zone view). */
+  readonly definitions?: DecoderOptions['definitions'];
 }
 
 /** Where replay outputs go: a bag writer, or nothing. Input messages are passed through too. */
@@ -98,8 +100,8 @@ export interface OutputSink {
   write(topic: number, logTimeNs: bigint, data: Uint8Array): void;
 }
 
-/** Adapts a BagWriter to OutputSink, copying definitions of pass-through inputs from the source bag. */
-export function writerSink(writer: BagWriter, source: Bag): OutputSink {
+/** Adapts a bag writer (MCAP or sqlite3) to OutputSink, copying definitions of pass-through inputs from the source bag. */
+export function writerSink(writer: BagOutput, source: Bag): OutputSink {
   return {
     async addTopic(name, type, from) {
       const def = from ? source.definition(from.type) : undefined;
@@ -107,7 +109,7 @@ export function writerSink(writer: BagWriter, source: Bag): OutputSink {
         name,
         type,
         ...(from ? { offeredQos: from.offeredQosText } : {}),
-        ...(def && def.encoding === 'ros2msg' && def.text.trim() !== '' ? { definition: def.text } : {}),
+        ...(def && (def.encoding === 'ros2msg' || def.encoding === 'ros2idl') && def.text.trim() !== '' ? { definition: def.text, definitionEncoding: def.encoding } : {}),
       });
     },
     write(topic, t, data) {
@@ -183,12 +185,11 @@ function resolveTopics(bag: Bag, arm: ArmName, remap: ReadonlyMap<string, string
 }
 
 export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRecord> {
-  const log = logger('replay');
   const warnings: Problem[] = [];
   const remap = opts.remap ?? new Map<string, string>();
   const topics = bag.topics();
   const topicIndex = new Map(topics.map((t, k) => [t.name, k]));
-  const decoders = bagDecoders(bag);
+  const decoders = bagDecoders(bag, opts.definitions ? { definitions: opts.definitions } : {});
   const t0ns = bag.startNs;
   const startNs = opts.startS === undefined ? undefined : t0ns + BigInt(Math.round(opts.startS * 1e9));
   const endNs = opts.endS === undefined ? undefined : t0ns + BigInt(Math.round(opts.endS * 1e9));
@@ -376,7 +377,8 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
   opts.progress?.(1);
   if (outOfOrder > 0) warnings.push({ code: 'replay.out_of_order', message: `${outOfOrder} messages arrived out of log-time order; replayed as read`, where: { file: bag.path } });
   for (const w of bag.warnings) warnings.push(w);
-  for (const w of warnings) log.warn({ code: w.code, where: w.where }, w.message);
+  // The bag's own warnings were logged when it was opened: each reaches the user once.
+  for (const w of warnings) warnOnce('replay', w);
 
   const arms = runs.map((run): ArmReplayRecord => ({
     arm: run.arm,

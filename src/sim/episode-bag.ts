@@ -1,5 +1,5 @@
 /**
- * Episode artefacts: the MCAP bag, the summary and the HTML report of one simulated episode.
+ * Episode artefacts: the bag (MCAP, or sqlite3 with `--storage sqlite3`), the summary and the HTML report of one simulated episode.
  *
  * The bag is made in two steps, so that a simulated bag is exactly what a recording of the
  * live nodes would be: (1) every input each arm's step was fed (wrench, joint states, tool
@@ -11,7 +11,8 @@
 import { rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { openBag } from '../bag/index.js';
-import { BagWriter } from '../bag/writer.js';
+import { createBagWriter } from '../bag/writer.js';
+import type { StorageId } from '../bag/types.js';
 import type { ArmConfig } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
 import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
@@ -56,14 +57,21 @@ export interface EpisodeArtifacts {
  * Write `<dir>/bag` (inputs and outputs) and return what the report needs. `dir` is the
  * temporary output folder (the caller renames it when complete).
  */
-export async function writeEpisodeBag(dir: string, result: EpisodeResult, configs: { left: ArmConfig; right: ArmConfig }): Promise<EpisodeArtifacts> {
+export async function writeEpisodeBag(dir: string, result: EpisodeResult, configs: { left: ArmConfig; right: ArmConfig }, storage: StorageId = 'mcap'): Promise<EpisodeArtifacts> {
   const record = result.record;
   if (!record) throw new Error('the episode was run without a record');
   const inputs = join(dir, '.inputs');
   await writeEpisodeInputs(inputs, record);
   const source = await openBag(inputs);
   let replay: ReplayRecord;
-  const writer = await BagWriter.create(join(dir, 'bag'), { compression: 'zstd' });
+  let writer;
+  try {
+    writer = await createBagWriter(join(dir, 'bag'), { compression: 'zstd', storage });
+  } catch (err) {
+    source.close();
+    rmSync(inputs, { recursive: true, force: true });
+    throw err;
+  }
   try {
     replay = await replayBag(source, { arms: ['left', 'right'], configs, sink: writerSink(writer, source) });
     await writer.close();

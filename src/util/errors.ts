@@ -9,6 +9,8 @@ export const EXIT_OK = 0;
 export const EXIT_CHECKS_FAILED = 1;
 /** Bad input: a file, an option or a value that is not allowed. Nothing was written as if valid. */
 export const EXIT_BAD_INPUT = 2;
+/** An output could not be written (full disk, permission, stdout failure other than a closed pipe): sysexits' EX_IOERR. */
+export const EXIT_IO_ERROR = 74;
 
 export interface Place {
   /** A file path, a topic name, an option name: what the user would look for. */

@@ -1,13 +1,17 @@
 /** `antiphon bag info` and `antiphon bag dump`, run in-process through commander. */
 import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { describe, expect, it } from 'vitest';
+import { beforeEach, describe, expect, it } from 'vitest';
 import { register } from '../../src/cli/bag.js';
 import { createBagWriter, encodeWrenchStamped } from '../../src/bag/index.js';
+import { resetLogging } from '../../src/util/log.js';
 import { runRegistered } from '../support/run-command.js';
 import { copyFixture, FIXTURES, fixture, tempDir, writeCellBag } from './helpers.js';
 
 /** `antiphon <name> <args…>` in-process (`name` is `bag`), with stdout and stderr as `out` and `err`. */
+// Each run is a fresh command: warnings already given by an earlier run are given again.
+beforeEach(() => resetLogging());
+
 async function run(name: string, ...args: string[]): Promise<{ code: number; out: string; err: string }> {
   const r = await runRegistered(register, name, args);
   return { code: r.code, out: r.stdout, err: r.stderr };
@@ -73,7 +77,14 @@ describe.skipIf(!FIXTURES)('bag info / bag dump on the ROS 2 fixtures', () => {
     db.close();
     const without = await run('bag', 'dump', dir);
     expect(without.code).toBe(1);
-    expect(without.err).toMatch(/topic \/test_topic, log time 1586406456763032325 ns: no message definition for type test_msgs\/msg\/BasicTypes/);
+    // Nothing dropped: every message is a line; the undecoded ones carry their bytes and the reason.
+    const lines = without.out.trim().split('\n').map((l) => JSON.parse(l));
+    expect(lines).toHaveLength(7);
+    expect(lines[0]).toMatchObject({ topic: '/test_topic', type: 'test_msgs/msg/BasicTypes', log_time_ns: '1586406456763032325', undecoded: expect.stringContaining('no message definition for type test_msgs/msg/BasicTypes') });
+    // One warning per topic (JSON lines: stderr is not a terminal here), never one per message.
+    const warnings = without.err.trim().split('\n').map((l) => JSON.parse(l));
+    expect(warnings.map((w) => [w.where.topic, w.count])).toEqual([['/test_topic', 3], ['/array_topic', 4]]);
+    expect(warnings[0].hint).toContain('--definitions');
     // Source: fixtures README (take the definitions from the MCAP twin).
     const withDefs = await run('bag', 'dump', dir, '--definitions', fixture('mcap-cdr_test'));
     expect(withDefs.code).toBe(0);
@@ -93,7 +104,7 @@ describe.skipIf(!FIXTURES)('bag info / bag dump on the ROS 2 fixtures', () => {
 });
 
 describe('bag dump exit codes', () => {
-  it('exit 1 and a line on stderr (topic, time) for each message it cannot decode', async () => {
+  it('exit 1 and one warning for the topic whose messages it cannot decode; every message still a line', async () => {
     const dir = join(tempDir(), 'mixed');
     const w = await createBagWriter(dir, { allowMissingDefinitions: true });
     const good = await w.addTopic({ name: '/w', type: 'geometry_msgs/msg/WrenchStamped' });
@@ -105,8 +116,17 @@ describe('bag dump exit codes', () => {
     const r = await run('bag', 'dump', dir);
     // Source: the task's exit-code rule (1 when some message could not be decoded).
     expect(r.code).toBe(1);
-    expect(r.out.trim().split('\n').map((l) => JSON.parse(l).log_time_ns)).toEqual(['10', '12']);
-    expect(r.err).toContain('topic /odd, log time 11 ns: no message definition for type my_pkg/msg/Odd');
+    const lines = r.out.trim().split('\n').map((l) => JSON.parse(l));
+    expect(lines.map((l) => l.log_time_ns)).toEqual(['10', '11', '12']);
+    // Source: the bytes written above, base64 (RFC 4648).
+    expect(lines[1]).toEqual({ topic: '/odd', type: 'my_pkg/msg/Odd', log_time_ns: '11', cdr_base64: 'AAEAAA==', undecoded: expect.stringContaining('no message definition for type my_pkg/msg/Odd') });
+    const warnings = r.err.trim().split('\n').map((l) => JSON.parse(l));
+    expect(warnings).toHaveLength(1);
+    expect(warnings[0]).toMatchObject({ code: 'bag.undecoded', where: { topic: '/odd' }, type: 'my_pkg/msg/Odd', count: 1 });
+    expect(warnings[0].hint).toContain('my_pkg/msg/Odd.msg');
+    const allowed = await run('bag', 'dump', dir, '--allow-undecoded');
+    expect(allowed.code).toBe(0);
+    expect(allowed.out).toBe(r.out);
   });
 
   it('exit 1 when a damaged chunk was skipped; the intact messages still print', async () => {
@@ -119,7 +139,10 @@ describe('bag dump exit codes', () => {
     // Source: MCAP specification (chunk CRC) and the task's exit-code rule.
     const r = await run('bag', 'dump', path, '--topic', '/left/wrench');
     expect(r.code).toBe(1);
-    expect(r.err).toMatch(/warning: .*damaged\.mcap, .*byte \d+: chunk at byte \d+ is damaged/);
+    const warnings = r.err.trim().split('\n').map((l) => JSON.parse(l));
+    expect(warnings.filter((w) => w.code === 'bag.mcap_chunk_corrupt')).toHaveLength(1);
+    expect(warnings[0].where.file).toMatch(/damaged\.mcap$/);
+    expect(warnings[0].msg).toMatch(/chunk at byte \d+ is damaged/);
     expect(r.out.trim().split('\n').length).toBeGreaterThan(10);
     const clean = join(tempDir(), 'clean.mcap');
     copyFileSync(file, clean);

@@ -51,7 +51,7 @@ describe.skipIf(!built)('CLI', () => {
     expect(r.status).toBe(0);
     const printed = JSON.parse(r.stdout) as { seed: number; strategy: string; files: string[] };
     expect(printed.strategy).toBe('alternating:200');
-    expect(readdirSync(dir).sort()).toEqual(['bag', 'report.html', 'summary.json']);
+    expect(readdirSync(dir).sort()).toEqual(['.antiphon-output', 'bag', 'report.html', 'summary.json']); // the marker: --overwrite replaces only folders antiphon wrote
     const written = JSON.parse(readFileSync(join(dir, 'summary.json'), 'utf8')) as Record<string, unknown>;
     const { files, ...summary } = printed;
     expect(files).toEqual([join(dir, 'bag'), join(dir, 'summary.json'), join(dir, 'report.html')]);

@@ -9,8 +9,12 @@ import { loadCell } from '../../src/params/config.js';
 import { runEpisode } from '../../src/sim/episode.js';
 import { worldSeed } from '../../src/sim/world.js';
 
-/** The bound B on the partner's detection time, s (set from the measured figures when the check lands). */
-export const PARTNER_STOP_BOUND_S = 1.0;
+/**
+ * The bound B on the partner's detection time, s: watchdog.partner_stop.window_s (1 s) plus
+ * the correction band's lag, from the measured figures (bench issue8, 48 episodes per cell:
+ * max 1.018 s in the MuJoCo cell, 0.944 s in the kinematic cell).
+ */
+export const PARTNER_STOP_BOUND_S = 1.1;
 /** How long the partner must be seen to stay stopped, s. */
 const WATCH_S = 2.0;
 
@@ -26,8 +30,7 @@ const CASES = [
 ] as const;
 
 describe('partner hold in the simulated cell', () => {
-  // enabled when the partner-stop check lands
-  it.skip(`the partner's twist is zero within ${PARTNER_STOP_BOUND_S} s of a hold on one arm, and stays zero (${CASES.length} seeded episodes)`, async () => {
+  it(`the partner's twist is zero within ${PARTNER_STOP_BOUND_S} s of a hold on one arm, and stays zero (${CASES.length} seeded episodes)`, async () => {
     for (const [i, c] of CASES.entries()) {
       const seed = worldSeed(83, i);
       const r = await runEpisode({
