@@ -87,7 +87,7 @@ export function summaryText(s: EpisodeSummary): string {
     `internal force: peak ${f(s.internal_force.peak_n)} N, mean ${f(s.internal_force.mean_n)} N`,
     `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}`,
     `role switches: left ${s.role_switches.left}, right ${s.role_switches.right}; tared at left ${f(s.tared_at_s.left, 3)} s, right ${f(s.tared_at_s.right, 3)} s`,
-    `belief calibration: ${calibrationText(s.belief.calibration)}`,
+    `belief calibration (this one world; compare pools many worlds): ${calibrationText(s.belief.calibration)}`,
     `commitments: ${commitmentText(s.commitments)}${s.disturbance_n > 0 ? ` (disturbance ${s.disturbance_n} N)` : ''}`,
     `same role: ${f(s.same_role.total_s, 3)} s (speaker ${f(s.same_role.both_speaker_s, 3)} s, listener ${f(s.same_role.both_listener_s, 3)} s)`,
   ];

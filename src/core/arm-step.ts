@@ -642,20 +642,24 @@ export class ArmStep {
       // committed the zone. Its posterior, P(c | window) ∝ w Σ_h p(h) L1(h) against
       // (1 − w) Σ_h p(h) L0(h), becomes the weight of the next window (and, rounded, this arm's
       // view of the partner's commitment), so a disagreement repairs itself while listening.
+      // One common maximum serves the mixture and the posterior: two exponentials and one
+      // logarithm per hypothesis.
       let top = Number.NEGATIVE_INFINITY;
-      for (let h = 0; h < this.hypotheses; h++) top = Math.max(top, this.loglik[h]!, this.loglik2[h]!);
+      for (let h = 0; h < this.hypotheses; h++) {
+        const a = lw + this.loglik[h]!, b = lw0 + this.loglik2[h]!;
+        if (a > top) top = a;
+        if (b > top) top = b;
+      }
       const p = this.belief.p;
       let e1 = 0, e0 = 0;
       for (let h = 0; h < this.hypotheses; h++) {
-        const l1 = this.loglik[h]!, l0 = this.loglik2[h]!;
-        e1 += p[h]! * Math.exp(l1 - top);
-        e0 += p[h]! * Math.exp(l0 - top);
-        const a = lw + l1;
-        const b = lw0 + l0;
-        const m = a > b ? a : b;
-        this.loglik[h] = m + Math.log(Math.exp(a - m) + Math.exp(b - m));
+        const ea = Math.exp(lw + this.loglik[h]! - top);
+        const eb = Math.exp(lw0 + this.loglik2[h]! - top);
+        e1 += p[h]! * ea;
+        e0 += p[h]! * eb;
+        this.loglik[h] = top + Math.log(ea + eb);
       }
-      const post = (w * e1) / (w * e1 + (1 - w) * e0);
+      const post = e1 / (e1 + e0);
       if (Number.isFinite(post)) {
         const wp = Math.min(Math.max(post, 1e-9), 1 - 1e-9);
         this.commitWeight[doubt] = wp;
