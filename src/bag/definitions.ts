@@ -9,6 +9,7 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { parse as parseMsg } from '@foxglove/rosmsg';
 import { InputError } from '../util/errors.js';
+import { planted } from './limits.js';
 
 /** A parsed definition, as @foxglove/rosmsg returns it. */
 export type MessageDefinition = ReturnType<typeof parseMsg>[number];
@@ -123,7 +124,49 @@ export function parseDefinition(rootType: string, text: string): MessageDefiniti
       if (f.isComplex === true && !known.has(f.type)) throw new Error(`type ${f.type} (field ${f.name} of ${d.name}) is not defined`);
     }
   }
+  checkElementSizes(named);
   return named;
+}
+
+const PRIMITIVE_BYTES: Record<string, number> = {
+  bool: 1, byte: 1, char: 1, int8: 1, uint8: 1, int16: 2, uint16: 2, int32: 4, uint32: 4, float32: 4,
+  int64: 8, uint64: 8, float64: 8, string: 4, wstring: 4, time: 8, duration: 8,
+};
+
+/**
+ * Refuse definitions a reader could loop on without consuming bytes: an array or sequence whose
+ * element type takes no bytes in CDR (e.g. `Z[] items` where Z holds only `uint8[0] pad`: a
+ * count of 2^32-1 would decode forever), and types that contain themselves. A type without
+ * data fields is one byte in CDR (ROS 2 adds a placeholder member), so it is fine.
+ */
+function checkElementSizes(defs: readonly MessageDefinition[]): void {
+  const byName = new Map(defs.map((d) => [d.name ?? '', d]));
+  const size = new Map<string, number>();
+  const visiting = new Set<string>();
+  const minSize = (name: string): number => {
+    const known = size.get(name);
+    if (known !== undefined) return known;
+    if (visiting.has(name)) throw new Error(`type ${name} contains itself`);
+    visiting.add(name);
+    const d = byName.get(name)!;
+    const fields = d.definitions.filter((f) => f.isConstant !== true);
+    let total = fields.length === 0 ? 1 : 0;
+    for (const f of fields) {
+      const elem = f.isComplex === true ? minSize(f.type) : (PRIMITIVE_BYTES[f.type] ?? 1);
+      if (f.isComplex === true && f.isArray === true && elem === 0 && !planted('zero-size-elements')) {
+        throw new Error(
+          `field ${f.name} of ${name} is ${f.arrayLength === undefined ? 'a sequence' : 'an array'} of ${f.type}, which takes no bytes in CDR; such a field is refused (a count could make a reader loop without consuming bytes)`,
+        );
+      }
+      if (f.isArray !== true) total += elem;
+      else if (f.arrayLength === undefined) total += 4; // the count
+      else total += f.arrayLength * elem;
+    }
+    visiting.delete(name);
+    size.set(name, total);
+    return total;
+  };
+  for (const d of defs) minSize(d.name ?? '');
 }
 
 // ---- Shipped definitions --------------------------------------------------------------------------

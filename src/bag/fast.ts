@@ -350,16 +350,23 @@ export function readTopicSeries(bag: Bag, topic: string, opts: Omit<ReadOptions,
         const v = b.view;
         const le = encapsulation(v, b.offset[0]!, b.length[0]!);
         const origin = b.offset[0]! + 4;
-        const flen = v.getUint32(origin + 8, le);
-        const p = (12 + flen + 3) & ~3;
-        J = v.getUint32(origin + p, le);
+        const end = b.offset[0]! + b.length[0]!;
+        // Declared lengths are checked against the message before use: a bad first message gives
+        // J = 0 here and a clear layout error from the decoder below.
+        if (origin + 12 <= end) {
+          const flen = v.getUint32(origin + 8, le);
+          const p = (12 + flen + 3) & ~3;
+          // Each joint name takes at least 4 bytes, so a message holds at most length/4 names.
+          if (origin + p + 4 <= end) J = Math.min(v.getUint32(origin + p, le), Math.floor(b.length[0]! / 4));
+        }
         break;
       }
     }
     joint = new JointStateDecoder(J);
   }
   const stride = joint ? joint.stride : fixed!.stride;
-  let cap = Math.max(info.count, 16);
+  // The recorded count sizes the arrays, up to 2^20 rows at first (a count is a declaration).
+  let cap = Math.max(Math.min(info.count, 1 << 20), 16);
   let times = new BigInt64Array(cap);
   let values = new Float64Array(cap * stride);
   let n = 0;

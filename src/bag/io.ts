@@ -3,7 +3,7 @@
  * touch `fs` directly except through these, so tests can feed bytes from memory and replay can
  * read chunks without a promise per read.
  */
-import { closeSync, fstatSync, openSync, readSync } from 'node:fs';
+import { closeSync, fstatSync, openSync, readSync, statSync, type Stats } from 'node:fs';
 import type { McapTypes } from '@mcap/core';
 import { InputError } from '../util/errors.js';
 
@@ -17,7 +17,62 @@ export interface ByteSource {
   close(): void;
 }
 
-/** A file opened read-only, read with positioned `readSync`. */
+/** What a path is, in words, for errors about non-regular files. */
+function kindOf(st: Stats): string {
+  if (st.isDirectory()) return 'a directory';
+  if (st.isCharacterDevice()) return 'a character device';
+  if (st.isBlockDevice()) return 'a block device';
+  if (st.isFIFO()) return 'a named pipe';
+  if (st.isSocket()) return 'a socket';
+  return 'not a regular file';
+}
+
+/**
+ * Check that `path` (after following links) is a regular file, before opening it: devices such
+ * as /dev/zero never end, a FIFO blocks the open, a directory has no bytes. Returns its size.
+ */
+export function regularFileSize(path: string, what = 'file', shown = path): number {
+  let st: Stats;
+  try {
+    st = statSync(path);
+  } catch (err) {
+    const e = err as NodeJS.ErrnoException;
+    throw new InputError({
+      code: e.code === 'ENOENT' ? 'bag.not_found' : 'bag.open_failed',
+      message: e.code === 'ENOENT' ? `${what} does not exist` : `cannot read ${what}: ${e.message}`,
+      where: { file: shown },
+    });
+  }
+  if (!st.isFile()) {
+    throw new InputError({
+      code: 'bag.not_regular_file',
+      message: `${what} is ${kindOf(st)}, not a regular file`,
+      where: { file: shown },
+      hint: 'only regular files are read (a link is followed: it must end at a regular file)',
+    });
+  }
+  return st.size;
+}
+
+/** Read a whole regular file of at most `limit` bytes (checked before reading). */
+export function readRegularFile(path: string, limit: number, what = 'file', shown = path): Buffer {
+  const size = regularFileSize(path, what, shown);
+  if (size > limit) {
+    throw new InputError({
+      code: 'bag.too_large',
+      message: `${what} is ${size} bytes, more than the ${limit} allowed`,
+      where: { file: shown },
+    });
+  }
+  const src = new FileSource(path);
+  try {
+    return Buffer.from(src.read(0, src.size()));
+  } finally {
+    src.close();
+  }
+}
+
+/** A file opened read-only, read with positioned `readSync`. Only regular files are opened. */
 export class FileSource implements ByteSource {
   readonly name: string;
   #fd: number | undefined;
@@ -25,9 +80,16 @@ export class FileSource implements ByteSource {
 
   constructor(path: string) {
     this.name = path;
+    regularFileSize(path);
     try {
       this.#fd = openSync(path, 'r');
-      this.#size = fstatSync(this.#fd).size;
+      const st = fstatSync(this.#fd);
+      if (!st.isFile()) {
+        closeSync(this.#fd);
+        this.#fd = undefined;
+        throw new Error(`${kindOf(st)}, not a regular file`);
+      }
+      this.#size = st.size;
     } catch (err) {
       throw new InputError({
         code: 'bag.open_failed',

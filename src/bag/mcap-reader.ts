@@ -13,7 +13,8 @@ import { logger } from '../util/log.js';
 import { makeBatch, sortBatch, type BatchSource } from './batch.js';
 import { crc32 } from './crc32.js';
 import { mcapReadable, type ByteSource } from './io.js';
-import { decompressHandlers, type DecompressHandlers } from './zstd.js';
+import { MIN_MCAP_MESSAGE_RECORD, maxUncompressedBytes, planted } from './limits.js';
+import { declaredSizeProblem, decompressHandlers, type DecompressHandlers } from './zstd.js';
 import type { MessageBatch } from './types.js';
 
 const MAGIC = [0x89, 0x4d, 0x43, 0x41, 0x50]; // \x89 M C A P, then the version byte and \r\n
@@ -65,6 +66,15 @@ export interface ChunkRef {
 export interface McapOpenOptions {
   readonly validateCrc?: boolean;
   readonly warn: (p: Problem) => void;
+  /** Cap on one decompressed chunk (default: `maxUncompressedBytes()`). */
+  readonly maxUncompressedBytes?: number;
+}
+
+/** Messages whose log time is 2^63 ns or later (not a valid ROS time): counted, then skipped. */
+export interface BadTimes {
+  count: number;
+  /** Offset (in the parsed region) of the first such message record. */
+  first: number;
 }
 
 class ChunkError extends Error {}
@@ -160,6 +170,7 @@ export function parseRecords(
   endNs: bigint,
   sink: RecordSink = {},
   onUnknownChannel?: (channelId: number, at: number) => void,
+  badTimes?: BadTimes,
 ): MessageBatch {
   const view = new DataView(records.buffer, records.byteOffset, records.byteLength);
   const n = records.length;
@@ -199,7 +210,13 @@ export function parseRecords(
       if (ti >= 0) {
         const lo = view.getUint32(c + 6, true);
         const hi = view.getUint32(c + 10, true);
-        if ((hi > sHi || (hi === sHi && lo >= sLo)) && (hi < eHi || (hi === eHi && lo <= eLo))) {
+        if (hi >= 0x80000000) {
+          // uint64 log time beyond int64: not a ROS time. Counted so it is reported, not dropped silently.
+          if (badTimes) {
+            if (badTimes.count === 0) badTimes.first = p;
+            badTimes.count++;
+          }
+        } else if ((hi > sHi || (hi === sHi && lo >= sLo)) && (hi < eHi || (hi === eHi && lo <= eLo))) {
           if (hi < pHi || (hi === pHi && lo < pLo)) sorted = false;
           pHi = hi;
           pLo = lo;
@@ -253,12 +270,15 @@ function parseChunkRecord(rec: Uint8Array): ChunkHeader {
 }
 
 /** Decompress and check a chunk record's content. Throws ChunkError on any damage. */
-function chunkContent(rec: Uint8Array, handlers: DecompressHandlers | undefined, validateCrc: boolean): { h: ChunkHeader; records: Uint8Array } {
+function chunkContent(rec: Uint8Array, handlers: DecompressHandlers | undefined, validateCrc: boolean, limit: number): { h: ChunkHeader; records: Uint8Array } {
   const h = parseChunkRecord(rec);
   let records = h.records;
   if (h.compression !== '') {
     const fn = handlers?.[h.compression];
     if (!fn) throw new ChunkError(`unsupported chunk compression '${h.compression}'`);
+    // Checked before the decompressor allocates the declared size.
+    const why = declaredSizeProblem(h.compression, h.records, h.uncompressedSize, limit);
+    if (why !== undefined) throw new ChunkError(`chunk ${why}`);
     try {
       records = fn(h.records, BigInt(h.uncompressedSize));
     } catch (err) {
@@ -273,6 +293,20 @@ function chunkContent(rec: Uint8Array, handlers: DecompressHandlers | undefined,
     if (actual !== h.crc) throw new ChunkError(`CRC mismatch: computed ${hex32(actual)}, recorded ${hex32(h.crc)}`);
   }
   return { h, records };
+}
+
+function sameSchema(a: McapSchema, b: McapSchema): boolean {
+  return a.name === b.name && a.encoding === b.encoding && a.data.length === b.data.length && a.data.every((x, i) => x === b.data[i]);
+}
+
+function sameChannel(a: McapChannel, b: McapChannel): boolean {
+  if (a.topic !== b.topic || a.schemaId !== b.schemaId || a.messageEncoding !== b.messageEncoding || a.metadata.size !== b.metadata.size) return false;
+  for (const [k, v] of a.metadata) if (b.metadata.get(k) !== v) return false;
+  return true;
+}
+
+function describeChannel(c: McapChannel): string {
+  return `topic ${JSON.stringify(c.topic)} (schema ${c.schemaId}, ${c.messageEncoding || 'no encoding'})`;
 }
 
 function hex32(v: number): string {
@@ -294,6 +328,7 @@ export class McapFile {
   indexed = true;
   readonly #src: ByteSource;
   readonly #validateCrc: boolean;
+  readonly #limit: number;
   readonly #warn: (p: Problem) => void;
   #handlers: DecompressHandlers | undefined;
   readonly #unknownChannels = new Set<number>();
@@ -302,6 +337,7 @@ export class McapFile {
     this.#src = src;
     this.path = src.name;
     this.#validateCrc = opts.validateCrc ?? true;
+    this.#limit = opts.maxUncompressedBytes ?? maxUncompressedBytes();
     this.#warn = opts.warn;
     this.profile = profile;
     this.library = library;
@@ -353,7 +389,36 @@ export class McapFile {
     return f;
   }
 
+  /** The summary reader keeps the last of two Schema or Channel records with one id: look for such pairs. */
+  #checkSummaryIds(r: McapIndexedReader): void {
+    const start = Number(r.footer.summaryStart);
+    const end = this.#src.size() - 8 - 29; // the Footer record (29 bytes) and the closing magic
+    if (start <= 0 || start >= end) return;
+    const seenS = new Map<number, McapSchema>();
+    const seenC = new Map<number, McapChannel>();
+    const region = this.#src.read(start, end - start);
+    const sink: RecordSink = {
+      schema: (x) => {
+        const old = seenS.get(x.id);
+        if (old && !sameSchema(old, x)) this.#conflict('Schema', x.id, `${old.name} (${old.encoding})`, `${x.name} (${x.encoding})`, start);
+        seenS.set(x.id, x);
+      },
+      channel: (x) => {
+        const old = seenC.get(x.id);
+        if (old && !sameChannel(old, x)) this.#conflict('Channel', x.id, describeChannel(old), describeChannel(x), start);
+        seenC.set(x.id, x);
+      },
+    };
+    try {
+      parseRecords(region, new Int32Array(0), 0n, 0n, sink);
+    } catch (err) {
+      if (err instanceof InputError) throw err;
+      /* the summary reader accepted the section; framing quirks here are not ours to report */
+    }
+  }
+
   #fromSummary(r: McapIndexedReader): void {
+    this.#checkSummaryIds(r);
     for (const [id, s] of r.schemasById) this.schemas.set(id, { id, name: s.name, encoding: s.encoding, data: s.data });
     for (const [id, c] of r.channelsById) {
       this.channels.set(id, { id, schemaId: c.schemaId, topic: c.topic, messageEncoding: c.messageEncoding, metadata: c.metadata });
@@ -371,13 +436,42 @@ export class McapFile {
     }
     this.#sortChunks();
     const st = r.statistics;
+    // Statistics are declarations: trusted only when the chunks can hold that many messages
+    // (each Message record is at least 31 bytes), the per-channel counts add up and every time
+    // is a valid ROS time. Otherwise every chunk is read once to count.
+    const MAXT = 0x7fffffffffffffffn;
+    let capacity = 0;
+    for (const ci of r.chunkIndexes) capacity += Math.floor(Math.min(Number(ci.uncompressedSize), this.#limit) / MIN_MCAP_MESSAGE_RECORD);
+    const badChunkTime = this.chunks.some((c) => c.endNs > MAXT || c.startNs > MAXT);
+    let why: string | undefined;
     if (st) {
+      let sum = 0n;
+      for (const n of st.channelMessageCounts.values()) sum += n;
+      if (st.messageCount > BigInt(capacity) && !planted('mcap-statistics')) {
+        why = `statistics claim ${st.messageCount} messages, more than its chunks can hold (at most ${capacity})`;
+      } else if (sum !== st.messageCount && st.channelMessageCounts.size > 0) {
+        why = `statistics claim ${st.messageCount} messages, their per-channel counts add up to ${sum}`;
+      } else if (st.messageCount > 0n && (st.messageStartTime > MAXT || st.messageEndTime > MAXT || st.messageStartTime > st.messageEndTime)) {
+        why = `statistics give log times ${st.messageStartTime} to ${st.messageEndTime} (valid ROS times are below 2^63 ns)`;
+      } else if (badChunkTime) {
+        why = 'a chunk index gives log times of 2^63 ns or later';
+      }
+    }
+    if (why !== undefined) {
+      this.#warn({
+        code: 'bag.mcap_bad_statistics',
+        message: `${why}; counting by reading every chunk instead`,
+        where: { file: this.path },
+        hint: 'the summary section is damaged or was written by a faulty tool',
+      });
+    }
+    if (st && why === undefined && (st.channelMessageCounts.size > 0 || st.messageCount === 0n)) {
       for (const [id, n] of st.channelMessageCounts) this.counts.set(id, Number(n));
       this.messageCount = Number(st.messageCount);
       this.startNs = st.messageCount > 0n ? st.messageStartTime : 0n;
       this.endNs = st.messageCount > 0n ? st.messageEndTime : 0n;
     } else {
-      // No statistics: count by reading every chunk once.
+      // No (usable) statistics: count by reading every chunk once.
       this.#countAll();
     }
     // The profile and library are facts of the header record; nothing else to check here.
@@ -431,13 +525,24 @@ export class McapFile {
     for (const id of this.channels.keys()) table[id] = id;
     const recordChannels = (): Int32Array => table;
     const sink: RecordSink = {
-      schema: (s) => this.schemas.set(s.id, s),
+      schema: (s) => {
+        const old = this.schemas.get(s.id);
+        if (old && !sameSchema(old, s)) this.#conflict('Schema', s.id, `${old.name} (${old.encoding})`, `${s.name} (${s.encoding})`, p);
+        this.schemas.set(s.id, s);
+      },
       channel: (c) => {
+        const old = this.channels.get(c.id);
+        if (old && !sameChannel(old, c)) this.#conflict('Channel', c.id, describeChannel(old), describeChannel(c), p);
         this.channels.set(c.id, c);
         table[c.id] = c.id;
       },
     };
+    const looseBad: BadTimes = { count: 0, first: 0 };
     const closeLoose = (): void => {
+      if (looseBad.count > 0) {
+        this.#badTimes(looseBad.first, looseBad, false, looseBad.first);
+        looseBad.count = 0;
+      }
       if (looseStart < 0) return;
       this.chunks.push({
         offset: looseStart,
@@ -488,7 +593,12 @@ export class McapFile {
         if (looseStart >= 0 && p + total - looseStart > LOOSE_REGION_MAX) closeLoose();
         const rec = src.read(p, total);
         try {
-          const b = parseRecords(rec, recordChannels(), 0n, 0x7fffffffffffffffn, sink, unknown);
+          const bad: BadTimes = { count: 0, first: 0 };
+          const b = parseRecords(rec, recordChannels(), 0n, 0x7fffffffffffffffn, sink, unknown, bad);
+          if (bad.count > 0) {
+            if (looseBad.count === 0) looseBad.first = p;
+            looseBad.count += bad.count;
+          }
           if (b.count > 0) {
             const t = b.logTimeNs[0]!;
             if (looseFirst === undefined || t < looseFirst) looseFirst = t;
@@ -498,6 +608,7 @@ export class McapFile {
           looseEnd = p + total;
           tally(b, looseChannels);
         } catch (err) {
+          if (err instanceof InputError) throw err;
           closeLoose();
           this.#corrupt(p, (err as Error).message, undefined);
         }
@@ -515,9 +626,11 @@ export class McapFile {
         } else if (op === OP.CHUNK) {
           const rec = src.read(p, total);
           try {
-            const { h, records } = chunkContent(rec, this.#handlers, this.#validateCrc);
+            const { h, records } = chunkContent(rec, this.#handlers, this.#validateCrc, this.#limit);
             const chans = new Set<number>();
-            const b = parseRecords(records, recordChannels(), 0n, 0x7fffffffffffffffn, sink, unknown);
+            const bad: BadTimes = { count: 0, first: 0 };
+            const b = parseRecords(records, recordChannels(), 0n, 0x7fffffffffffffffn, sink, unknown, bad);
+            this.#badTimes(p, bad, true);
             tally(b, chans);
             this.chunks.push({ offset: p, length: total, startNs: h.startNs, endNs: h.endNs, compression: h.compression, channels: chans, loose: false });
             intactChunks++;
@@ -565,6 +678,29 @@ export class McapFile {
     });
   }
 
+  #conflict(kind: string, id: number, was: string, now: string, at: number): never {
+    throw new InputError({
+      code: 'bag.mcap_id_conflict',
+      message: `${kind} id ${id} is defined twice with different contents: ${was}, then ${now}`,
+      where: { file: this.path, byteOffset: at },
+      hint: 'a valid MCAP file defines each id once (repeats must be identical); the file is damaged or was merged wrongly',
+    });
+  }
+
+  readonly #badReported = new Set<number>();
+
+  /** Warn (once per chunk) about messages with log times at or after 2^63 ns. */
+  #badTimes(chunkOffset: number, bad: BadTimes, inChunk = false, at?: number): void {
+    if (bad.count === 0 || this.#badReported.has(chunkOffset)) return;
+    this.#badReported.add(chunkOffset);
+    this.#warn({
+      code: 'bag.invalid_log_time',
+      message: `${bad.count} message${bad.count === 1 ? '' : 's'} ${inChunk ? `in the chunk at byte ${chunkOffset}` : `at byte ${at ?? chunkOffset}`} ${bad.count === 1 ? 'has a log time' : 'have log times'} of 2^63 ns or later (not a valid ROS time); skipped`,
+      where: { file: this.path, byteOffset: at ?? chunkOffset },
+      hint: inChunk ? `the first is at byte ${bad.first} of the decompressed chunk` : 'log times are nanoseconds since the epoch below 2^63',
+    });
+  }
+
   #unknownChannel(ch: number, at: number): void {
     if (this.#unknownChannels.has(ch)) return;
     this.#unknownChannels.add(ch);
@@ -585,9 +721,12 @@ export class McapFile {
       return undefined;
     }
     try {
-      const records = ch.loose ? rec : chunkContent(rec, this.#handlers, this.#validateCrc).records;
+      const records = ch.loose ? rec : chunkContent(rec, this.#handlers, this.#validateCrc, this.#limit).records;
       const base = ch.loose ? ch.offset : undefined;
-      return parseRecords(records, topicOf, startNs, endNs, {}, (c, at) => this.#unknownChannel(c, (base ?? ch.offset) + at));
+      const bad: BadTimes = { count: 0, first: 0 };
+      const b = parseRecords(records, topicOf, startNs, endNs, {}, (c, at) => this.#unknownChannel(c, (base ?? ch.offset) + at), bad);
+      this.#badTimes(ch.offset, bad, !ch.loose, base === undefined ? undefined : base + bad.first);
+      return b;
     } catch (err) {
       if (!(err instanceof ChunkError)) throw err;
       this.#corrupt(ch.offset, err.message, ch);

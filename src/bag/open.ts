@@ -6,14 +6,15 @@
  * A directory without metadata.yaml is opened only when it holds exactly one storage file (with
  * a warning): with several, their order and completeness cannot be known, so it is an error.
  */
-import { closeSync, existsSync, mkdtempSync, openSync, readSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { closeSync, existsSync, lstatSync, mkdtempSync, openSync, readSync, readdirSync, realpathSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { basename, extname, join, resolve } from 'node:path';
 import { InputError, type Problem } from '../util/errors.js';
 import { warnOnce } from '../util/log.js';
 import { mergeSources, type BatchSource } from './batch.js';
 import { canonicalType } from './definitions.js';
-import { FileSource, MemorySource, type ByteSource } from './io.js';
+import { FileSource, MemorySource, readRegularFile, regularFileSize, type ByteSource } from './io.js';
+import { MAX_DEFINITION_BYTES, MAX_METADATA_BYTES, maxUncompressedBytes } from './limits.js';
 import { McapFile } from './mcap-reader.js';
 import { INT64_MAX, parseMetadataYaml, parseQos, type BagMetadata } from './metadata.js';
 import { SqliteFile } from './sqlite-reader.js';
@@ -25,6 +26,11 @@ export interface OpenOptions {
   readonly validateCrc?: boolean;
   /** Called for every warning (they are also logged and kept in `bag.warnings`). */
   readonly onWarning?: (p: Problem) => void;
+  /**
+   * Cap on one decompression (an MCAP chunk, a `.zstd` file, a compressed message), in bytes.
+   * Default: $ANTIPHON_MAX_UNCOMPRESSED_BYTES, else 1 GiB.
+   */
+  readonly maxUncompressedBytes?: number;
 }
 
 const STORAGE_EXT: Record<string, StorageId> = { '.mcap': 'mcap', '.db3': 'sqlite3' };
@@ -37,6 +43,7 @@ function storageOfName(name: string): StorageId | undefined {
 
 function sniff(path: string): StorageId | undefined {
   try {
+    if (!statSync(path).isFile()) return undefined;
     const head = Buffer.alloc(16);
     const fd = openSync(path, 'r');
     try {
@@ -128,6 +135,14 @@ class OpenedBag implements Bag {
         }
         const dec = new TextDecoder();
         for (const s of f.schemas.values()) {
+          if (s.data.length > MAX_DEFINITION_BYTES) {
+            this.#warn({
+              code: 'bag.definition_too_large',
+              message: `the schema of ${s.name} is ${s.data.length} bytes, more than the ${MAX_DEFINITION_BYTES} a message definition may take; it is ignored`,
+              where: { file: f.path },
+            });
+            continue;
+          }
           if (!this.#definitions.has(s.name)) this.#addDefinition(s.name, { encoding: s.encoding, text: dec.decode(s.data), origin: f.path });
         }
       } else {
@@ -269,8 +284,8 @@ export async function openBag(path: string, opts: OpenOptions = {}): Promise<Bag
   let messageCompression = false;
   if (st.isDirectory()) {
     const metaPath = join(abs, 'metadata.yaml');
-    if (existsSync(metaPath)) {
-      metadata = parseMetadataYaml(readFileSync(metaPath, 'utf8'), metaPath);
+    if (existsSync(metaPath) || isLink(metaPath)) {
+      metadata = parseMetadataYaml(readRegularFile(metaPath, MAX_METADATA_BYTES, 'metadata.yaml').toString('utf8'), metaPath);
       ({ plans, storage, messageCompression } = planFromMetadata(abs, metaPath, metadata, warn));
     } else {
       const candidates = readdirSync(abs).filter((n) => storageOfName(n) !== undefined).sort();
@@ -295,6 +310,7 @@ export async function openBag(path: string, opts: OpenOptions = {}): Promise<Bag
       plans = [{ path: join(abs, only), storage, fileCompressed: only.endsWith('.zstd') }];
     }
   } else {
+    regularFileSize(abs, 'the bag file', path);
     const s = storageOfName(abs) ?? sniff(abs);
     if (!s) {
       throw new InputError({
@@ -310,6 +326,7 @@ export async function openBag(path: string, opts: OpenOptions = {}): Promise<Bag
 
   const files: StorageFile[] = [];
   const cleanup: (() => void)[] = [];
+  const limit = maxUncompressedBytes(opts.maxUncompressedBytes);
   try {
     const needZstd = messageCompression || plans.some((p) => p.fileCompressed);
     const handlers = needZstd ? await decompressHandlers() : undefined;
@@ -317,13 +334,13 @@ export async function openBag(path: string, opts: OpenOptions = {}): Promise<Bag
       if (plan.storage === 'mcap') {
         let src: ByteSource;
         if (plan.fileCompressed) {
-          const raw = readFileSync(plan.path);
-          src = new MemorySource(decompressZstd(raw, handlers!, plan.path), plan.path);
+          const raw = readRegularFile(plan.path, limit, 'compressed storage file');
+          src = new MemorySource(decompressZstd(raw, handlers!, plan.path, undefined, limit), plan.path);
         } else {
           src = new FileSource(plan.path);
         }
         try {
-          files.push({ kind: 'mcap', file: await McapFile.open(src, { validateCrc: opts.validateCrc ?? true, warn }) });
+          files.push({ kind: 'mcap', file: await McapFile.open(src, { validateCrc: opts.validateCrc ?? true, warn, maxUncompressedBytes: limit }) });
         } catch (err) {
           src.close();
           throw err;
@@ -334,11 +351,11 @@ export async function openBag(path: string, opts: OpenOptions = {}): Promise<Bag
           const dir = mkdtempSync(join(tmpdir(), 'antiphon-bag-'));
           cleanup.push(() => rmSync(dir, { recursive: true, force: true }));
           dbPath = join(dir, basename(plan.path, '.zstd'));
-          writeFileSync(dbPath, decompressZstd(readFileSync(plan.path), handlers!, plan.path));
+          writeFileSync(dbPath, decompressZstd(readRegularFile(plan.path, limit, 'compressed storage file'), handlers!, plan.path, undefined, limit));
         }
         files.push({
           kind: 'sqlite3',
-          file: new SqliteFile(dbPath, { warn, messageCompression, ...(handlers ? { handlers } : {}), displayName: plan.path }),
+          file: new SqliteFile(dbPath, { warn, messageCompression, ...(handlers ? { handlers } : {}), displayName: plan.path, maxUncompressedBytes: limit }),
         });
       }
     }
@@ -354,7 +371,39 @@ export async function openBag(path: string, opts: OpenOptions = {}): Promise<Bag
       /* the table is informative only */
     }
   }
-  return new OpenedBag({ path, storage, files, metadata, warnings, warn, cleanup });
+  const bag = new OpenedBag({ path, storage, files, metadata, warnings, warn, cleanup });
+  if (metadata && plans.length > 0) crossCheckCounts(bag, metadata, warn);
+  return bag;
+}
+
+function isLink(p: string): boolean {
+  try {
+    return lstatSync(p).isSymbolicLink();
+  } catch {
+    return false;
+  }
+}
+
+/**
+ * metadata.yaml promises a message count (in total and per topic): fewer messages in the storage
+ * files means some were lost (a file cut on a chunk boundary loses its summary and tells nothing
+ * itself), so say how many were read against the promise.
+ */
+function crossCheckCounts(bag: Bag, m: BagMetadata, warn: (p: Problem) => void): void {
+  const short: string[] = [];
+  const have = new Map(bag.topics().map((t) => [t.name, t.count]));
+  for (const t of m.topics) {
+    const n = have.get(t.name) ?? 0;
+    if (t.messageCount > n) short.push(`${t.name}: ${n} of ${t.messageCount}`);
+  }
+  if (m.messageCount > bag.messageCount || short.length > 0) {
+    warn({
+      code: 'bag.messages_missing',
+      message: `the storage files hold ${bag.messageCount} messages, metadata.yaml promises ${m.messageCount}${short.length ? ` (${short.slice(0, 8).join('; ')}${short.length > 8 ? `; ${short.length - 8} more topics` : ''})` : ''}`,
+      where: { file: join(resolve(bag.path), 'metadata.yaml'), key: 'message_count' },
+      hint: 'the recording is incomplete (a storage file is cut, damaged or missing); what is there is used',
+    });
+  }
 }
 
 function planFromMetadata(
@@ -419,10 +468,40 @@ function planFromMetadata(
       hint: 'supported: FILE, MESSAGE',
     });
   }
-  const plans = rel.map((r): FilePlan => {
+  const seen = new Map<string, string>();
+  const plans: FilePlan[] = [];
+  for (const [i, r] of rel.entries()) {
+    const key = `relative_file_paths[${i}]`;
+    if (r.trim() === '' || r === '.' || r === '..') {
+      throw new InputError({
+        code: 'bag.bad_file_entry',
+        message: `${key} is ${JSON.stringify(r)}, which names no storage file`,
+        where: { file: metaPath, key },
+        hint: 'each entry is a storage file name relative to the bag directory, e.g. mybag_0.mcap',
+      });
+    }
     // Before version 4, paths carried the bag folder as a prefix.
     const tries = [join(dir, r), join(dir, basename(r))];
     const found = tries.find((p) => existsSync(p));
+    if (found) regularFileSize(found, `storage file ${r} (${key})`, found);
+    if (found) {
+      let real = found;
+      try {
+        real = realpathSync(found);
+      } catch {
+        /* checked above */
+      }
+      const first = seen.get(real);
+      if (first !== undefined) {
+        warn({
+          code: 'bag.duplicate_file',
+          message: `${key} (${r}) names the same file as ${first}; it is read once`,
+          where: { file: metaPath, key },
+        });
+        continue;
+      }
+      seen.set(real, key);
+    }
     if (!found) {
       throw new InputError({
         code: 'bag.missing_file',
@@ -432,8 +511,8 @@ function planFromMetadata(
       });
     }
     const fileCompressed = format === 'zstd' && mode === 'file';
-    return { path: found, storage, fileCompressed: fileCompressed || found.endsWith('.zstd') };
-  });
+    plans.push({ path: found, storage, fileCompressed: fileCompressed || found.endsWith('.zstd') });
+  }
   return { plans, storage, messageCompression: format === 'zstd' && mode === 'message' };
 }
 

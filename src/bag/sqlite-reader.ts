@@ -12,6 +12,8 @@ import { closeSync, existsSync, openSync, readFileSync, readSync, statSync } fro
 import type { Problem } from '../util/errors.js';
 import { InputError } from '../util/errors.js';
 import { makeBatch, type BatchSource } from './batch.js';
+import { regularFileSize } from './io.js';
+import { MAX_DEFINITION_BYTES, maxUncompressedBytes, planted } from './limits.js';
 import { decompressZstd, type DecompressHandlers } from './zstd.js';
 import type { DefinitionText, MessageBatch } from './types.js';
 
@@ -33,6 +35,26 @@ export interface SqliteOpenOptions {
   readonly handlers?: DecompressHandlers;
   /** Name to report instead of the opened path (e.g. the `.db3.zstd` a temp copy came from). */
   readonly displayName?: string;
+  /** Cap on one decompressed message (default: `maxUncompressedBytes()`). */
+  readonly maxUncompressedBytes?: number;
+}
+
+/** A rosbag2 column that holds the wrong kind of value: a clear error naming table, row and column. */
+function badColumn(file: string, table: string, id: unknown, column: string, value: unknown, want: string): InputError {
+  return new InputError({
+    code: 'bag.sqlite_bad_value',
+    message: `${table} row id ${String(id)}: column ${column} is ${describeValue(value)}, expected ${want}`,
+    where: { file, key: `${table}.${column}` },
+    hint: 'the .db3 file was not written by rosbag2 or was edited; fix or remove that row',
+  });
+}
+
+function describeValue(v: unknown): string {
+  if (v === null || v === undefined) return 'NULL';
+  if (typeof v === 'bigint' || typeof v === 'number') return `the number ${v}`;
+  if (typeof v === 'string') return `text (${v.length} characters)`;
+  if (v instanceof Uint8Array) return `a blob (${v.length} bytes)`;
+  return typeof v;
 }
 
 const IN_MEMORY_LIMIT = 512 << 20;
@@ -53,10 +75,12 @@ export class SqliteFile {
   messageCount = 0;
   readonly #db: DB;
   readonly #opts: SqliteOpenOptions;
+  readonly #limit: number;
 
   constructor(path: string, opts: SqliteOpenOptions) {
     this.path = opts.displayName ?? path;
     this.#opts = opts;
+    this.#limit = opts.maxUncompressedBytes ?? maxUncompressedBytes();
     this.#db = openDatabase(path, this.path);
     try {
       const tables = new Set(
@@ -88,39 +112,100 @@ export class SqliteFile {
       const hashCol = topicCols.has('type_description_hash') ? 'type_description_hash' : "''";
       const rows = this.#db
         .prepare(`SELECT id, name, type, serialization_format, ${qosCol} AS qos, ${hashCol} AS hash FROM topics ORDER BY id`)
-        .all() as { id: bigint; name: string; type: string; serialization_format: string; qos: string | null; hash: string | null }[];
+        .all() as { id: unknown; name: unknown; type: unknown; serialization_format: unknown; qos: unknown; hash: unknown }[];
+      const names = new Set<string>();
       for (const r of rows) {
+        if (typeof r.id !== 'bigint') throw badColumn(this.path, 'topics', r.id, 'id', r.id, 'an integer');
+        if (typeof r.name !== 'string' || r.name === '') throw badColumn(this.path, 'topics', r.id, 'name', r.name, 'a non-empty topic name (text)');
+        if (typeof r.type !== 'string') throw badColumn(this.path, 'topics', r.id, 'type', r.type, 'a message type (text)');
+        if (r.serialization_format !== null && typeof r.serialization_format !== 'string') {
+          throw badColumn(this.path, 'topics', r.id, 'serialization_format', r.serialization_format, 'text (cdr)');
+        }
+        if (r.qos !== null && typeof r.qos !== 'string') throw badColumn(this.path, 'topics', r.id, 'offered_qos_profiles', r.qos, 'YAML text');
+        if (r.hash !== null && typeof r.hash !== 'string') throw badColumn(this.path, 'topics', r.id, 'type_description_hash', r.hash, 'text');
+        if (names.has(r.name)) {
+          throw new InputError({
+            code: 'bag.sqlite_duplicate_topic',
+            message: `topics row id ${r.id}: topic ${JSON.stringify(r.name)} is listed twice`,
+            where: { file: this.path, key: 'topics.name' },
+          });
+        }
+        names.add(r.name);
         this.topics.push({
           id: Number(r.id),
           name: r.name,
           type: r.type,
-          serializationFormat: r.serialization_format,
-          offeredQosText: r.qos ?? '',
-          typeHash: r.hash ?? '',
+          serializationFormat: (r.serialization_format as string | null) ?? 'cdr',
+          offeredQosText: (r.qos as string | null) ?? '',
+          typeHash: (r.hash as string | null) ?? '',
         });
       }
       if (tables.has('message_definitions')) {
-        const defs = this.#db.prepare('SELECT topic_type, encoding, encoded_message_definition FROM message_definitions ORDER BY id').all() as {
+        const defs = this.#db.prepare('SELECT id, topic_type, encoding, encoded_message_definition FROM message_definitions ORDER BY id').all() as {
+          id: unknown;
           topic_type: string;
           encoding: string;
           encoded_message_definition: string;
         }[];
         for (const d of defs) {
+          const t = 'message_definitions';
+          if (typeof d.topic_type !== 'string' || d.topic_type === '') throw badColumn(this.path, t, d.id, 'topic_type', d.topic_type, 'a message type (text)');
+          if (d.encoding !== null && typeof d.encoding !== 'string') throw badColumn(this.path, t, d.id, 'encoding', d.encoding, 'text (ros2msg, ros2idl)');
+          if (typeof d.encoded_message_definition !== 'string') {
+            throw badColumn(this.path, t, d.id, 'encoded_message_definition', d.encoded_message_definition, 'the definition text');
+          }
+          if (d.encoded_message_definition.length > MAX_DEFINITION_BYTES) {
+            throw badColumn(this.path, t, d.id, 'encoded_message_definition', d.encoded_message_definition, `a definition of at most ${MAX_DEFINITION_BYTES} characters`);
+          }
+          d.encoding ??= '';
           this.definitions.set(d.topic_type, { encoding: d.encoding, text: d.encoded_message_definition, origin: this.path });
         }
       }
       let meta: string | undefined;
       if (tables.has('metadata')) {
-        const row = this.#db.prepare('SELECT metadata FROM metadata ORDER BY id DESC LIMIT 1').get() as { metadata: string } | undefined;
-        meta = row?.metadata;
+        const row = this.#db.prepare('SELECT metadata FROM metadata ORDER BY id DESC LIMIT 1').get() as { metadata: unknown } | undefined;
+        // Informative only: anything but text is ignored.
+        meta = typeof row?.metadata === 'string' && row.metadata.length <= MAX_DEFINITION_BYTES ? row.metadata : undefined;
       }
       this.metadataText = meta;
+      // Only integer, non-negative timestamps are ROS times. Rows with others (NULL, text, real,
+      // negative) are counted apart and reported with their row ids, never dropped silently.
+      const OK = "typeof(timestamp) = 'integer' AND timestamp >= 0";
       const stats = this.#db
-        .prepare('SELECT topic_id, COUNT(*) AS n, MIN(timestamp) AS t0, MAX(timestamp) AS t1 FROM messages GROUP BY topic_id')
-        .all() as { topic_id: bigint; n: bigint; t0: bigint; t1: bigint }[];
+        .prepare(
+          `SELECT topic_id, SUM(${OK}) AS n, MIN(CASE WHEN ${OK} THEN timestamp END) AS t0, MAX(CASE WHEN ${OK} THEN timestamp END) AS t1, ` +
+            `SUM(NOT (${OK})) AS bad FROM messages GROUP BY topic_id`,
+        )
+        .all() as { topic_id: unknown; n: bigint | null; t0: bigint | null; t1: bigint | null; bad: bigint | null }[];
       let first: bigint | undefined;
       let last: bigint | undefined;
+      let bad = 0n;
+      for (const s of stats) bad += s.bad ?? 0n;
+      if (bad > 0n && !planted('sqlite-timestamp')) {
+        const examples = this.#db
+          .prepare(`SELECT id, typeof(timestamp) AS kind, CAST(timestamp AS TEXT) AS v FROM messages WHERE NOT (${OK}) ORDER BY id LIMIT 5`)
+          .all() as { id: unknown; kind: string; v: string | null }[];
+        opts.warn({
+          code: 'bag.sqlite_bad_timestamp',
+          message:
+            `${bad} message${bad === 1n ? '' : 's'} ${bad === 1n ? 'has' : 'have'} a timestamp that is not a non-negative integer (ns since the epoch); skipped: ` +
+            examples.map((e) => `row id ${String(e.id)} ${e.kind === 'null' ? 'NULL' : `${e.kind} ${JSON.stringify(String(e.v).slice(0, 40))}`}`).join(', ') +
+            (bad > BigInt(examples.length) ? ', …' : ''),
+          where: { file: this.path, key: 'messages.timestamp' },
+          hint: 'rosbag2 writes receive times as int64 nanoseconds',
+        });
+      }
       for (const s of stats) {
+        if (typeof s.topic_id !== 'bigint') {
+          const n = (s.n ?? 0n) + (s.bad ?? 0n);
+          opts.warn({
+            code: 'bag.sqlite_unknown_topic',
+            message: `${n} messages have topic_id ${describeValue(s.topic_id)}, not an integer; they are skipped`,
+            where: { file: this.path, key: 'messages.topic_id' },
+          });
+          continue;
+        }
+        if (s.n === null || s.n === 0n || s.t0 === null || s.t1 === null) continue;
         this.counts.set(Number(s.topic_id), Number(s.n));
         this.messageCount += Number(s.n);
         if (first === undefined || s.t0 < first) first = s.t0;
@@ -153,7 +238,7 @@ export class SqliteFile {
   *#rows(topicOf: ReadonlyMap<number, number>, ids: number[], startNs: bigint, endNs: bigint): Generator<MessageBatch> {
     const all = ids.length === this.counts.size;
     const sql =
-      'SELECT topic_id, timestamp, data FROM messages WHERE timestamp >= ? AND timestamp <= ?' +
+      "SELECT topic_id, timestamp, data, id FROM messages WHERE typeof(timestamp) = 'integer' AND timestamp >= ? AND timestamp <= ?" +
       (all ? '' : ` AND topic_id IN (${ids.map(() => '?').join(',')})`) +
       ' ORDER BY timestamp, id';
     let stmt: Database.Statement;
@@ -188,11 +273,16 @@ export class SqliteFile {
       return makeBatch(buf, ti, lt, of, ln, n);
     };
     try {
-      for (const row of stmt.iterate(...params) as IterableIterator<[bigint, bigint, Uint8Array]>) {
+      for (const row of stmt.iterate(...params) as IterableIterator<[bigint, bigint, unknown, unknown]>) {
         const ti = topicOf.get(Number(row[0]));
         if (ti === undefined) continue;
-        let data = row[2];
-        if (zstd) data = decompressZstd(data, this.#opts.handlers!, this.path, this.topics.find((t) => t.id === Number(row[0]))?.name);
+        let data = row[2] as Uint8Array;
+        if (!(data instanceof Uint8Array) && !planted('sqlite-data-type')) {
+          const topic = this.topics.find((t) => t.id === Number(row[0]))?.name;
+          const e = badColumn(this.path, 'messages', row[3], 'data', row[2], 'a blob (the serialized message)');
+          throw new InputError({ ...e.problems[0]!, where: { ...e.problems[0]!.where, ...(topic !== undefined ? { topic } : {}) } });
+        }
+        if (zstd) data = decompressZstd(data, this.#opts.handlers!, this.path, this.topics.find((t) => t.id === Number(row[0]))?.name, this.#limit);
         rows.push([ti, row[1], data]);
         bytes += data.length;
         if (rows.length >= BATCH_ROWS || bytes >= BATCH_BYTES) yield flush();
@@ -226,8 +316,8 @@ function openDatabase(path: string, display: string): DB {
   try {
     let size: number;
     const head = Buffer.alloc(100);
+    size = regularFileSize(path, 'sqlite3 storage file', display);
     try {
-      size = statSync(path).size;
       const fd = openSync(path, 'r');
       try {
         readSync(fd, head, 0, 100, 0);

@@ -7,6 +7,7 @@
 import { loadDecompressHandlers } from '@mcap/support';
 import type { McapTypes } from '@mcap/core';
 import { InputError } from '../util/errors.js';
+import { limitHint, maxUncompressedBytes, planted } from './limits.js';
 
 export type DecompressHandlers = McapTypes.DecompressHandlers;
 
@@ -30,8 +31,13 @@ export interface ZstdFrame {
   compressedSize: number;
   /** Content size from the frame header; undefined when the header does not carry it. */
   contentSize: number | undefined;
+  /** The most its blocks can regenerate (raw and RLE blocks exactly, compressed ones 128 KiB each). */
+  maxContent: number;
   skippable: boolean;
 }
+
+/** A zstd block never regenerates more than 128 KiB (RFC 8878 §3.1.1.2.3, Block_Maximum_Size). */
+const ZSTD_BLOCK_MAX = 128 << 10;
 
 /** True when the bytes start with a zstd frame (or skippable frame) magic number. */
 export function looksLikeZstd(bytes: Uint8Array): boolean {
@@ -52,7 +58,7 @@ export function zstdFrames(bytes: Uint8Array): ZstdFrame[] {
       if (p + 8 > bytes.length) throw new Error(`zstd: skippable frame header cut at byte ${p}`);
       const size = view.getUint32(p + 4, true);
       if (p + 8 + size > bytes.length) throw new Error(`zstd: skippable frame at byte ${p} runs past the end`);
-      frames.push({ offset: p, compressedSize: 8 + size, contentSize: 0, skippable: true });
+      frames.push({ offset: p, compressedSize: 8 + size, contentSize: 0, maxContent: 0, skippable: true });
       p += 8 + size;
       continue;
     }
@@ -75,6 +81,7 @@ export function zstdFrames(bytes: Uint8Array): ZstdFrame[] {
     else if (fcsSize === 4) contentSize = view.getUint32(p, true);
     else if (fcsSize === 8) contentSize = Number(view.getBigUint64(p, true));
     p += fcsSize;
+    let maxContent = 0;
     for (;;) {
       if (p + 3 > bytes.length) throw new Error(`zstd: block header cut at byte ${p}`);
       const bh = bytes[p]! | (bytes[p + 1]! << 8) | (bytes[p + 2]! << 16);
@@ -84,12 +91,13 @@ export function zstdFrames(bytes: Uint8Array): ZstdFrame[] {
       const size = bh >>> 3;
       if (type === 3) throw new Error(`zstd: reserved block type at byte ${p - 3}`);
       p += type === 1 ? 1 : size;
+      maxContent += type === 2 ? ZSTD_BLOCK_MAX : size;
       if (p > bytes.length) throw new Error(`zstd: block at byte ${p - size} runs past the end`);
       if (last) break;
     }
     if (checksum) p += 4;
     if (p > bytes.length) throw new Error('zstd: frame checksum cut at the end');
-    frames.push({ offset: start, compressedSize: p - start, contentSize, skippable: false });
+    frames.push({ offset: start, compressedSize: p - start, contentSize, maxContent, skippable: false });
   }
   return frames;
 }
@@ -98,7 +106,7 @@ export function zstdFrames(bytes: Uint8Array): ZstdFrame[] {
  * Decompress a whole zstd stream (one or more frames). Throws InputError naming `file` and the
  * byte offset of the bad frame.
  */
-export function decompressZstd(bytes: Uint8Array, h: DecompressHandlers, file: string, topic?: string): Uint8Array {
+export function decompressZstd(bytes: Uint8Array, h: DecompressHandlers, file: string, topic?: string, limit: number = maxUncompressedBytes()): Uint8Array {
   const fail = (message: string, byteOffset = 0): never => {
     throw new InputError({
       code: 'bag.zstd_failed',
@@ -115,13 +123,29 @@ export function decompressZstd(bytes: Uint8Array, h: DecompressHandlers, file: s
   } catch (err) {
     fail((err as Error).message);
   }
+  // Every size is checked before anything is allocated: the declared total against the limit,
+  // each frame's declared size against what its blocks can regenerate.
+  let declared = 0;
+  for (const f of frames) {
+    if (f.skippable) continue;
+    if (f.contentSize === undefined) fail('zstd frame does not record its decompressed size', f.offset);
+    if (f.contentSize! > f.maxContent && !planted('zstd-bound')) {
+      fail(`zstd frame declares ${f.contentSize} bytes, but its blocks can regenerate at most ${f.maxContent}`, f.offset);
+    }
+    declared += f.contentSize!;
+  }
+  if (declared > limit && !planted('zstd-bound')) {
+    throw new InputError({
+      code: 'bag.too_large',
+      message: `zstd data declares ${declared} bytes uncompressed (from ${bytes.length} compressed), more than the limit`,
+      where: { file, byteOffset: 0, ...(topic !== undefined ? { topic } : {}) },
+      hint: limitHint(limit),
+    });
+  }
   const parts: Uint8Array[] = [];
   let total = 0;
   for (const f of frames) {
     if (f.skippable) continue;
-    if (f.contentSize === undefined) {
-      fail('zstd frame does not record its decompressed size', f.offset);
-    }
     let out: Uint8Array = new Uint8Array(0);
     try {
       out = zstd(bytes.subarray(f.offset, f.offset + f.compressedSize), BigInt(f.contentSize!));
@@ -140,6 +164,38 @@ export function decompressZstd(bytes: Uint8Array, h: DecompressHandlers, file: s
     o += part.length;
   }
   return all;
+}
+
+/**
+ * Check a compressed buffer's declared uncompressed size before decompressing it (MCAP chunks):
+ * against `limit`, and against what the data can possibly hold (zstd: its block headers; lz4: its
+ * largest ratio, 255:1). Returns a reason when it must not be decompressed, else undefined.
+ */
+export function declaredSizeProblem(compression: string, data: Uint8Array, declared: number, limit: number): string | undefined {
+  if (declared > limit) return `declares ${declared} bytes uncompressed, more than the limit of ${limit} (raise ANTIPHON_MAX_UNCOMPRESSED_BYTES if genuine)`;
+  if (planted('zstd-bound')) return undefined;
+  if (compression === 'zstd') {
+    let frames: ZstdFrame[];
+    try {
+      frames = zstdFrames(data);
+    } catch (err) {
+      return (err as Error).message;
+    }
+    let max = 0;
+    let known = 0;
+    let allKnown = true;
+    for (const f of frames) {
+      max += f.maxContent;
+      if (f.contentSize === undefined) allKnown = false;
+      else known += f.contentSize;
+    }
+    if (declared > max) return `declares ${declared} bytes uncompressed, but its zstd blocks can regenerate at most ${max}`;
+    if (allKnown && known !== declared) return `declares ${declared} bytes uncompressed, its zstd frames say ${known}`;
+  } else if (compression === 'lz4') {
+    // LZ4 spends at least one byte per 255 bytes of match length (lz4 block format, common knowledge).
+    if (declared > data.length * 255 + 1024) return `declares ${declared} bytes uncompressed, more than lz4 can expand ${data.length} bytes to`;
+  }
+  return undefined;
 }
 
 interface ZstdCompressor {

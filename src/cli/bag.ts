@@ -10,10 +10,14 @@ import { loadDefinitionSources } from '../bag/definition-sources.js';
 import { howToSupply, SOURCE_WORDS } from '../bag/library.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError, formatPlace, problemToJson } from '../util/errors.js';
 import { warnOnce } from '../util/log.js';
+import { printable } from '../util/printable.js';
 import { integerOption, numberOption, printJson, printText, runCommand, stdoutFailed, writeStdout } from './common.js';
 
 /** Warnings meaning some recorded messages could not be read. */
-const DATA_LOSS = new Set(['bag.mcap_chunk_corrupt', 'bag.mcap_truncated', 'bag.mcap_unknown_channel', 'bag.sqlite_unknown_topic']);
+const DATA_LOSS = new Set([
+  'bag.mcap_chunk_corrupt', 'bag.mcap_truncated', 'bag.mcap_no_footer', 'bag.mcap_unknown_channel', 'bag.sqlite_unknown_topic',
+  'bag.messages_missing', 'bag.invalid_log_time', 'bag.sqlite_bad_timestamp',
+]);
 
 function seconds(ns: bigint): string {
   const neg = ns < 0n;
@@ -22,10 +26,11 @@ function seconds(ns: bigint): string {
 }
 
 function isoTime(ns: bigint): string {
-  const ms = Number(ns / 1_000_000n);
-  const d = new Date(ms);
+  // Floor division, so a time before the epoch keeps a non-negative fraction of a second.
+  const frac = ((ns % 1_000_000_000n) + 1_000_000_000n) % 1_000_000_000n;
+  const d = new Date(Number((ns - frac) / 1_000_000n));
   if (Number.isNaN(d.getTime())) return '?';
-  return d.toISOString().replace(/\.\d{3}Z$/, `.${(ns % 1_000_000_000n).toString().padStart(9, '0')}Z`);
+  return d.toISOString().replace(/\.\d{3}Z$/, `.${frac.toString().padStart(9, '0')}Z`);
 }
 
 function originJson(o: DefinitionOrigin): Record<string, unknown> {
@@ -63,9 +68,9 @@ function infoJson(bag: Bag, dec: MessageDecoders): Record<string, unknown> {
 
 function infoText(bag: Bag, dec: MessageDecoders): string {
   const L: string[] = [];
-  L.push(`bag:       ${bag.path}`);
+  L.push(`bag:       ${printable(bag.path)}`);
   L.push(`storage:   ${bag.storage} (${bag.files.length} file${bag.files.length === 1 ? '' : 's'})`);
-  for (const f of bag.files) L.push(`           ${f}`);
+  for (const f of bag.files) L.push(`           ${printable(f)}`);
   if (bag.messageCount > 0) {
     L.push(`duration:  ${seconds(bag.endNs - bag.startNs)} s`);
     L.push(`start:     ${isoTime(bag.startNs)} (${seconds(bag.startNs)})`);
@@ -76,15 +81,18 @@ function infoText(bag: Bag, dec: MessageDecoders): string {
   L.push(`messages:  ${bag.messageCount}`);
   const topics = bag.topics();
   L.push(`topics:    ${topics.length}`);
-  const wName = Math.max(0, ...topics.map((t) => t.name.length));
-  const wType = Math.max(0, ...topics.map((t) => canonicalType(t.type).length));
+  // Names come from the file: control characters are escaped before they reach a terminal.
+  const shown = topics.map((t) => ({ name: printable(t.name), type: printable(canonicalType(t.type)), fmt: printable(t.serializationFormat) }));
+  const wName = Math.max(0, ...shown.map((t) => t.name.length));
+  const wType = Math.max(0, ...shown.map((t) => t.type.length));
   const wCount = Math.max(0, ...topics.map((t) => String(t.count).length));
-  for (const t of topics) {
+  topics.forEach((t, k) => {
+    const s = shown[k]!;
     const type = canonicalType(t.type);
-    L.push(`  ${t.name.padEnd(wName)}  ${type.padEnd(wType)}  ${String(t.count).padStart(wCount)} msgs  ${t.serializationFormat}${type !== t.type ? `  (recorded as ${t.type})` : ''}`);
-    L.push(`  ${''.padEnd(wName)}  definition: ${originText(dec.origin(t.type))}`);
-    for (const q of t.offeredQos) L.push(`  ${''.padEnd(wName)}  QoS: ${describeQos(q)}`);
-  }
+    L.push(`  ${s.name.padEnd(wName)}  ${s.type.padEnd(wType)}  ${String(t.count).padStart(wCount)} msgs  ${s.fmt}${type !== t.type ? `  (recorded as ${printable(t.type)})` : ''}`);
+    L.push(`  ${''.padEnd(wName)}  definition: ${printable(originText(dec.origin(t.type)))}`);
+    for (const q of t.offeredQos) L.push(`  ${''.padEnd(wName)}  QoS: ${printable(describeQos(q))}`);
+  });
   // The warnings themselves went to stderr once, when they were found.
   if (bag.warnings.length > 0) L.push(`warnings:  ${bag.warnings.length} (on stderr)`);
   return L.join('\n');
@@ -181,7 +189,19 @@ async function dump(path: string, opts: DumpOptions): Promise<number> {
           if (out.length >= 1 << 16) await flush();
           continue;
         }
-        out += JSON.stringify({ topic: m.topic, type, log_time_ns: m.logTimeNs.toString(), message: toJsonValue(value) }) + '\n';
+        let line: string;
+        try {
+          line = JSON.stringify({ topic: m.topic, type, log_time_ns: m.logTimeNs.toString(), message: toJsonValue(value) }) + '\n';
+        } catch (err) {
+          // A message too large for one JavaScript string (about 512 MB of text): reported, counted.
+          if (!(err instanceof RangeError)) throw err;
+          failed++;
+          const f = failures.get(m.topic) ?? { type, count: 0, reason: `a message of ${m.data.length} bytes is too large to print as one JSON line` };
+          f.count++;
+          failures.set(m.topic, f);
+          continue;
+        }
+        out += line;
         if (out.length >= 1 << 16) await flush();
       }
       await flush();
@@ -215,7 +235,10 @@ export function register(program: Command): void {
 
   bag
     .command('info')
-    .description('Storage, duration, start and end, message count, topics with types, counts and QoS (read from the storage files).')
+    .description(
+      'Storage, duration, start and end, message count, topics with types, counts and QoS (read from the storage files). ' +
+        'Warnings are listed; the exit code is 1 when some recorded messages cannot be read (a cut or damaged file, invalid times, fewer than metadata.yaml promises).',
+    )
     .argument('<bag>', 'bag directory, .mcap or .db3 file')
     .option('--json', 'one JSON object on stdout')
     .option('--definitions <bag|dir>', DEFINITIONS_HELP, collect)
@@ -226,7 +249,8 @@ export function register(program: Command): void {
           const dec = bagDecoders(b, { definitions: sources });
           if (opts.json) printJson({ ok: true, ...infoJson(b, dec) });
           else printText(infoText(b, dec));
-          return EXIT_OK;
+          // Exit 1: some recorded messages cannot be read (cut, damaged, bad times, fewer than promised).
+          return b.warnings.some((w) => DATA_LOSS.has(w.code)) ? EXIT_CHECKS_FAILED : EXIT_OK;
         });
       }),
     );

@@ -184,6 +184,55 @@ function resolveTopics(bag: Bag, arm: ArmName, remap: ReadonlyMap<string, string
   return out;
 }
 
+/**
+ * The wrench stream's timing against the configuration: the filter is designed for
+ * `wrench_filter.sample_rate_hz`, so a stream at another rate (median interval more than 5 % off)
+ * moves every cutoff; and samples that repeat the previous log time give the filter zero steps.
+ */
+function checkWrenchTiming(t: Float64Array, rateHz: number, file: string, topic: string, warnings: Problem[]): void {
+  const n = t.length;
+  if (n < 3) return;
+  let same = 0;
+  let run = 0;
+  let longest = 0;
+  let longestAt = 0;
+  const dt: number[] = [];
+  for (let i = 1; i < n; i++) {
+    const d = t[i]! - t[i - 1]!;
+    if (d === 0) {
+      same++;
+      run++;
+      if (run > longest) {
+        longest = run;
+        longestAt = t[i]!;
+      }
+    } else {
+      run = 0;
+      if (d > 0) dt.push(d);
+    }
+  }
+  if (same > Math.max(10, 0.01 * n)) {
+    warnings.push({
+      code: 'replay.wrench_same_time',
+      message: `${same} of ${n} wrench samples share the log time of the sample before (longest: ${longest + 1} samples at ${longestAt.toFixed(6)} s after the start); the filter sees zero time steps there`,
+      where: { file, topic },
+      hint: 'the recorder stamped messages in bursts; replay uses log times',
+    });
+  }
+  if (dt.length < 2) return;
+  dt.sort((a, b) => a - b);
+  const median = dt[dt.length >> 1]!;
+  const measured = 1 / median;
+  if (Math.abs(measured - rateHz) > 0.05 * rateHz) {
+    warnings.push({
+      code: 'replay.wrench_rate_mismatch',
+      message: `the wrench stream runs at ${measured.toPrecision(4)} Hz (median interval ${(median * 1e3).toPrecision(4)} ms), wrench_filter.sample_rate_hz is ${rateHz}: more than 5 % apart, so every filter cutoff is off`,
+      where: { file, topic, key: 'wrench_filter.sample_rate_hz' },
+      hint: `set wrench_filter.sample_rate_hz to the recorded rate (about ${Math.round(measured)})`,
+    });
+  }
+}
+
 export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRecord> {
   const warnings: Problem[] = [];
   const remap = opts.remap ?? new Map<string, string>();
@@ -218,7 +267,8 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
       inTopics: new Map(),
       rec: (() => {
         // Sized from the recorded counts, so the columns never regrow during the replay.
-        const count = (kind: InputKind) => (resolved[kind] === null ? 16 : Math.max(16, topics[topicIndex.get(resolved[kind]!)!]!.count));
+        // (capped at 2^22 rows at first: a recorded count is a declaration; columns grow past it)
+        const count = (kind: InputKind) => (resolved[kind] === null ? 16 : Math.max(16, Math.min(1 << 22, topics[topicIndex.get(resolved[kind]!)!]!.count)));
         const n = count('wrench');
         const nb = Math.ceil(n / Math.max(1, Math.round(config.wrench_filter.sample_rate_hz / config.belief.update_rate_hz))) + 16;
         const col = () => new Column(n);
@@ -375,6 +425,10 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
 
   for (const batch of bag.batches(readOpts)) handle(batch);
   opts.progress?.(1);
+  for (const run of runs) {
+    const topic = run.topics.wrench;
+    if (topic !== null) checkWrenchTiming(run.rec.t.view(), opts.configs[run.arm]!.wrench_filter.sample_rate_hz, bag.path, topic, warnings);
+  }
   if (outOfOrder > 0) warnings.push({ code: 'replay.out_of_order', message: `${outOfOrder} messages arrived out of log-time order; replayed as read`, where: { file: bag.path } });
   for (const w of bag.warnings) warnings.push(w);
   // The bag's own warnings were logged when it was opened: each reaches the user once.
