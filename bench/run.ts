@@ -32,6 +32,7 @@ async function optional(name: string, file: string, fn: string): Promise<void> {
 await optional('replay', './replay.js', 'benchReplay');
 await optional('sim', './sim.js', 'benchSim');
 await optional('issue8', './issue8-measure.js', 'benchIssue8');
+await optional('adapter', './adapter.js', 'benchAdapter');
 
 const wanted = process.argv.slice(2);
 for (const name of wanted.length ? wanted : Object.keys(BENCHES)) {

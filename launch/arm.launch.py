@@ -1,29 +1,30 @@
-"""Launch one antiphon node beside an existing arm driver.
+"""Launch antiphon for one arm beside the arm's existing driver.
 
-    ros2 launch launch/arm.launch.py arm:=left params_file:=config/demo_cell.yaml \
-        wrench_topic:=/left/ft_sensor/wrench joint_states_topic:=/left/joint_states
+    ros2 launch antiphon arm.launch.py arm:=right params_file:=/path/to/cell.yaml \
+        wrench_topic:=/right/ft_sensor/wrench
 
-Arguments name the driver's topics; antiphon remaps its inputs onto them. Outputs appear under
-/<arm>/antiphon/ (recommended_twist, role, belief, watchdog, correction_wrench, impact_wrench).
+The namespace and every input topic default from `arm` (/right, /right/wrench, ...); outputs
+appear under /<arm>/antiphon/ (recommended_twist, role, belief, watchdog, correction_wrench,
+impact_wrench, held, markers). The lifecycle node /<arm>/antiphon starts unconfigured: drive it
+with `ros2 lifecycle set /<arm>/antiphon configure` and `activate`, or pass autostart:=true.
 SAFETY: the watchdog is not a safety-rated function; see SAFETY.md.
 """
 import os
 import sys
 
 from launch import LaunchDescription
-from launch.actions import DeclareLaunchArgument
+from launch.actions import DeclareLaunchArgument, OpaqueFunction
 from launch.substitutions import LaunchConfiguration
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-from antiphon_launch_common import REPO, arm_arguments, arm_process  # noqa: E402
+from antiphon_launch_common import ARMS, arm_arguments, arm_node, common_arguments  # noqa: E402
 
 
 def generate_launch_description():
-    arm = os.environ.get('ANTIPHON_ARM', 'left')
+    arm = LaunchConfiguration('arm')
     return LaunchDescription([
-        DeclareLaunchArgument('arm', default_value=arm, description='left or right'),
-        DeclareLaunchArgument('params_file', default_value=os.path.join(REPO, 'config', 'demo_cell.yaml')),
-        DeclareLaunchArgument('use_sim_time', default_value='false'),
+        DeclareLaunchArgument('arm', default_value='left', choices=ARMS, description='left or right'),
+        *common_arguments(),
         *arm_arguments(arm),
-        arm_process(LaunchConfiguration('arm'), LaunchConfiguration('params_file')),
+        OpaqueFunction(function=lambda context: [arm_node(context, arm)]),
     ])

@@ -857,6 +857,37 @@ export class ArmStep {
     this.pose.set(s.pose);
     this.zoneState.set(s.zones);
   }
+
+  /**
+   * Run-time parameter change, at a sample boundary (call it between two steps): from the next
+   * sample on, every component works with `next`, and every piece of state carries over (the
+   * filter's history and bias, the hold and its trips, the roles, both beliefs, the policy).
+   * It builds the components afresh from `next` and restores a snapshot of the current state
+   * into them, so it works whatever a component copies out of its configuration at
+   * construction. Only keys that change no buffer size or filter design may differ (the ROS
+   * adapter declares all others read-only: src/ros/live-params.ts); `next` is checked against
+   * the schema by the caller. Allocates: not for the hot path.
+   */
+  applyParams(next: ArmConfig): void {
+    const req = this.required;
+    const required: Partial<Record<InputName, boolean>> = {};
+    INPUTS.forEach((name, k) => (required[name] = req[k] === 1));
+    const fresh = new ArmStep(next, { jointCount: this.jointCount, required });
+    fresh.restore(this.snapshot());
+    const oldOut = this.out as unknown as Record<string, unknown>;
+    const newOut = fresh.out as unknown as Record<string, unknown>;
+    for (const key of Object.keys(oldOut)) {
+      const a = oldOut[key];
+      const b = newOut[key];
+      if (a instanceof Float64Array && b instanceof Float64Array) {
+        if (a !== b && a.length === b.length) b.set(a);
+      } else if (typeof a !== 'object') {
+        newOut[key] = a;
+      }
+    }
+    const self = this as unknown as Record<string, unknown>;
+    for (const key of Object.keys(fresh)) self[key] = (fresh as unknown as Record<string, unknown>)[key];
+  }
 }
 
 function logit(p: number): number {

@@ -1,8 +1,10 @@
 /**
  * Loading ROS 2 parameters files (`<section>: ros__parameters: {...}`) against the schema.
  *
- * A file may hold a `/**` section (every arm) and one section per arm (`left`, `right`);
- * an arm's value comes from its own section, else `/**`, else the schema default. Nested maps
+ * A file may hold a `/**` section (every arm) and sections per arm: the arm selectors `left`
+ * and `right`, or fully qualified node names under the arm's namespace (`/left/antiphon`,
+ * `/left/antiphon_roles`, `/right/**`), as `ros2 param dump` writes them. An arm's value comes
+ * from its own sections, else `/**`, else the schema default. Nested maps
  * flatten to dotted keys as ROS does. Every problem names the dotted key, the file, line and
  * column, and what is allowed; all problems are reported at once and nothing is half-applied.
  */
@@ -16,6 +18,17 @@ import { ARMS, type ArmName, type ParamSpec, type ParamValue, type ResolvedValue
 
 export const SECTIONS = ['/**', ...ARMS] as const;
 export type SectionName = (typeof SECTIONS)[number];
+
+/**
+ * The section a file's top-level key selects: `/**`, an arm selector (`left`, `right`), or a
+ * fully qualified node name in the arm's namespace (`/left/<node>` or `/left/**`), which is how
+ * `ros2 param dump` names sections. Anything else is undefined (refused with a hint).
+ */
+export function resolveSectionName(name: string): SectionName | undefined {
+  if ((SECTIONS as readonly string[]).includes(name)) return name as SectionName;
+  const m = /^\/(left|right)\/(\*\*|[A-Za-z][A-Za-z0-9_]*)$/.exec(name);
+  return m ? (m[1] as ArmName) : undefined;
+}
 
 /** One value as written in a file, before resolution. */
 interface FileEntry {
@@ -64,8 +77,9 @@ export function parseParamsText(text: string, path: string): ParamsFile {
   }
   for (const pair of root.items) {
     const name = isScalar(pair.key) ? String(pair.key.value) : '';
-    if (!(SECTIONS as readonly string[]).includes(name)) {
-      problems.push({ code: 'param.unknown_section', message: `unknown section '${name}'`, where: at(pair.key as Node), hint: `allowed sections: ${SECTIONS.join(', ')}` });
+    const section = resolveSectionName(name);
+    if (section === undefined) {
+      problems.push({ code: 'param.unknown_section', message: `unknown section '${name}': a section is /**, an arm selector, or a fully qualified node name in an arm's namespace (/left/antiphon, /right/antiphon_roles, /left/**)`, where: at(pair.key as Node), hint: `allowed sections: ${SECTIONS.join(', ')}` });
       continue;
     }
     const body = pair.value as Node | null;
@@ -73,9 +87,20 @@ export function parseParamsText(text: string, path: string): ParamsFile {
       problems.push({ code: 'param.no_ros_parameters', message: `section '${name}' must hold exactly one key, ros__parameters`, where: at(body ?? (pair.key as Node)) });
       continue;
     }
+    // Several sections may select one arm (e.g. a dump of both of its nodes): they merge, and
+    // a key given twice with different values is refused.
     const entries = new Map<string, FileEntry>();
-    flatten(body.items[0]!.value as Node | null, '', name as SectionName, entries, problems, at);
-    sections.set(name as SectionName, entries);
+    flatten(body.items[0]!.value as Node | null, '', name, entries, problems, at);
+    const merged = sections.get(section) ?? new Map<string, FileEntry>();
+    for (const [key, e] of entries) {
+      const prev = merged.get(key);
+      if (prev && JSON.stringify(prev.value) !== JSON.stringify(e.value)) {
+        problems.push({ code: 'param.conflicting_sections', message: `${key} is set to ${JSON.stringify(prev.value)} in section '${prev.source.section}' and to ${JSON.stringify(e.value)} in section '${name}', both for the ${section} arm`, where: { key, file: path, line: e.source.line, column: e.source.column }, hint: 'give each key once per arm' });
+        continue;
+      }
+      merged.set(key, e);
+    }
+    sections.set(section, merged);
   }
   // Names chosen by the user (zone names) are ROS-style identifiers: they travel in messages.
   for (const [, entries] of sections) {
@@ -107,7 +132,7 @@ export function parseParamsText(text: string, path: string): ParamsFile {
 function flatten(
   node: Node | null,
   prefix: string,
-  section: SectionName,
+  section: string,
   out: Map<string, FileEntry>,
   problems: Problem[],
   at: (n: Node | Pair | null | undefined) => { file: string; line?: number; column?: number },

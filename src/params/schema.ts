@@ -111,6 +111,22 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('task.zones.*.radius_m', 'm', 0.1, 0.001, 20, 'Circle zone radius. Ignored for boxes.'),
   e('task.zones.*.observed_by', undefined, ['left', 'right', 'both'], 'Which arm\'s area sensor sees the zone.'),
   e('task.zones.*.kind', 'clamp_post', ['clamp_post', 'cable_tray', 'other'], 'What may stand there (for reports).'),
+
+  // ---- ROS 2 node (the live node only; replay and simulate ignore these) -------------------
+  b('use_sim_time', false, 'Follow /clock. Declared by rcl itself; listed so that a ros2 param dump of the node loads back.'),
+  { key: 'ros.frames.cell', type: 'string', unit: '', default: 'cell', description: 'Frame of the tool pose and of the recommended twist; a tool pose in another frame is refused.' },
+  { key: 'ros.frames.sensor', type: 'string', unit: '', default: 'left_ft_sensor', armDefault: { left: 'left_ft_sensor', right: 'right_ft_sensor' }, description: 'frame_id the wrench must carry (a wrench in another frame is refused); the output wrenches carry it.' },
+  v('ros.frames.sensor_in_tool_xyzw', '1', [0, 0, 0, 1], 4, -1, 1, 'Orientation of the sensor frame in the tool frame (unit quaternion x, y, z, w): the sensor orientation is the tool orientation times this.'),
+  { key: 'ros.joint_names', type: 'string_array', unit: '', default: [], description: 'This arm\'s joints in JointState, by name; joints of other names are ignored. Empty: every joint in the message is this arm\'s (a per-arm joint_states topic).' },
+  i('ros.input_queue_depth', 100, 1, 10000, 'Queue depth of every input subscription (100 = 0.1 s of a 1 kHz wrench).'),
+  e('ros.time_source', 'header', ['header', 'arrival'], 'Time of a sample: its header stamp (robust to event-loop pauses and clock steps), or the ROS time at arrival (what bag log times record).'),
+  d('ros.clock_step_warn_s', 's', 0.005, 0.0001, 1, 'Warn when the ROS clock advances in steps above this (e.g. ros2 bag play --clock at its default 40 Hz).'),
+  b('ros.services.enabled', true, 'Offer ~/reset_hold and ~/tare. Read-only: false leaves the hold to be released by restarting the node.'),
+  d('ros.markers.rate_hz', 'Hz', 2, 0, 30, 'Rate of the visualization_msgs/MarkerArray topic antiphon/markers; 0 turns the markers off.'),
+  e('ros.qos.status.reliability', 'reliable', ['reliable', 'best_effort'], 'Reliability of antiphon/role, antiphon/watchdog, antiphon/belief and antiphon/markers.'),
+  i('ros.qos.status.depth', 10, 1, 1000, 'Queue depth of antiphon/role, antiphon/watchdog, antiphon/belief and antiphon/markers.'),
+  e('ros.qos.wrenches.reliability', 'reliable', ['reliable', 'best_effort'], 'Reliability of antiphon/correction_wrench and antiphon/impact_wrench.'),
+  i('ros.qos.wrenches.depth', 10, 1, 1000, 'Queue depth of antiphon/correction_wrench and antiphon/impact_wrench.'),
 ];
 
 /** Specs by exact key or pattern key. */

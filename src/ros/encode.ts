@@ -101,3 +101,29 @@ export class OutputEncoder {
     });
   }
 }
+
+/**
+ * A geometry_msgs WrenchStamped or TwistStamped (same layout: header, six float64) written in
+ * place into one preallocated Buffer: the frame is fixed at construction, so publishing a
+ * sample writes the stamp and six numbers and allocates nothing.
+ */
+export class StampedVector6Writer {
+  readonly buffer: Buffer;
+  private readonly view: DataView;
+  private readonly at: number;
+
+  constructor(readonly frameId: string) {
+    const template = encodeWrenchStamped(new Float64Array(8), 0, frameId);
+    this.buffer = Buffer.from(template);
+    this.view = new DataView(this.buffer.buffer, this.buffer.byteOffset, this.buffer.byteLength);
+    this.at = this.buffer.byteLength - 48;
+  }
+
+  write(sec: number, nanosec: number, v: ArrayLike<number>): Buffer {
+    const d = this.view;
+    d.setInt32(4, sec, true);
+    d.setUint32(8, nanosec, true);
+    for (let k = 0; k < 6; k++) d.setFloat64(this.at + 8 * k, v[k]!, true);
+    return this.buffer;
+  }
+}

@@ -55,3 +55,20 @@ export function parseRemaps(list: readonly string[]): { map: Map<string, string>
   }
   return { map, bad };
 }
+
+/**
+ * The QoS each output is offered with by the live node with default parameters, as rosbag2
+ * records it in `offered_qos_profiles` (rmw enum values: history 1 keep last, reliability
+ * 1 reliable / 2 best effort, durability 1 transient local / 2 volatile, liveliness 1
+ * automatic). Bags that record outputs (replay --out, simulate --out) write these, so that
+ * `ros2 bag play` offers what the live node offers.
+ */
+const RELIABLE_10 = [{ history: 1, depth: 10, reliability: 1, durability: 2, deadline: { sec: 0, nsec: 0 }, lifespan: { sec: 0, nsec: 0 }, liveliness: 1, liveliness_lease_duration: { sec: 0, nsec: 0 }, avoid_ros_namespace_conventions: false }] as const;
+export const OUTPUT_BAG_QOS: { readonly [K in OutputKind]: typeof RELIABLE_10 } = {
+  role: RELIABLE_10,
+  belief: RELIABLE_10,
+  correction_wrench: RELIABLE_10,
+  impact_wrench: RELIABLE_10,
+  recommended_twist: RELIABLE_10,
+  watchdog: RELIABLE_10,
+};

@@ -317,7 +317,8 @@ describe('property: written values load back exactly', () => {
       case 'bool':
         return fc.boolean();
       default:
-        return fc.constantFrom(...s.choices!);
+        // Free strings (frame names) have no choices: ROS-style names.
+        return s.choices ? fc.constantFrom(...s.choices) : fc.stringMatching(/^[a-z][a-z0-9_]{0,12}$/);
     }
   }
 

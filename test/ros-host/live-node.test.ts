@@ -24,7 +24,8 @@ beforeAll(async () => {
   await rcl.init();
   node = new rcl.Node('antiphon_test_driver', '/left');
   node.spin();
-  child = spawn(process.execPath, [resolve(root, 'dist/src/cli/main.js'), 'node', '--arm', 'left', '--params', resolve(root, 'config/demo_cell.yaml')], { stdio: 'inherit' });
+  // --autostart: configure, then activate once tared; --ros-args as launch passes them.
+  child = spawn(process.execPath, [resolve(root, 'dist/src/cli/main.js'), 'node', '--arm', 'left', '--params', resolve(root, 'config/demo_cell.yaml'), '--autostart', '--ros-args', '-r', '__ns:=/left'], { stdio: 'inherit' });
   await new Promise((r) => setTimeout(r, 3000));
 });
 
@@ -39,7 +40,8 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 describe('antiphon node on ROS 2', () => {
   it('publishes a recommended twist for every wrench, zero until tared, then moving', async () => {
     const twists: { twist: { linear: { x: number; y: number } } }[] = [];
-    node.createSubscription('geometry_msgs/msg/TwistStamped', '/left/antiphon/recommended_twist', { qos: rcl.QoS.profileSensorData }, (m: any) => twists.push(m));
+    // Default (reliable) QoS, as a velocity interface on the arm subscribes: the twist is reliable.
+    node.createSubscription('geometry_msgs/msg/TwistStamped', '/left/antiphon/recommended_twist', (m: any) => twists.push(m));
     const wrench = node.createPublisher('geometry_msgs/msg/WrenchStamped', '/left/wrench', { qos: rcl.QoS.profileSensorData });
     const pose = node.createPublisher('geometry_msgs/msg/PoseStamped', '/left/tool_pose', { qos: rcl.QoS.profileSensorData });
     const joints = node.createPublisher('sensor_msgs/msg/JointState', '/left/joint_states', { qos: rcl.QoS.profileSensorData });
@@ -65,11 +67,12 @@ describe('antiphon node on ROS 2', () => {
     expect(res.success).toBe(false);
   });
 
-  it('exposes its parameters read-only', async () => {
-    const params = node.createParameterClient('/left/antiphon');
+  it('exposes its parameters: structural ones read-only, thresholds settable within their ceilings', async () => {
+    const params = node.createParameterClient('/left/antiphon_roles');
     const value = await params.getParameter('wrench_filter.cutoff_hz');
     expect(value.value).toBe(5);
-    const set = await params.setParameter('wrench_filter.cutoff_hz', 9.0);
-    expect(set.successful).toBe(false);
+    expect((await params.setParameter('wrench_filter.cutoff_hz', 9.0)).successful).toBe(false);
+    expect((await params.setParameter('watchdog.force_limit_n', 600.0)).successful).toBe(false);
+    expect((await params.setParameter('watchdog.force_limit_n', 120.0)).successful).toBe(true);
   });
 });

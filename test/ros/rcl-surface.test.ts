@@ -77,14 +77,30 @@ describe('rclnodejs 2.2.0 API surface', () => {
       return ctx.skip(`${why}: run with the npm registry reachable`);
     }
     const r = typecheck(`import * as rclnodejs from 'rclnodejs';
-import type { RclModule, RclNode } from ${RCL};
+import type { RclModule, RclNode, RclLifecycleNode, RclState } from ${RCL};
 const m: RclModule = rclnodejs;
 declare const n: rclnodejs.Node;
 const node: RclNode = n;
-// The calls the adapter makes, with the real option names.
-node.createSubscription('geometry_msgs/msg/WrenchStamped', 'wrench', { qos: rclnodejs.QoS.profileSensorData, isRaw: true }, (msg: Buffer) => void msg);
+declare const ln: rclnodejs.lifecycle.LifecycleNode;
+const lnode: RclLifecycleNode = ln;
+// The calls the adapter makes, with the real option names and classes.
+const q = new rclnodejs.QoS(1, 100, 2, 2);
+node.createSubscription('geometry_msgs/msg/WrenchStamped', 'wrench', { qos: q, isRaw: true }, (msg: Buffer) => void msg);
+node.createPublisher('geometry_msgs/msg/TwistStamped', 'antiphon/recommended_twist', { qos: q });
+n.createPublisher('geometry_msgs/msg/TwistStamped', 'antiphon/recommended_twist', { qos: q });
+n.declareParameter(new rclnodejs.Parameter('a', 3, 1.5), new rclnodejs.ParameterDescriptor('a', 3, 'd [N]', false, new rclnodejs.FloatingPointRange(0, 5, 0)), true);
+n.declareParameter(new rclnodejs.Parameter('b', 2, 4n), new rclnodejs.ParameterDescriptor('b', 2, 'd', true, new rclnodejs.IntegerRange(1n, 8n, 1n)), true);
+const ov: { name: string; type: number; value: unknown }[] = n.getParameterOverrides();
+const res: { successful: boolean; reason: string } = n.setParameter(new rclnodejs.Parameter('use_sim_time', 1, true));
+n.getPublishersInfoByTopic('/left/wrench', false);
+n.getSubscriptionsInfoByTopic('/left/antiphon/role', false);
+ln.registerOnConfigure(() => 97);
+ln.registerOnActivate(() => 98);
+const st: RclState = ln.currentState;
+ln.configure(); ln.activate(); ln.deactivate(); ln.cleanup(); ln.shutdown();
+rclnodejs.removeSignalHandlers();
 const t: bigint = n.now().nanoseconds;
-void m; void t;
+void m; void t; void lnode; void ov; void res; void st;
 `);
     expect(r.ok, r.out).toBe(true);
   });
@@ -96,9 +112,17 @@ void m; void t;
 interface Wrong { createSubscription(type: string, topic: string, cb: (m: Buffer) => void, qos: number, extra: string): void; spinForever(): void }
 declare const n: rclnodejs.Node;
 const w: Wrong = n;
+// A lifecycle callback that returns a string, and a signal-handler call that does not exist.
+declare const ln: rclnodejs.lifecycle.LifecycleNode;
+ln.registerOnConfigure(() => 'success');
+rclnodejs.removeSignalHandler();
+new rclnodejs.FloatingPointRange('0', 5);
 void w;
 `);
     expect(r.ok).toBe(false);
-    expect(r.out).toMatch(/spinForever|not assignable/);
+    expect(r.out).toMatch(/spinForever/);
+    expect(r.out).toMatch(/registerOnConfigure|not assignable to type 'CallbackReturnCode'|'string' is not assignable/);
+    expect(r.out).toMatch(/removeSignalHandler/);
+    expect(r.out).toMatch(/FloatingPointRange|'string' is not assignable to parameter of type 'number'/);
   });
 });
