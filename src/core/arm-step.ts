@@ -130,6 +130,7 @@ export class ArmStep {
   private quatError = 0;
   private jointVelAvailable = false;
   private partnerHeldFlag = false;
+  private outputEnabled = true;
   private readonly pose = Float64Array.of(0, 0, 0, 0, 0, 0, 1);
   private readonly zoneState: Uint8Array;
   private readonly lastSeen = new Float64Array(INPUTS.length).fill(Number.NaN);
@@ -320,6 +321,16 @@ export class ArmStep {
     if (Number.isFinite(t)) this.lastSeen[INPUT.tool_pose] = t;
   }
 
+  /**
+   * Whether the recommended twist reaches the arm (default true). A shell that withholds it
+   * (the live node's lifecycle while inactive) says so: the step then keeps its command at zero
+   * (not latched), so the tare gate, the likelihood's own velocity and the partner-stop check all
+   * see the arm as standing, as it does.
+   */
+  setOutputEnabled(enabled: boolean): void {
+    this.outputEnabled = enabled === true;
+  }
+
   /** The partner's one-bit hold signal (only used with watchdog.hold_link.enabled). */
   setPartnerHold(t: number, held: boolean): void {
     this.partnerHeldFlag = held === true;
@@ -443,7 +454,7 @@ export class ArmStep {
     // replay and the simulated cell (no timer tick) would otherwise never see. Only finite times
     // are kept: a NaN-stamped sample must not erase the last arrival.
     if (Number.isFinite(t)) this.lastSeen[INPUT.wrench] = t;
-    stop = stop || !f.tared;
+    stop = stop || !f.tared || !this.outputEnabled;
     // No time, no dynamics: a NaN time must not turn the command into NaN (it trips non_finite anyway).
     const dt = Number.isNaN(this.lastT) || !Number.isFinite(t) ? 0 : Math.min(Math.max(t - this.lastT, 0), 0.1);
     if (t >= this.lastT || Number.isNaN(this.lastT)) this.lastT = t;
@@ -874,6 +885,7 @@ export class ArmStep {
     INPUTS.forEach((name, k) => (required[name] = req[k] === 1));
     const fresh = new ArmStep(next, { jointCount: this.jointCount, required });
     fresh.restore(this.snapshot());
+    fresh.setOutputEnabled(this.outputEnabled); // not part of a snapshot: the shell's setting stays
     const oldOut = this.out as unknown as Record<string, unknown>;
     const newOut = fresh.out as unknown as Record<string, unknown>;
     for (const key of Object.keys(oldOut)) {

@@ -71,8 +71,6 @@ const log = logger('node');
 /** std_msgs/msg/Bool as serialized CDR (little-endian encapsulation, one byte). */
 const HELD_TRUE = Buffer.from([0, 1, 0, 0, 1]);
 const HELD_FALSE = Buffer.from([0, 1, 0, 0, 0]);
-const PARTNER_STOP = (CHECKS as readonly string[]).indexOf('partner_stop');
-const PARTNER_HOLD = (CHECKS as readonly string[]).indexOf('partner_hold');
 
 function view(buf: Uint8Array): DataView {
   return new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
@@ -361,12 +359,14 @@ export class ArmNodes {
       return CALLBACK.failure;
     }
     this.active = true;
+    this.step?.setOutputEnabled(true);
     this.report('info', { state: 'active' }, 'activated: the recommended twist follows the arm step');
     return CALLBACK.success;
   }
 
   private onDeactivate(): number {
     this.active = false;
+    this.step?.setOutputEnabled(false);
     this.publishZeroTwist();
     this.report('info', { state: 'inactive' }, 'deactivated: zero twist, held at zero while inactive');
     return CALLBACK.success;
@@ -408,6 +408,7 @@ export class ArmNodes {
   private build(): void {
     const c = this.config;
     const step = new ArmStep(c, { required: { joint_states: true, zone_view: c.task.zones.length > 0 } });
+    step.setOutputEnabled(this.active); // inactive after configure: the twist is withheld
     this.step = step;
     const hidden = Array.from(step.task.hidden, (z) => c.task.zones[z]!.name);
     this.enc = new OutputEncoder(c.arm, c.roles.scheduler, hidden);
@@ -580,6 +581,7 @@ export class ArmNodes {
     this.counters.resets_on_clock_jump++;
     this.report('warn', { gap_s: gap }, `sim time jumped back ${(-gap).toFixed(3)} s (looped playback?): the arm step starts afresh, untared, with a zero twist`);
     this.step = new ArmStep(this.config, { required: { joint_states: true, zone_view: this.config.task.zones.length > 0 } });
+    this.step.setOutputEnabled(this.active);
     this.lastWrenchT = Number.NaN;
     this.lastStatusT = Number.NEGATIVE_INFINITY;
     void t;
@@ -745,22 +747,13 @@ export class ArmNodes {
       this.lastHeld = o.held;
     }
     // This arm's own hold: a hold caused only by the partner's is not sent back (no latch loop).
-    const held = o.held && this.ownHold();
+    const held = o.heldOwn;
     const steady = this.steadyS();
     if (held !== this.heldBit || steady - this.heldPublishedAt >= STATUS_PERIOD_S) {
       this.heldBit = held;
       this.heldPublishedAt = steady;
       this.heldPub!.publish(held ? HELD_TRUE : HELD_FALSE);
     }
-  }
-
-  private ownHold(): boolean {
-    const wd = this.step!.watchdog;
-    for (let k = 0; k < wd.tripsLength; k++) {
-      const c = wd.tripAt(k).check;
-      if (c !== PARTNER_STOP && c !== PARTNER_HOLD) return true;
-    }
-    return false;
   }
 
   onMarkers(): void {

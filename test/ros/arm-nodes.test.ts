@@ -29,6 +29,8 @@ describe('ArmNodes (live adapter)', () => {
     activateAfterTare(s);
     s.feed(1000, 2000);
     const ref = new ArmStep(cell.left.config, { required: { joint_states: true, zone_view: true } });
+    // Inactive for the first 1000 samples: the node's step withholds its twist (and starts from rest when activated).
+    ref.setOutputEnabled(false);
     const sent = s.rcl.sent('/left/antiphon/recommended_twist') as Buffer[];
     // One twist per wrench sample (the 100 Hz tick adds none while the wrench flows).
     expect(sent.length).toBe(3000);
@@ -38,6 +40,7 @@ describe('ArmNodes (live adapter)', () => {
       ref.setToolPose(t, 0.1, 0.55, 0.9, 0, 0, 0, 1);
       ref.setJointState(t, [0.01, 0, 0], 3);
       if (k % 100 === 0) ref.setZoneView(t, [0, 2]);
+      if (k === 1000) ref.setOutputEnabled(true);
       const o = ref.step(t, Float64Array.of(0.1, -0.2, -11.8, 0, 0, 0));
       if (k < 1000) continue;
       const v = decodeVec(sent[k]!);

@@ -156,6 +156,7 @@ describe('episode measures in the kinematic cell (demo cell, seed 5, both zones 
     expect(p.injected_at_s).toBe(3.0);
     expect(p.held_at_s).toBe(3.0);
     expect(r.trips.left.some((s) => s.startsWith('non_finite@wrench'))).toBe(true);
-    expect(r.trips.right).toEqual([]);
+    // The partner feels itself dragging the held arm and holds too (partner_stop), for no other reason.
+    expect(r.trips.right.every((s) => s.startsWith('partner_stop@'))).toBe(true);
   });
 });
