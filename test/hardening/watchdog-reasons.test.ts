@@ -84,9 +84,12 @@ function drive(ops: readonly Op[]): void {
   clean(0);
   const check = (label: string) => {
     // The invariant: held ⇔ at least one reason; and the reasons are exactly those since the last release.
-    expect(wd.held ? wd.tripsLength > 0 : wd.tripsLength === 0, `${label}: held=${wd.held} with ${wd.tripsLength} reasons`).toBe(true);
-    expect(new Set(wd.trips.map((r) => CHECKS[r.check]!)), label).toEqual(expected);
-    expect(wd.tripsLength, label).toBe(expected.size);
+    const names = wd.trips.map((r) => CHECKS[r.check]!);
+    const ok = (wd.held ? wd.tripsLength > 0 : wd.tripsLength === 0) && names.length === expected.size && names.every((n) => expected.has(n));
+    if (!ok) {
+      expect(wd.held ? wd.tripsLength > 0 : wd.tripsLength === 0, `${label}: held=${wd.held} with ${wd.tripsLength} reasons`).toBe(true);
+      expect(names.sort(), label).toEqual([...expected].sort());
+    }
   };
   for (const [n, o] of ops.entries()) {
     const label = `op ${n} ${JSON.stringify(o)}`;
@@ -152,7 +155,7 @@ function drive(ops: readonly Op[]): void {
 
 describe('a hold always has a reason', () => {
   it('over random streams of faults, ticks, NaN ticks and resets: held ⇔ reasons, and the reasons are exactly the checks tripped since the last release', () => {
-    fc.assert(fc.property(fc.array(op, { minLength: 1, maxLength: 80 }), (ops) => drive(ops)), { numRuns: 300 });
+    fc.assert(fc.property(fc.array(op, { minLength: 1, maxLength: 80 }), (ops) => drive(ops)), { numRuns: 150 });
   });
 
   it('after a granted reset, a later trip holds with exactly the new reason (the old list is cleared)', () => {
