@@ -16,6 +16,8 @@ export default {
   reporters: ['clear-text', 'progress', 'html', 'json'],
   htmlReporter: { fileName: 'reports/mutation/mutation.html' },
   jsonReporter: { fileName: 'reports/mutation/mutation.json' },
+  // Not copied into the sandbox: build output and reports (the tests run the TypeScript sources).
+  ignorePatterns: ['dist', 'out', 'bench/results', 'reports', 'test-output'],
   tempDirName: '.stryker-tmp',
   cleanTempDir: 'always',
   thresholds: { high: 90, low: 80, break: null },
