@@ -30,9 +30,9 @@ describe('impact configuration edges', () => {
     }
   });
 
-  it('an impact section that is not an object is a wrong type, named as such', () => {
-    const cfg = { ...wrenchFilterConfig(), impact: null } as unknown as WrenchFilterConfig;
-    expect(checkWrenchFilterConfig(cfg)).toEqual([{ code: 'param.wrong_type', message: 'wrench_filter.impact = null is not allowed', where: { key: 'wrench_filter.impact' }, hint: 'an object with force_n, torque_nm, release_ratio, min_duration_s, hold_s' }]);
+  it.each([null, 5, 'impact'])('an impact section that is not an object (%s) is a wrong type, named as such', (v) => {
+    const cfg = { ...wrenchFilterConfig(), impact: v } as unknown as WrenchFilterConfig;
+    expect(checkWrenchFilterConfig(cfg)).toEqual([{ code: 'param.wrong_type', message: `wrench_filter.impact = ${JSON.stringify(v)} is not allowed`, where: { key: 'wrench_filter.impact' }, hint: 'an object with force_n, torque_nm, release_ratio, min_duration_s, hold_s' }]);
   });
 
   it('rise and hold counts round to samples with at least one (at 1 kHz and 8 kHz)', () => {
