@@ -148,4 +148,17 @@ describe('watchdog edges', () => {
     expect(wd.clearFor_s).toBe(before);
     expect(names(wd)).toEqual(['force_raw']);
   });
+
+  it('a twist fault checked with a time before the last sample is dated at the latest time seen', () => {
+    // watchdog.ts updateClear: "a sample from the past must not date the fault earlier".
+    const wd = new Watchdog(P);
+    const x = inputs();
+    for (let k = 0; k <= 2000; k++) clean(wd, x, k / 1000);
+    wd.checkOutput(1.5, Float64Array.of(2 * P.linear_speed_limit_m_s, 0, 0, 0, 0, 0));
+    for (let k = 2001; k <= 2999; k++) clean(wd, x, k / 1000);
+    expect(wd.requestReset().released).toBe(false);
+    clean(wd, x, 3.0);
+    clean(wd, x, 3.001);
+    expect(wd.requestReset().released).toBe(true);
+  });
 });
