@@ -50,7 +50,7 @@ describe('watchdog edges', () => {
     expect(wd.held).toBe(false);
   });
 
-  it('every check trips in one hold: all eleven reasons are kept, oldest first', () => {
+  it('the eleven checks trip in one hold: every reason is kept, oldest first', () => {
     const wd = new Watchdog({ ...P, on_impact: 'hold' });
     const x = inputs();
     for (let k = 0; k <= 100; k++) clean(wd, x, k / 1000);
@@ -73,7 +73,7 @@ describe('watchdog edges', () => {
     wd.checkInputs(x);
     clean(wd, x, t - 0.5);
     expect(names(wd)).toEqual(['force_raw', 'torque_raw', 'force_correction', 'torque_correction', 'joint_velocity', 'impact', 'non_finite', 'twist_linear', 'twist_angular', 'stale_input', 'time_backwards']);
-    expect(wd.tripsLength).toBe(CHECKS.length);
+    expect(wd.tripsLength).toBe(11);
   });
 
   it('a second joint at the same speed does not relabel the record; a faster one does', () => {
