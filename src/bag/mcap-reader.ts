@@ -365,6 +365,11 @@ export class McapFile {
     if (reader && reader.chunkIndexes.length === 0 && (reader.statistics?.messageCount ?? 0n) > 0n) {
       reason = 'messages are not in indexed chunks';
       reader = undefined;
+    } else if (reader && reader.chunkIndexes.length === 0 && reader.statistics === undefined) {
+      // A summary without chunk indexes or statistics says nothing about the messages (the
+      // specification makes both optional): count them from the data section, not as zero.
+      reason = 'not indexed: the summary has neither chunk indexes nor statistics';
+      reader = undefined;
     }
     if (reader) {
       const f = new McapFile(src, opts, reader.header.profile, reader.header.library);

@@ -13,7 +13,7 @@ import { describe, expect, it } from 'vitest';
 import { bagDecoders, createBagWriter, encodeWrenchStamped, openBag, parseMetadataYaml, type Bag } from '../../src/bag/index.js';
 import { zstdCompressor } from '../../src/bag/zstd.js';
 import { InputError, type Problem } from '../../src/util/errors.js';
-import { copyFixture, FIXTURES, fixture, T0, tempDir, writeCellBag, mcapSummary } from './helpers.js';
+import { copyFixture, SKIP_FIXTURES, fixture, T0, tempDir, writeCellBag, mcapSummary } from './helpers.js';
 
 type Row = { topic: string; t: bigint; data: string };
 const rows = (bag: Bag): Row[] => [...bag.messages()].map((m) => ({ topic: m.topic, t: m.logTimeNs, data: Buffer.from(m.data).toString('hex') }));
@@ -80,7 +80,7 @@ describe('truncated MCAP files', () => {
     }
   });
 
-  it.skipIf(!FIXTURES)('the talker fixture cut inside its only chunk: no messages, a warning naming byte 45', async () => {
+  it.skipIf(SKIP_FIXTURES)('the talker fixture cut inside its only chunk: no messages, a warning naming byte 45', async () => {
     const dir = copyFixture('mcap-talker');
     truncateSync(join(dir, 'talker.mcap'), 2000);
     const bag = await openBag(dir);
@@ -144,7 +144,7 @@ describe('corrupt chunks', () => {
     lax.close();
   });
 
-  it.skipIf(!FIXTURES)('damaged zstd data in the talker fixture: a warning naming its topics, no crash', async () => {
+  it.skipIf(SKIP_FIXTURES)('damaged zstd data in the talker fixture: a warning naming its topics, no crash', async () => {
     const dir = copyFixture('mcap-talker');
     const f = join(dir, 'talker.mcap');
     const bytes = readFileSync(f);
@@ -208,7 +208,7 @@ describe('MCAP without a summary', () => {
 });
 
 describe('bag directories', () => {
-  it.skipIf(!FIXTURES)('missing metadata.yaml: one storage file opens with a warning, several are an error', async () => {
+  it.skipIf(SKIP_FIXTURES)('missing metadata.yaml: one storage file opens with a warning, several are an error', async () => {
     const dir = copyFixture('mcap-talker');
     rmSync(join(dir, 'metadata.yaml'));
     const bag = await openBag(dir);
@@ -224,7 +224,7 @@ describe('bag directories', () => {
     expect((await inputError(openBag(empty))).code).toBe('bag.no_metadata');
   });
 
-  it.skipIf(!FIXTURES)('unknown storage id, unknown compression, missing storage file, bad YAML', async () => {
+  it.skipIf(SKIP_FIXTURES)('unknown storage id, unknown compression, missing storage file, bad YAML', async () => {
     const dir = copyFixture('sqlite3-talker');
     const meta = join(dir, 'metadata.yaml');
     const text = readFileSync(meta, 'utf8');
@@ -256,7 +256,7 @@ describe('bag directories', () => {
     expect((await inputError(openBag(join(d, 'nothing-here')))).code).toBe('bag.not_found');
   });
 
-  it.skipIf(!FIXTURES)('a damaged .db3 is an InputError naming the file, never a crash', async () => {
+  it.skipIf(SKIP_FIXTURES)('a damaged .db3 is an InputError naming the file, never a crash', async () => {
     /** Open the bag and read every message (either step may be the one that fails). */
     const readAll = async (path: string) => {
       const bag = await openBag(path);
@@ -347,7 +347,7 @@ describe('split bags, compression, older layouts', () => {
     }
   });
 
-  it.skipIf(!FIXTURES)('a split sqlite3 bag of two identical files gives every message twice, first file first', async () => {
+  it.skipIf(SKIP_FIXTURES)('a split sqlite3 bag of two identical files gives every message twice, first file first', async () => {
     const dir = copyFixture('sqlite3-cdr_test');
     copyFileSync(join(dir, 'cdr_test_0.db3'), join(dir, 'cdr_test_1.db3'));
     const meta = join(dir, 'metadata.yaml');
@@ -360,7 +360,7 @@ describe('split bags, compression, older layouts', () => {
     bag.close();
   });
 
-  it.skipIf(!FIXTURES)('zstd FILE compression (MCAP and sqlite3) reads the same as the plain files', async () => {
+  it.skipIf(SKIP_FIXTURES)('zstd FILE compression (MCAP and sqlite3) reads the same as the plain files', async () => {
     const z = (await zstdCompressor())!;
     for (const [name, file] of [['mcap-talker', 'talker.mcap'], ['sqlite3-cdr_test', 'cdr_test_0.db3']] as const) {
       const plain = await openBag(fixture(name));
@@ -384,7 +384,7 @@ describe('split bags, compression, older layouts', () => {
     }
   });
 
-  it.skipIf(!FIXTURES)('zstd MESSAGE compression (sqlite3): every blob one zstd frame', async () => {
+  it.skipIf(SKIP_FIXTURES)('zstd MESSAGE compression (sqlite3): every blob one zstd frame', async () => {
     const z = (await zstdCompressor())!;
     const plain = await openBag(fixture('sqlite3-cdr_test'));
     const want = rows(plain);
@@ -402,7 +402,7 @@ describe('split bags, compression, older layouts', () => {
     bag.close();
   });
 
-  it.skipIf(!FIXTURES)('metadata.yaml before version 4 (bag folder prefix in paths, no QoS) and version 9 (nested QoS)', async () => {
+  it.skipIf(SKIP_FIXTURES)('metadata.yaml before version 4 (bag folder prefix in paths, no QoS) and version 9 (nested QoS)', async () => {
     const dir = copyFixture('sqlite3-cdr_test');
     const meta = join(dir, 'metadata.yaml');
     // Source: FORMAT-NOTES.md (before 4, relative_file_paths carried the bag folder as prefix).
@@ -470,7 +470,7 @@ describe('split bags, compression, older layouts', () => {
     expect(v9.relativeFilePaths).toEqual([]);
   });
 
-  it.skipIf(!FIXTURES)('sqlite3 schema version 1 (topics without QoS, no schema table)', async () => {
+  it.skipIf(SKIP_FIXTURES)('sqlite3 schema version 1 (topics without QoS, no schema table)', async () => {
     const src = await openBag(fixture('sqlite3-talker'));
     const want = rows(src);
     src.close();

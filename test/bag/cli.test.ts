@@ -6,7 +6,7 @@ import { register } from '../../src/cli/bag.js';
 import { createBagWriter, encodeWrenchStamped } from '../../src/bag/index.js';
 import { resetLogging } from '../../src/util/log.js';
 import { runRegistered } from '../support/run-command.js';
-import { copyFixture, FIXTURES, fixture, tempDir, writeCellBag } from './helpers.js';
+import { copyFixture, SKIP_FIXTURES, fixture, tempDir, writeCellBag } from './helpers.js';
 
 /** `antiphon <name> <args…>` in-process (`name` is `bag`), with stdout and stderr as `out` and `err`. */
 // Each run is a fresh command: warnings already given by an earlier run are given again.
@@ -17,7 +17,7 @@ async function run(name: string, ...args: string[]): Promise<{ code: number; out
   return { code: r.code, out: r.stdout, err: r.stderr };
 }
 
-describe.skipIf(!FIXTURES)('bag info / bag dump on the ROS 2 fixtures', () => {
+describe.skipIf(SKIP_FIXTURES)('bag info / bag dump on the ROS 2 fixtures', () => {
   it('info --json: storage, times, counts, topics with QoS', async () => {
     const r = await run('bag', 'info', fixture('mcap-talker'), '--json');
     expect(r.code).toBe(0);

@@ -1,7 +1,8 @@
 /**
  * Reading the real ROS 2 recordings (source: rosbag2 test resources, recorded by ROS 2; see
- * the fixtures' README.md). Skipped when the fixtures folder is missing (neither
- * $ANTIPHON_FIXTURES nor ../shared/fixtures/rosbag2 exists).
+ * the fixtures' README.md). When the fixtures folder is missing ($ANTIPHON_FIXTURES, else
+ * ../shared/fixtures/rosbag2; test/support/fixtures.ts) they are skipped locally with a
+ * message, and fail under CI=true.
  */
 import { McapIndexedReader } from '@mcap/core';
 import { FileHandleReadable } from '@mcap/nodejs';
@@ -14,7 +15,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parse as parseYaml } from 'yaml';
 import { bagDecoders, openBag, type Bag, type BagMessage } from '../../src/bag/index.js';
-import { FIXTURES, fixture } from './helpers.js';
+import { SKIP_FIXTURES, fixture } from './helpers.js';
 
 const BAGS = ['mcap-talker', 'sqlite3-talker', 'mcap-cdr_test', 'sqlite3-cdr_test'] as const;
 
@@ -28,7 +29,7 @@ function metadataOf(name: string): Record<string, unknown> {
   return doc['rosbag2_bagfile_information'] as Record<string, unknown>;
 }
 
-describe.skipIf(!FIXTURES)('rosbag2 fixtures', () => {
+describe.skipIf(SKIP_FIXTURES)('rosbag2 fixtures', () => {
   for (const name of BAGS) {
     it(`${name}: topics, types and counts match metadata.yaml`, async () => {
       const meta = metadataOf(name);

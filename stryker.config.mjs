@@ -1,0 +1,24 @@
+// Mutation testing of the safety-relevant core: `npm run mutate` (StrykerJS, vitest runner).
+// Not part of `npm test` (it takes tens of minutes); see DEVELOPERS.md, "Mutation testing".
+// One file or a few: `npm run mutate -- --mutate src/core/watchdog.ts,src/core/filter/wrench-filter.ts`
+/** @type {import('@stryker-mutator/api/core').PartialStrykerOptions} */
+export default {
+  packageManager: 'npm',
+  testRunner: 'vitest',
+  plugins: ['@stryker-mutator/vitest-runner'],
+  // Only the fast in-process suites (core, params, review, hardening, expectations).
+  vitest: { configFile: 'vitest.mutate.config.ts' },
+  mutate: ['src/core/**/*.ts', 'src/params/**/*.ts', 'src/replay/expect.ts'],
+  coverageAnalysis: 'perTest',
+  concurrency: 2,
+  // A mutant that loops for ever times out (counted as detected); keep the wait short.
+  timeoutMS: 5_000,
+  reporters: ['clear-text', 'progress', 'html', 'json'],
+  htmlReporter: { fileName: 'reports/mutation/mutation.html' },
+  jsonReporter: { fileName: 'reports/mutation/mutation.json' },
+  // Not copied into the sandbox: build output and reports (the tests run the TypeScript sources).
+  ignorePatterns: ['dist', 'out', 'bench/results', 'reports', 'test-output'],
+  tempDirName: '.stryker-tmp',
+  cleanTempDir: 'always',
+  thresholds: { high: 90, low: 80, break: null },
+};
