@@ -261,7 +261,7 @@ describe.each(SOURCES)('watchdog thresholds bracketed at the shipped values: %s'
     const f = new Feed(p);
     f.x.required[INPUT.zone_view] = 0;
     f.sample(0);
-    expect(f.sample(100, undefined, [0, 1, 2])).toBe(false);
+    expect(f.sample(100, undefined, [0, 1, 2, 4])).toBe(false);
     expect(f.wd.held).toBe(false);
     const g = new Feed(p);
     expect(g.sample(0, undefined, [0, 1, 2])).toBe(true);
