@@ -4,6 +4,7 @@
  * same record, summary and output bag, byte for byte.
  */
 import { openBag, type Bag, type MessageBatch, type TopicInfo } from '../bag/index.js';
+import type { QosProfile } from '../bag/types.js';
 import { bagDecoders, type DecoderOptions } from '../bag/decode.js';
 import { canonicalType } from '../bag/definitions.js';
 import { decodePoseStamped, decodeWrenchStamped, JointStateDecoder } from '../bag/fast.js';
@@ -13,7 +14,7 @@ import { CHECKS } from '../core/watchdog.js';
 import type { ArmConfig } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
 import { OutputEncoder } from '../ros/encode.js';
-import { INPUT_KINDS, INPUT_TYPES, inputTopic, OUTPUT_KINDS, OUTPUT_TYPES, outputTopic, type InputKind } from '../ros/topics.js';
+import { INPUT_KINDS, INPUT_TYPES, inputTopic, OUTPUT_BAG_QOS, OUTPUT_KINDS, OUTPUT_TYPES, outputTopic, type InputKind } from '../ros/topics.js';
 import { InputError, type Problem } from '../util/errors.js';
 import { warnOnce } from '../util/log.js';
 import { Column } from './series.js';
@@ -96,19 +97,20 @@ export interface ReplayOptions {
 
 /** Where replay outputs go: a bag writer, or nothing. Input messages are passed through too. */
 export interface OutputSink {
-  addTopic(name: string, type: string, definitionFrom?: TopicInfo): Promise<number>;
+  /** `qos`: the offered QoS to record (outputs: what the live node offers); inputs copy the source's. */
+  addTopic(name: string, type: string, definitionFrom?: TopicInfo, qos?: readonly QosProfile[]): Promise<number>;
   write(topic: number, logTimeNs: bigint, data: Uint8Array): void;
 }
 
 /** Adapts a bag writer (MCAP or sqlite3) to OutputSink, copying definitions of pass-through inputs from the source bag. */
 export function writerSink(writer: BagOutput, source: Bag): OutputSink {
   return {
-    async addTopic(name, type, from) {
+    async addTopic(name, type, from, qos) {
       const def = from ? source.definition(from.type) : undefined;
       return writer.addTopic({
         name,
         type,
-        ...(from ? { offeredQos: from.offeredQosText } : {}),
+        ...(qos ? { offeredQos: qos } : from ? { offeredQos: from.offeredQosText } : {}),
         ...(def && (def.encoding === 'ros2msg' || def.encoding === 'ros2idl') && def.text.trim() !== '' ? { definition: def.text, definitionEncoding: def.encoding } : {}),
       });
     },
@@ -303,7 +305,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
     for (let k = 0; k < topics.length; k++) {
       if (route[k]!.length > 0) passThrough.set(k, await sink.addTopic(topics[k]!.name, topics[k]!.type, topics[k]));
     }
-    for (const run of runs) for (const kind of OUTPUT_KINDS) run.outTopics.push(await sink.addTopic(outputTopic(run.arm, kind), OUTPUT_TYPES[kind]));
+    for (const run of runs) for (const kind of OUTPUT_KINDS) run.outTopics.push(await sink.addTopic(outputTopic(run.arm, kind), OUTPUT_TYPES[kind], undefined, OUTPUT_BAG_QOS[kind] as unknown as readonly QosProfile[]));
   }
 
   const wanted = [...new Set(runs.flatMap((r) => INPUT_KINDS.map((k) => r.topics[k]).filter((n): n is string => n !== null)))];
