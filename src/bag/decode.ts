@@ -7,7 +7,7 @@
  */
 import { MessageReader } from '@foxglove/rosmsg2-serialization';
 import { formatPlace, InputError, type Problem } from '../util/errors.js';
-import { canonicalType } from './definitions.js';
+import { canonicalType, checkElementSizes } from './definitions.js';
 import { DefinitionLibrary, howToSupply, type DefinitionSourceKind, type LibraryOptions, type Resolution } from './library.js';
 import type { Bag, DefinitionText } from './types.js';
 
@@ -95,6 +95,8 @@ export class MessageDecoders {
       return undefined;
     }
     try {
+      // Whatever path resolved the definition: no zero-size sequence elements, no self-containing types.
+      checkElementSizes(r.definitions);
       c.reader = new MessageReader(r.definitions);
     } catch (err) {
       c.error = `definition from ${r.origin} is not usable: ${(err as Error).message}`;

@@ -139,7 +139,7 @@ const PRIMITIVE_BYTES: Record<string, number> = {
  * count of 2^32-1 would decode forever), and types that contain themselves. A type without
  * data fields is one byte in CDR (ROS 2 adds a placeholder member), so it is fine.
  */
-function checkElementSizes(defs: readonly MessageDefinition[]): void {
+export function checkElementSizes(defs: readonly MessageDefinition[]): void {
   const byName = new Map(defs.map((d) => [d.name ?? '', d]));
   const size = new Map<string, number>();
   const visiting = new Set<string>();
