@@ -125,9 +125,18 @@ export function eigenvalues(M: Mat): { re: number; im: number }[] {
   if (n === 0) return [];
   for (const row of M) {
     if (row.length !== n) throw new Error(`eigenvalues of a non-square matrix (${n} rows, a row of ${row.length})`);
-    for (const x of row) if (!Number.isFinite(x)) throw new Error('eigenvalues of a matrix with an entry that is not a finite number');
+    for (const x of row) {
+      if (!Number.isFinite(x)) {
+        throw new DareError('dare.no_convergence', 'a matrix of the analysis has an entry that is not a finite number (the model diverges or its values are too large)', 'check A, B1, B2, Q and R: finite values of moderate size, and a model the team can stabilise');
+      }
+    }
   }
-  const evd = new EigenvalueDecomposition(new Matrix(M as number[][]));
+  let evd: EigenvalueDecomposition;
+  try {
+    evd = new EigenvalueDecomposition(new Matrix(M as number[][]));
+  } catch (err) {
+    throw new DareError('dare.no_convergence', `the eigenvalue decomposition failed on a ${n}×${n} matrix of the analysis (${(err as Error).message})`, 'check A, B1, B2, Q and R for extreme or degenerate values');
+  }
   const re = evd.realEigenvalues;
   const im = evd.imaginaryEigenvalues;
   return re.map((r, i) => ({ re: r, im: im[i]! }));

@@ -143,6 +143,14 @@ export function register(program: Command): void {
                 }
               : {}),
           });
+        } catch (err) {
+          // A model that defeats the numerics is bad input, not an internal error.
+          // (DareError by name: a static import would load mathjs at every start of the CLI.)
+          if (err instanceof Error && err.name === 'DareError') {
+            const e = err as Error & { code: string; hint: string };
+            throw new InputError({ code: `model.${e.code.slice(5)}`, message: e.message, where: { file }, hint: e.hint });
+          }
+          throw err;
         } finally {
           bar?.stop();
         }
