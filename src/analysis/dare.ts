@@ -57,15 +57,26 @@ const toArr = (m: math.MathType): Mat => {
 
 /** Solve S X = Y for X (S square, Y with any number of columns): one LU factorization, a solve per column. */
 export function solve(S: Mat, Y: Mat): Mat {
-  const lup = math.lup(S);
+  const singular = () => new DareError('dare.no_convergence', `a ${S.length}×${S.length} linear system of the analysis is singular`, 'check A, B1, B2, Q and R for degenerate values (a zero weight, a repeated row, an input that acts on nothing)');
+  let lup: ReturnType<typeof math.lup>;
+  try {
+    lup = math.lup(S);
+  } catch {
+    throw singular();
+  }
   const U = toArr(lup.U);
   for (let i = 0; i < U.length; i++) {
-    if (!(Math.abs(U[i]![i]!) > 0) || !Number.isFinite(U[i]![i]!)) throw new Error('singular matrix');
+    if (!(Math.abs(U[i]![i]!) > 0) || !Number.isFinite(U[i]![i]!)) throw singular();
   }
   const cols = Y[0]?.length ?? 0;
   const X: Mat = S.map(() => new Array<number>(cols).fill(0));
   for (let j = 0; j < cols; j++) {
-    const x = toArr(math.lusolve(lup, Y.map((row) => [row[j]!])) as unknown as Mat);
+    let x: Mat;
+    try {
+      x = toArr(math.lusolve(lup, Y.map((row) => [row[j]!])) as unknown as Mat);
+    } catch {
+      throw singular(); // a pivot too small for the back substitution
+    }
     x.forEach((v, i) => (X[i]![j] = v[0]!));
   }
   return X;

@@ -44,7 +44,7 @@ import { InputError, type Place, type Problem } from '../util/errors.js';
 import { INPUT_LIMITS, readInputText } from '../util/read-input.js';
 import { parseYamlDocument } from '../util/yaml.js';
 import { Rng } from '../util/rng.js';
-import { DareError, rank, solveDare, spectralRadius, type Mat } from './dare.js';
+import { DareError, rank, solve, solveDare, spectralRadius, type Mat } from './dare.js';
 import * as math from 'mathjs';
 
 export const DEFAULT_PERIODS: readonly number[] = [1, 2, 4, 8, 16];
@@ -224,7 +224,7 @@ export function buildTeam(model: LinearTeamModel, locate: Locator = plainLocator
       });
     } else {
       const Kt = math.transpose(Kown);
-      KownInv = toArr(math.multiply(math.inv(math.multiply(Kt, Kown) as Mat), Kt));
+      KownInv = solve(toArr(math.multiply(Kt, Kown) as Mat), toArr(Kt as unknown as Mat));
     }
     return { obs: obs.slice(), inputs: inputs[i], Bi: i === 0 ? model.B1 : model.B2, Krows, Kown, Kpart, KownInv } satisfies AgentBlocks;
   }) as unknown as [AgentBlocks, AgentBlocks];
@@ -314,7 +314,7 @@ export function biasOffset(team: LinearTeam, period: number, bias: number): numb
   }
   const Phi = monodromy(team, schedule);
   const IminusPhi = Phi.map((row, i) => row.map((v, j) => (i === j ? 1 : 0) - v));
-  const z = toArr(math.lusolve(IminusPhi, d.map((v) => [v])) as unknown as Mat).map((r) => r[0]!);
+  const z = solve(IminusPhi, d.map((v) => [v])).map((r) => r[0]!);
   return z.slice(0, team.n);
 }
 

@@ -120,7 +120,21 @@ export function register(program: Command): void {
         if (std !== undefined) noise = { std, bias: bias ?? std, runs: runs ?? 20, seed: seed ?? 1, commonKnowledge: ck ?? 'shared' };
         else if (bias !== undefined || runs !== undefined || seed !== undefined || ck !== undefined)
           log.warn('--noise-bias, --runs, --seed and --common-knowledge take effect only with --noise-std');
-        const team = loadLinearTeam(file);
+        const asInput = (err: unknown): unknown => {
+          // A model that defeats the numerics is bad input, not an internal error.
+          // (DareError by name: a static import would load mathjs at every start of the CLI.)
+          if (err instanceof Error && err.name === 'DareError') {
+            const e = err as Error & { code: string; hint: string };
+            return new InputError({ code: `model.${e.code.slice(5)}`, message: e.message, where: { file }, hint: e.hint });
+          }
+          return err;
+        };
+        let team: ReturnType<typeof loadLinearTeam>;
+        try {
+          team = loadLinearTeam(file);
+        } catch (err) {
+          throw asInput(err);
+        }
         log.debug({ file, states: team.n, periods: periods ?? team.model.periods }, 'analyzing');
         // A progress bar on a terminal (stderr), never with --json. The limits (MAX_STATES,
         // MAX_RUNS, MAX_SIMULATED_STEPS in src/analysis/linear-team.ts) are checked first.
@@ -144,13 +158,7 @@ export function register(program: Command): void {
               : {}),
           });
         } catch (err) {
-          // A model that defeats the numerics is bad input, not an internal error.
-          // (DareError by name: a static import would load mathjs at every start of the CLI.)
-          if (err instanceof Error && err.name === 'DareError') {
-            const e = err as Error & { code: string; hint: string };
-            throw new InputError({ code: `model.${e.code.slice(5)}`, message: e.message, where: { file }, hint: e.hint });
-          }
-          throw err;
+          throw asInput(err);
         } finally {
           bar?.stop();
         }
