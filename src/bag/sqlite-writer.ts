@@ -19,7 +19,7 @@ import { join } from 'node:path';
 import { InputError } from '../util/errors.js';
 import { canonicalType } from './definitions.js';
 import { INT64_MAX } from './metadata.js';
-import { prepareBagDir, publishBag, qosText, topicDefinition, writtenMetadataYaml, type BagOutput, type BagWriterOptions, type WriterTopic, type WrittenBag } from './writer.js';
+import { prepareBagDir, publishBag, writeTarget, qosText, topicDefinition, writtenMetadataYaml, type BagOutput, type BagWriterOptions, type WriterTopic, type WrittenBag } from './writer.js';
 
 /** The sqlite3 schema version written (see the file comment). */
 export const SQLITE_SCHEMA_VERSION = 4;
@@ -112,13 +112,7 @@ export class SqliteBagWriter implements BagOutput {
 
   write(topic: number | string, logTimeNs: bigint, data: Uint8Array): Promise<void> {
     this.#assertOpen();
-    const t = typeof topic === 'number' ? this.#topics[topic] : this.#byName.get(topic);
-    if (!t) {
-      throw new InputError({ code: 'bag.unknown_topic', message: `write to undeclared topic ${String(topic)}`, where: { topic: String(topic) } });
-    }
-    if (logTimeNs < 0n || logTimeNs > INT64_MAX) {
-      throw new InputError({ code: 'bag.bad_time', message: `log time ${logTimeNs} is outside 0 … 2^63-1 ns`, where: { topic: t.name } });
-    }
+    const t = writeTarget(topic, logTimeNs, this.#topics, this.#byName);
     // better-sqlite3 copies the bytes during the call: the caller may reuse its buffer.
     this.#insert.run(t.id, logTimeNs, Buffer.isBuffer(data) ? data : Buffer.from(data.buffer, data.byteOffset, data.byteLength));
     t.count++;

@@ -105,6 +105,18 @@ export function topicDefinition(t: WriterTopic, type: string, opts: BagWriterOpt
   });
 }
 
+/** The declared topic a write goes to, with its log time checked (bag.unknown_topic, bag.bad_time). */
+export function writeTarget<T extends { readonly name: string }>(topic: number | string, logTimeNs: bigint, topics: readonly T[], byName: ReadonlyMap<string, T>): T {
+  const t = typeof topic === 'number' ? topics[topic] : byName.get(topic);
+  if (!t) {
+    throw new InputError({ code: 'bag.unknown_topic', message: `write to undeclared topic ${String(topic)}`, where: { topic: String(topic) } });
+  }
+  if (logTimeNs < 0n || logTimeNs > INT64_MAX) {
+    throw new InputError({ code: 'bag.bad_time', message: `log time ${logTimeNs} is outside 0 … 2^63-1 ns`, where: { topic: t.name } });
+  }
+  return t;
+}
+
 /**
  * Set up the directory of a new bag: refuse an existing bag unless `overwrite`, create the
  * directory, and name the storage file (`<stem>_0.<ext>`) and its temporary twin.
@@ -282,13 +294,7 @@ export class BagWriter implements BagOutput {
   /** Append one serialized message. Calls are queued in order; awaiting each is optional. */
   write(topic: number | string, logTimeNs: bigint, data: Uint8Array, publishTimeNs: bigint = logTimeNs): Promise<void> {
     this.#assertOpen();
-    const t = typeof topic === 'number' ? this.#topics[topic] : this.#byName.get(topic);
-    if (!t) {
-      throw new InputError({ code: 'bag.unknown_topic', message: `write to undeclared topic ${String(topic)}`, where: { topic: String(topic) } });
-    }
-    if (logTimeNs < 0n || logTimeNs > INT64_MAX) {
-      throw new InputError({ code: 'bag.bad_time', message: `log time ${logTimeNs} is outside 0 … 2^63-1 ns`, where: { topic: t.name } });
-    }
+    const t = writeTarget(topic, logTimeNs, this.#topics, this.#byName);
     t.count++;
     this.#count++;
     if (this.#start === undefined || logTimeNs < this.#start) this.#start = logTimeNs;
