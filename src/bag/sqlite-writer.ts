@@ -18,7 +18,6 @@ import { rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { InputError } from '../util/errors.js';
 import { canonicalType } from './definitions.js';
-import { INT64_MAX } from './metadata.js';
 import { prepareBagDir, publishBag, writeTarget, qosText, topicDefinition, writtenMetadataYaml, type BagOutput, type BagWriterOptions, type WriterTopic, type WrittenBag } from './writer.js';
 
 /** The sqlite3 schema version written (see the file comment). */
