@@ -188,7 +188,10 @@ function q(s: string): string {
 
 /**
  * Write metadata.yaml in the version-5 layout (read by every distro from Humble on): QoS as an
- * embedded YAML string, `files` present, no custom_data / type hashes / ros_distro.
+ * embedded YAML string, `files` present, no custom_data / ros_distro. Each topic also carries its
+ * `type_description_hash` (RIHS01, '' when unknown), the key version 7 added: rosbag2's readers
+ * look a topic's keys up by name, so a reader of version 5 passes over it (from memory of the
+ * rosbag2 sources), while antiphon and readers that know the key read it.
  * Deterministic: the same metadata gives the same text.
  */
 export function formatMetadataYaml(m: Omit<BagMetadata, 'version' | 'customData' | 'rosDistro'>): string {
@@ -209,6 +212,7 @@ export function formatMetadataYaml(m: Omit<BagMetadata, 'version' | 'customData'
     L.push(`        type: ${q(t.type)}`);
     L.push(`        serialization_format: ${q(t.serializationFormat)}`);
     L.push(`        offered_qos_profiles: ${q(t.offeredQosText)}`);
+    L.push(`        type_description_hash: ${q(t.typeDescriptionHash)}`);
     L.push(`      message_count: ${t.messageCount}`);
   }
   L.push(`  compression_format: ${q(m.compressionFormat)}`);

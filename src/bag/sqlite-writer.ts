@@ -18,7 +18,7 @@ import { rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { InputError } from '../util/errors.js';
 import { canonicalType } from './definitions.js';
-import { prepareBagDir, publishBag, writeTarget, qosText, topicDefinition, writtenMetadataYaml, type BagOutput, type BagWriterOptions, type WriterTopic, type WrittenBag } from './writer.js';
+import { prepareBagDir, publishBag, writeTarget, qosText, topicDefinition, topicTypeHash, writtenMetadataYaml, type BagOutput, type BagWriterOptions, type WriterTopic, type WrittenBag } from './writer.js';
 
 /** The sqlite3 schema version written (see the file comment). */
 export const SQLITE_SCHEMA_VERSION = 4;
@@ -37,6 +37,7 @@ interface TopicState {
   readonly type: string;
   readonly serializationFormat: string;
   readonly qosText: string;
+  readonly typeHash: string;
   count: number;
 }
 
@@ -50,7 +51,8 @@ export class SqliteBagWriter implements BagOutput {
   readonly #insert: Database.Statement;
   readonly #topics: TopicState[] = [];
   readonly #byName = new Map<string, TopicState>();
-  readonly #types = new Set<string>();
+  /** The definition recorded for each type (message_definitions rows). */
+  readonly #types = new Map<string, { encoding: string; text: string } | undefined>();
   #count = 0;
   #start: bigint | undefined;
   #end: bigint | undefined;
@@ -91,19 +93,21 @@ export class SqliteBagWriter implements BagOutput {
       throw new InputError({ code: 'bag.topic_twice', message: `topic ${t.name} is declared twice`, where: { topic: t.name } });
     }
     const type = canonicalType(t.type);
-    if (!this.#types.has(type)) {
-      const def = topicDefinition(t, type, this.#opts);
+    const known = this.#types.has(type);
+    const def = known ? this.#types.get(type) : topicDefinition(t, type, this.#opts);
+    const hash = topicTypeHash(t, type, def);
+    if (!known) {
       this.#db
         .prepare('INSERT INTO message_definitions (topic_type, encoding, encoded_message_definition, type_description_hash) VALUES (?, ?, ?, ?)')
-        .run(type, def ? def.encoding : '', def?.text ?? '', '');
-      this.#types.add(type);
+        .run(type, def ? def.encoding : '', def?.text ?? '', hash);
+      this.#types.set(type, def);
     }
     const qos = qosText(t.offeredQos);
     const id = this.#topics.length + 1;
     this.#db
       .prepare('INSERT INTO topics (id, name, type, serialization_format, offered_qos_profiles, type_description_hash) VALUES (?, ?, ?, ?, ?, ?)')
-      .run(id, t.name, type, t.serializationFormat ?? 'cdr', qos, t.typeHash ?? '');
-    const state: TopicState = { id, name: t.name, type, serializationFormat: t.serializationFormat ?? 'cdr', qosText: qos, count: 0 };
+      .run(id, t.name, type, t.serializationFormat ?? 'cdr', qos, hash);
+    const state: TopicState = { id, name: t.name, type, serializationFormat: t.serializationFormat ?? 'cdr', qosText: qos, typeHash: hash, count: 0 };
     this.#topics.push(state);
     this.#byName.set(t.name, state);
     return this.#topics.length - 1;

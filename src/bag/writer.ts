@@ -10,9 +10,10 @@ import { closeSync, existsSync, mkdirSync, openSync, renameSync, rmSync, writeFi
 import { basename, join, resolve } from 'node:path';
 import { stringify as stringifyYaml } from 'yaml';
 import { InputError } from '../util/errors.js';
-import { logger } from '../util/log.js';
+import { logger, warnOnce } from '../util/log.js';
 import { builtinDefinition, canonicalType } from './definitions.js';
 import { formatMetadataYaml, INT64_MAX } from './metadata.js';
+import { RIHS01_PATTERN, typeHash } from './type-hash.js';
 import type { Bag, DefinitionText, QosProfile, ReadOptions, StorageId } from './types.js';
 import { zstdCompressor } from './zstd.js';
 
@@ -29,7 +30,7 @@ export interface WriterTopic {
   readonly definition?: string;
   /** Encoding of `definition` (default `ros2msg`). */
   readonly definitionEncoding?: string;
-  /** `RIHS01_<hex>` if known. */
+  /** `RIHS01_<hex>` as a source bag recorded it; computed from the definition when absent. */
   readonly typeHash?: string;
   /** Default `cdr`. */
   readonly serializationFormat?: string;
@@ -105,6 +106,34 @@ export function topicDefinition(t: WriterTopic, type: string, opts: BagWriterOpt
   });
 }
 
+/**
+ * The RIHS01 hash to record for a topic: the one given (copied from a source bag) when it is a
+ * well-formed RIHS01 string, else computed
+ * from the definition recorded for its type; '' (with one warning per type) when it cannot be
+ * computed, never a guess.
+ */
+export function topicTypeHash(t: WriterTopic, type: string, def: { encoding: string; text: string } | undefined): string {
+  if (t.typeHash !== undefined && RIHS01_PATTERN.test(t.typeHash)) return t.typeHash;
+  const r = typeHash(type, def?.text ?? '', def ? def.encoding : '');
+  let reason = r.ok ? undefined : r.reason;
+  if (r.ok && def) {
+    // A recorded text can be a stand-in (rosbag2 test bags carry placeholders): where antiphon
+    // ships the type too, both must give the same hash, or none is written.
+    const shipped = builtinDefinition(type);
+    if (shipped !== undefined && shipped !== def.text) {
+      const s = typeHash(type, shipped);
+      if (s.ok && s.hash !== r.hash) reason = 'the recorded definition differs from the standard one antiphon ships, so which hash is right is unknown';
+    }
+  }
+  if (r.ok && reason === undefined) return r.hash;
+  warnOnce('bag', {
+    code: 'bag.no_type_hash',
+    message: `no RIHS01 type hash for ${type}: ${reason}; type_description_hash is written empty`,
+    hint: 'a full ros2msg definition of the type and its nested types gives the hash',
+  });
+  return '';
+}
+
 /** The declared topic a write goes to, with its log time checked (bag.unknown_topic, bag.bad_time). */
 export function writeTarget<T extends { readonly name: string }>(topic: number | string, logTimeNs: bigint, topics: readonly T[], byName: ReadonlyMap<string, T>): T {
   const t = typeof topic === 'number' ? topics[topic] : byName.get(topic);
@@ -146,7 +175,7 @@ export function publishBag(tmp: string, file: string, metadataPath: string, yaml
 }
 
 /** metadata.yaml (rosbag2 version 5) of a written bag of one storage file. */
-export function writtenMetadataYaml(storage: StorageId, file: string, topics: readonly { name: string; type: string; serializationFormat: string; qosText: string; count: number }[], startNs: bigint | undefined, endNs: bigint | undefined, count: number): string {
+export function writtenMetadataYaml(storage: StorageId, file: string, topics: readonly { name: string; type: string; serializationFormat: string; qosText: string; typeHash: string; count: number }[], startNs: bigint | undefined, endNs: bigint | undefined, count: number): string {
   const start = startNs ?? INT64_MAX;
   const duration = startNs === undefined ? 0n : endNs! - startNs;
   const rel = basename(file);
@@ -161,7 +190,7 @@ export function writtenMetadataYaml(storage: StorageId, file: string, topics: re
       serializationFormat: t.serializationFormat,
       offeredQosText: t.qosText,
       offeredQos: [],
-      typeDescriptionHash: '',
+      typeDescriptionHash: t.typeHash,
       messageCount: t.count,
     })),
     compressionFormat: '',
@@ -198,6 +227,7 @@ interface TopicState {
   readonly type: string;
   readonly serializationFormat: string;
   readonly qosText: string;
+  readonly typeHash: string;
   readonly channelId: number;
   count: number;
 }
@@ -212,7 +242,7 @@ export class BagWriter implements BagOutput {
   readonly #fd: number;
   readonly #mcap: McapWriter;
   readonly #opts: BagWriterOptions;
-  readonly #schemas = new Map<string, number>();
+  readonly #schemas = new Map<string, { id: number; def: { encoding: string; text: string } | undefined }>();
   readonly #topics: TopicState[] = [];
   readonly #byName = new Map<string, TopicState>();
   #pending: Promise<unknown> = Promise.resolve();
@@ -266,26 +296,29 @@ export class BagWriter implements BagOutput {
       throw new InputError({ code: 'bag.topic_twice', message: `topic ${t.name} is declared twice`, where: { topic: t.name } });
     }
     const type = canonicalType(t.type);
-    let schemaId = this.#schemas.get(type);
-    if (schemaId === undefined) {
+    let schema = this.#schemas.get(type);
+    if (schema === undefined) {
       const def = topicDefinition(t, type, this.#opts);
-      schemaId = await this.#mcap.registerSchema({
+      const id = await this.#mcap.registerSchema({
         name: type,
         encoding: def ? def.encoding : '',
         data: new TextEncoder().encode(def?.text ?? ''),
       });
-      this.#schemas.set(type, schemaId);
+      schema = { id, def };
+      this.#schemas.set(type, schema);
     }
+    const schemaId = schema.id;
+    const hash = topicTypeHash(t, type, schema.def);
     const qos = qosText(t.offeredQos);
-    const metadata = new Map<string, string>([['offered_qos_profiles', qos]]);
-    if (t.typeHash) metadata.set('topic_type_hash', t.typeHash);
+    // As rosbag2 (Iron and later) writes a channel: the QoS and the type hash ('' when unknown).
+    const metadata = new Map<string, string>([['offered_qos_profiles', qos], ['topic_type_hash', hash]]);
     const channelId = await this.#mcap.registerChannel({
       topic: t.name,
       schemaId,
       messageEncoding: t.serializationFormat ?? 'cdr',
       metadata,
     });
-    const state: TopicState = { name: t.name, type, serializationFormat: t.serializationFormat ?? 'cdr', qosText: qos, channelId, count: 0 };
+    const state: TopicState = { name: t.name, type, serializationFormat: t.serializationFormat ?? 'cdr', qosText: qos, typeHash: hash, channelId, count: 0 };
     this.#topics.push(state);
     this.#byName.set(t.name, state);
     return this.#topics.length - 1;

@@ -1,0 +1,125 @@
+/**
+ * RIHS01 type hashes (src/bag/type-hash.ts) against hashes ROS 2 itself published.
+ *
+ * Reference hashes, each named beside its check:
+ * - ros2/ros2cli, ros2topic/test/test_cli.py (`STD_MSGS_STRING_TYPE_HASH_STR`, "can be found in
+ *   std_msgs/msg/String.json"): std_msgs/msg/String.
+ * - rosidl_generator_c output (the `*__description.c` files its `idl__description.c.em` writes for
+ *   a ROS 2 Kilted build), as committed in hpmicro/hpm_sdk under
+ *   middleware/microros/kilted/include/<pkg>/<pkg>/msg/detail/: builtin_interfaces/msg/Time
+ *   (time__description.c), geometry_msgs/msg/WrenchStamped and, in its expected-hash table,
+ *   geometry_msgs/msg/Vector3, geometry_msgs/msg/Wrench, std_msgs/msg/Header
+ *   (wrench_stamped__description.c), example_interfaces/msg/Empty (empty__description.c:
+ *   the placeholder member) and example_interfaces/msg/Char (char__description.c: `char` is
+ *   uint8).
+ * - ros2/rosidl, rosidl_generator_type_description/test/test_serializers.py: the field type ids
+ *   and capacities of an array of bounded strings, a bounded sequence of strings, a bounded
+ *   wstring.
+ *
+ * The `.msg` texts are the public ROS 2 interface definitions (comments left out; they do not
+ * enter the hash), written here from memory of common_interfaces / example_interfaces.
+ */
+import { describe, expect, it } from 'vitest';
+import { builtinDefinition } from '../../src/bag/definitions.js';
+import { canonicalTypeDescriptionJson, msgFields, typeHash } from '../../src/bag/type-hash.js';
+
+const SEP = '='.repeat(80);
+const text = (root: string, deps: Record<string, string> = {}): string =>
+  [root, ...Object.entries(deps).map(([k, v]) => `${SEP}\nMSG: ${k}\n${v}`)].join('\n');
+
+const TIME = 'int32 sec\nuint32 nanosec';
+const HEADER = 'builtin_interfaces/Time stamp\nstring frame_id';
+const VECTOR3 = 'float64 x\nfloat64 y\nfloat64 z';
+const WRENCH = 'Vector3  force\nVector3  torque';
+
+const hashOf = (type: string, t: string): string => {
+  const r = typeHash(type, t, 'ros2msg', { lookup: () => undefined });
+  if (!r.ok) throw new Error(r.reason);
+  return r.hash;
+};
+
+describe('RIHS01 against ROS 2 published hashes', () => {
+  it('std_msgs/msg/String (ros2/ros2cli ros2topic/test/test_cli.py)', () => {
+    expect(hashOf('std_msgs/msg/String', '# comment\nstring data')).toBe('RIHS01_df668c740482bbd48fb39d76a70dfd4bd59db1288021743503259e948f6b1a18');
+  });
+
+  it('builtin_interfaces/msg/Time (hpmicro/hpm_sdk …/builtin_interfaces/msg/detail/time__description.c)', () => {
+    expect(hashOf('builtin_interfaces/msg/Time', TIME)).toBe('RIHS01_b106235e25a4c5ed35098aa0a61a3ee9c9b18d197f398b0e4206cea9acf9c197');
+  });
+
+  it('geometry_msgs/msg/Vector3, Wrench, std_msgs/msg/Header (hpmicro/hpm_sdk …/geometry_msgs/msg/detail/wrench_stamped__description.c)', () => {
+    expect(hashOf('geometry_msgs/msg/Vector3', VECTOR3)).toBe('RIHS01_cc12fe83e4c02719f1ce8070bfd14aecd40f75a96696a67a2a1f37f7dbb0765d');
+    expect(hashOf('geometry_msgs/msg/Wrench', text(WRENCH, { 'geometry_msgs/Vector3': VECTOR3 }))).toBe(
+      'RIHS01_018e8519d57c16adbe97c9fe1460ef21fec7e31bc541de3d653a35895677ce52',
+    );
+    expect(hashOf('std_msgs/msg/Header', text(HEADER, { 'builtin_interfaces/Time': TIME }))).toBe(
+      'RIHS01_f49fb3ae2cf070f793645ff749683ac6b06203e41c891e17701b1cb597ce6a01',
+    );
+  });
+
+  it('geometry_msgs/msg/WrenchStamped: nested types sorted, Header resolved (hpmicro/hpm_sdk …/wrench_stamped__description.c)', () => {
+    const expected = 'RIHS01_8dc3deaf06b2ab281f9f9a742a8961c328ca7cec16e3fd6586d3a5c83fa78f77';
+    const full = text('std_msgs/Header header\nWrench wrench', {
+      'std_msgs/Header': HEADER,
+      'builtin_interfaces/Time': TIME,
+      'geometry_msgs/Wrench': WRENCH,
+      'geometry_msgs/msg/Vector3': VECTOR3,
+    });
+    expect(hashOf('geometry_msgs/msg/WrenchStamped', full)).toBe(expected);
+    // The same from the shipped definitions (the writers' default path).
+    const shipped = builtinDefinition('geometry_msgs/msg/WrenchStamped');
+    expect(shipped).toBeDefined();
+    expect(typeHash('geometry_msgs/msg/WrenchStamped', shipped!)).toEqual({ ok: true, hash: expected });
+  });
+
+  it('example_interfaces/msg/Empty and Char (hpmicro/hpm_sdk …/example_interfaces/msg/detail/empty__description.c, char__description.c)', () => {
+    expect(hashOf('example_interfaces/msg/Empty', '# only comments\n')).toBe('RIHS01_73c22a7341eeccf8ef504a991e60d4078223f0931a5d5d212800e7c978903c58');
+    expect(hashOf('example_interfaces/msg/Char', 'char data')).toBe('RIHS01_320dcd57e1183fb08463cc3ab50bf7e5ce0ecee39f64d15a9e9eeca3384c91a5');
+  });
+});
+
+describe('field type serialization (ros2/rosidl rosidl_generator_type_description/test/test_serializers.py)', () => {
+  it('array of bounded strings, bounded sequence of strings, bounded wstring, nested sequence', () => {
+    const f = msgFields('my_pkg/msg/TestThing', 'string<=12[22] a\nstring[<=32] b\nwstring<=12 c\nother_pkg/RefThing ref_thing\nother_pkg/RefThing[] ref_things');
+    expect(f[0]).toEqual({ name: 'a', typeId: 69, capacity: 22, stringCapacity: 12, nestedTypeName: '' });
+    expect(f[1]).toEqual({ name: 'b', typeId: 113, capacity: 32, stringCapacity: 0, nestedTypeName: '' });
+    expect(f[2]).toEqual({ name: 'c', typeId: 22, capacity: 0, stringCapacity: 12, nestedTypeName: '' });
+    expect(f[3]).toEqual({ name: 'ref_thing', typeId: 1, capacity: 0, stringCapacity: 0, nestedTypeName: 'other_pkg/msg/RefThing' });
+    expect(f[4]).toEqual({ name: 'ref_things', typeId: 145, capacity: 0, stringCapacity: 0, nestedTypeName: 'other_pkg/msg/RefThing' });
+  });
+});
+
+describe('our own rules (tests of our behaviour)', () => {
+  it('constants and default values are not part of the hash; byte is an octet, not a uint8', () => {
+    const plain = hashOf('a_pkg/msg/T', 'int32 x\nstring s');
+    expect(hashOf('a_pkg/msg/T', 'int32 K=3\nint32 x 7\nstring J = "no"\nstring s "with # hash"')).toBe(plain);
+    expect(hashOf('a_pkg/msg/B', 'byte b')).not.toBe(hashOf('a_pkg/msg/B', 'uint8 b'));
+    expect(msgFields('a_pkg/msg/B', 'byte b')[0]!.typeId).toBe(16);
+  });
+
+  it('the canonical JSON has rosidl key order and separators', () => {
+    const types = new Map([['std_msgs/msg/String', { typeName: 'std_msgs/msg/String', fields: msgFields('std_msgs/msg/String', 'string data') }]]);
+    expect(canonicalTypeDescriptionJson('std_msgs/msg/String', types)).toBe(
+      '{"type_description": {"type_name": "std_msgs/msg/String", "fields": [{"name": "data", "type": {"type_id": 17, "capacity": 0, "string_capacity": 0, "nested_type_name": ""}}]}, "referenced_type_descriptions": []}',
+    );
+  });
+
+  it('no hash (never a wrong one) when a definition is missing, IDL, or not a message', () => {
+    const missing = typeHash('a_pkg/msg/T', 'b_pkg/Unknown u', 'ros2msg', { lookup: () => undefined });
+    expect(missing.ok).toBe(false);
+    expect(!missing.ok && missing.reason).toMatch(/b_pkg\/msg\/Unknown/);
+    expect(typeHash('a_pkg/msg/T', 'module a_pkg { };', 'ros2idl').ok).toBe(false);
+    expect(typeHash('a_pkg/msg/T', '', '').ok).toBe(false);
+    expect(typeHash('a_pkg/srv/S_Request', 'int32 a').ok).toBe(false);
+    expect(typeHash('a_pkg/msg/T', 'int32 x y z w').ok).toBe(false);
+  });
+
+  it('every shipped message type gets a hash', () => {
+    for (const t of ['antiphon/msg/Belief', 'antiphon/msg/RoleState', 'antiphon/msg/WatchdogStatus', 'antiphon/msg/WatchdogTrip', 'antiphon/msg/ZoneView', 'geometry_msgs/msg/TwistStamped', 'sensor_msgs/msg/JointState']) {
+      const d = builtinDefinition(t);
+      expect(d, t).toBeDefined();
+      const r = typeHash(t, d!);
+      expect(r.ok ? r.hash : r.reason, t).toMatch(/^RIHS01_[0-9a-f]{64}$/);
+    }
+  });
+});
