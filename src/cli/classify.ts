@@ -1,4 +1,4 @@
-/** `antiphon classify --csv <file>`: label each wrench sample quiet, correction or impact. */
+/** `antiphon classify --csv <file>`: label each wrench sample quiet, correction, impact or untared (before the tare). */
 import type { Command } from 'commander';
 import { classifyWrench, LABELS } from '../core/classify.js';
 import type { WrenchFilterConfig } from '../core/filter/index.js';
@@ -11,7 +11,7 @@ import { numberOption, printJson, printText, runCommand } from './common.js';
 export function register(program: Command): void {
   program
     .command('classify')
-    .description('Run the wrench filter over a CSV of timestamped wrench samples and label each sample quiet, correction or impact.')
+    .description('Run the wrench filter over a CSV of timestamped wrench samples and label each sample quiet, correction, impact, or untared (before the start-up tare).')
     .requiredOption('--csv <file>', 'samples with header t,fx,fy,fz,tx,ty,tz (t in s; comma, tab or whitespace separated)')
     .option('--params <file>', 'ROS 2 parameters file (wrench_filter.* is used)')
     .option('--arm <arm>', 'which section of the parameters file: left or right', 'left')
@@ -47,7 +47,7 @@ export function register(program: Command): void {
         if (holes.count > holes.gaps.length) warnings.push({ code: 'csv.gap', message: `${holes.count - holes.gaps.length} more gaps`, where: { file: opts.csv } });
         if (!opts.json) for (const w of warnings) process.stderr.write(`antiphon: warning: ${formatProblem(w)}\n`);
         const r = classifyWrench(table.t, table.wrench, wf, config.wrench_filter.correction_force_n, config.wrench_filter.correction_torque_nm);
-        const counts = { quiet: 0, correction: 0, impact: 0 };
+        const counts = { quiet: 0, correction: 0, impact: 0, untared: 0 };
         for (const l of r.labels) counts[LABELS[l]!]++;
         if (opts.json) {
           printJson({
@@ -70,7 +70,7 @@ export function register(program: Command): void {
           for (let k = 0; k < table.samples; k++) out.push(`${table.t[k]}\t${LABELS[r.labels[k]!]}\t${r.scores[k]!.toFixed(3)}`);
         }
         out.push(`# ${table.samples} samples at ${rate.toFixed(1)} Hz (${rateOpt === undefined ? 'estimated from t' : '--rate'}); tared at ${r.tared_at_s === null ? 'never (no still window)' : r.tared_at_s.toFixed(3) + ' s'}`);
-        out.push(`# quiet ${counts.quiet}, correction ${counts.correction}, impact ${counts.impact}`);
+        out.push(`# quiet ${counts.quiet}, correction ${counts.correction}, impact ${counts.impact}, untared ${counts.untared} (before the tare)`);
         if (holes.count) out.push(`# ${holes.count} gap${holes.count === 1 ? '' : 's'} longer than ${GAP_PERIODS} sample periods (see the warnings)`);
         for (const i of r.impacts) out.push(`# impact ${i.start_s.toFixed(3)}-${i.end_s.toFixed(3)} s, peak score ${i.peak_score.toFixed(2)}`);
         printText(out.join('\n'));

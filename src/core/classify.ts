@@ -1,11 +1,15 @@
 /**
- * Labelling a wrench log sample by sample: `impact` while the impact flag is up,
- * `correction` while the correction band carries a force or torque above its level,
- * `quiet` otherwise. Uses exactly the wrench filter of the arm step.
+ * Labelling a wrench log sample by sample: `untared` until the filter's start-up tare has
+ * completed (before it, the correction band still carries the sensor bias and the payload weight,
+ * so it says nothing about the partner), then `impact` while the impact flag is up,
+ * `correction` while the correction band carries a force or torque above its level, `quiet`
+ * otherwise. Uses exactly the wrench filter of the arm step. Impacts are listed from the tare on.
  */
 import { WrenchFilter, type WrenchFilterConfig } from './filter/index.js';
 
-export const LABELS = ['quiet', 'correction', 'impact'] as const;
+/** Indices are stable: `untared` was added last. */
+export const LABELS = ['quiet', 'correction', 'impact', 'untared'] as const;
+export const LABEL_UNTARED = 3;
 export type Label = (typeof LABELS)[number];
 
 export interface ClassifyResult {
@@ -36,7 +40,9 @@ export function classifyWrench(
     if (taredAt === null && f.tared) taredAt = t[k]!;
     scores[k] = f.impactScore;
     const c = f.correction;
-    if (f.impactFlag) {
+    if (taredAt === null) {
+      labels[k] = LABEL_UNTARED;
+    } else if (f.impactFlag) {
       labels[k] = 2;
       if (!open) {
         open = { start_s: t[k]!, end_s: t[k]!, peak_score: f.impactScore };

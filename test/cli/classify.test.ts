@@ -27,7 +27,7 @@ interface ClassifyJson {
   rate_source: string;
   samples: number;
   tared_at_s: number | null;
-  counts: { quiet: number; correction: number; impact: number };
+  counts: { quiet: number; correction: number; impact: number; untared: number };
   labels: string[];
   scores: number[];
   impacts: { start_s: number; end_s: number; peak_score: number }[];
@@ -54,8 +54,8 @@ describe('classify: the example log', () => {
     expect(j.samples).toBe(8000);
     expect(j.labels).toHaveLength(8000);
     expect(j.scores).toHaveLength(8000);
-    expect(new Set(j.labels)).toEqual(new Set(['quiet', 'correction', 'impact']));
-    expect(j.counts.quiet + j.counts.correction + j.counts.impact).toBe(8000);
+    expect(new Set(j.labels)).toEqual(new Set(['untared', 'quiet', 'correction', 'impact']));
+    expect(j.counts.quiet + j.counts.correction + j.counts.impact + j.counts.untared).toBe(8000);
     expect(j.impacts).toHaveLength(1);
     const [imp] = j.impacts;
     expect(imp!.start_s).toBeGreaterThanOrEqual(5.8);
@@ -106,7 +106,7 @@ describe('classify: the example log', () => {
     expect(r.code).toBe(0);
     const lines = r.stdout.trimEnd().split('\n');
     expect(lines[0]).toBe('t_s\tlabel\timpact_score');
-    expect(lines[1]).toMatch(/^0\t(quiet|correction|impact)\t\d+\.\d{3}$/);
+    expect(lines[1]).toMatch(/^0\tuntared\t\d+\.\d{3}$/); // the first sample is always before the tare
     expect(lines.filter((l) => !l.startsWith('#'))).toHaveLength(8001);
     const s = await run(['--csv', EXAMPLE, '--summary']);
     expect(s.code).toBe(0);
@@ -115,6 +115,33 @@ describe('classify: the example log', () => {
     expect(summary[0]).toMatch(/^# 8000 samples at 1000\.0 Hz \(estimated from t\); tared at 0\.\d{3} s$/);
     expect(summary).toHaveLength(3);
     expect(summary[2]).toMatch(/^# impact 5\.8\d\d-5\.\d{3} s, peak score \d+\.\d\d$/);
+  });
+});
+
+describe('classify: samples before the tare', () => {
+  it('are labelled untared, not correction, though they carry a bias above the correction level; the rest never is', async () => {
+    // own signal: 2 s at 1 kHz, still, with a 3 N sensor bias across (above the 2 N
+    // default correction level, src/params/schema.ts); before the start-up tare the correction band carries the bias itself
+    const rows = ['t,fx,fy,fz,tx,ty,tz'];
+    for (let k = 0; k < 2000; k++) rows.push([(k / 1000).toFixed(3), '3', '0.1', '-11.77', '0', '0', '0'].join(','));
+    const j = await classifyJson(['--csv', write(rows.join('\n'))]);
+    expect(j.tared_at_s).not.toBeNull();
+    const first = Math.round(j.tared_at_s! * 1000); // the sample at which the tare completed
+    expect(first).toBeGreaterThan(0);
+    expect(j.counts.untared).toBe(first);
+    expect(j.labels.slice(0, first).every((l) => l === 'untared')).toBe(true);
+    expect(j.labels.slice(first).includes('untared')).toBe(false);
+    expect(j.counts.correction).toBe(0);
+    expect(j.labels[1999]).toBe('quiet');
+  });
+
+  it('the example log: untared exactly until tared_at_s, and the summary counts them', async () => {
+    const j = await classifyJson(['--csv', EXAMPLE, '--params', DEMO]);
+    const first = Math.round(j.tared_at_s! * 1000);
+    expect(j.labels.indexOf('untared')).toBe(0);
+    expect(j.labels.lastIndexOf('untared')).toBe(first - 1);
+    const s = await run(['--csv', EXAMPLE, '--params', DEMO, '--summary']);
+    expect(s.stdout).toContain(`untared ${first} (before the tare)`);
   });
 });
 
