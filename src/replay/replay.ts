@@ -155,6 +155,37 @@ interface ArmRun {
 
 const STATUS_PERIOD_S = 0.1;
 
+/**
+ * Every remap must do something: its `from` is an input topic of an arm (either arm, so one list
+ * of remaps serves both), and its `to` a topic the bag has. A remap that matches nothing is bad
+ * input (all such remaps at once), never silently ignored.
+ */
+export function checkRemaps(bag: Bag, remap: ReadonlyMap<string, string>): void {
+  const bagTopics = new Set(bag.topics().map((t) => t.name));
+  const inputs: string[] = [];
+  for (const arm of ['left', 'right'] as const) for (const kind of INPUT_KINDS) inputs.push(inputTopic(arm, kind));
+  const problems: Problem[] = [];
+  for (const [from, to] of remap) {
+    if (!inputs.includes(from)) {
+      problems.push({
+        code: 'replay.remap_unknown_input',
+        message: `--remap ${from}:=${to}: ${from} is no input topic of antiphon`,
+        where: { option: '--remap', topic: from },
+        hint: `the left side names an input: ${inputs.join(', ')}`,
+      });
+    }
+    if (!bagTopics.has(to)) {
+      problems.push({
+        code: 'replay.remap_no_such_topic',
+        message: `--remap ${from}:=${to}: the bag has no topic ${to}`,
+        where: { file: bag.path, option: '--remap', topic: to },
+        hint: `the bag has ${[...bagTopics].join(', ') || 'no topics'}`,
+      });
+    }
+  }
+  if (problems.length > 0) throw new InputError(problems);
+}
+
 /** Resolve and check the input topics of each arm; missing optional inputs are warnings. */
 function resolveTopics(bag: Bag, arm: ArmName, remap: ReadonlyMap<string, string>, warnings: Problem[]): Record<InputKind, string | null> {
   const byName = new Map(bag.topics().map((t) => [t.name, t]));
@@ -239,6 +270,7 @@ function checkWrenchTiming(t: Float64Array, rateHz: number, file: string, topic:
 export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRecord> {
   const warnings: Problem[] = [];
   const remap = opts.remap ?? new Map<string, string>();
+  checkRemaps(bag, remap);
   const topics = bag.topics();
   const topicIndex = new Map(topics.map((t, k) => [t.name, k]));
   const decoders = bagDecoders(bag, opts.definitions ? { definitions: opts.definitions } : {});
