@@ -14,8 +14,9 @@
  * constants are not members, `[N]` is an array of capacity N, `[<=N]` a bounded sequence of
  * capacity N, `string<=N` a bounded string of string capacity N.
  *
- * Only `ros2msg` texts of `pkg/msg/*` types are hashed (the `.msg` spelling keeps `byte` apart
- * from `uint8`, which the parsed definitions do not). Anything else, or a nested type whose
+ * Only `ros2msg` texts are hashed (the `.msg` spelling keeps `byte` apart from `uint8`, which
+ * the parsed definitions do not), of `pkg/msg/*` types and of a service's `_Request`, `_Response`
+ * and `_Event` (from the `.srv` text rosbag2 records for service events). Anything else, or a nested type whose
  * definition is missing, gives no hash: a wrong hash would be worse than none.
  */
 import { createHash } from 'node:crypto';
@@ -68,6 +69,7 @@ export type TypeHashResult = { readonly ok: true; readonly hash: string } | { re
 
 const IDENT = /^[A-Za-z][A-Za-z0-9_]*$/;
 const TYPE_NAME = /^[A-Za-z][A-Za-z0-9_]*\/msg\/[A-Za-z][A-Za-z0-9_]*$/;
+const SERVICE_PART = /^([A-Za-z][A-Za-z0-9_]*)\/srv\/([A-Za-z][A-Za-z0-9_]*)_(Request|Response|Event)$/;
 
 class HashInputError extends Error {}
 
@@ -207,7 +209,8 @@ export interface TypeHashOptions {
  */
 export function typeHash(type: string, text: string, encoding = 'ros2msg', opts: TypeHashOptions = {}): TypeHashResult {
   const root = canonicalType(type);
-  if (!TYPE_NAME.test(root)) return { ok: false, reason: `${root} is not a message type (pkg/msg/Type); only messages are hashed` };
+  const service = SERVICE_PART.exec(root);
+  if (!TYPE_NAME.test(root) && !service) return { ok: false, reason: `${root} is neither a message type (pkg/msg/Type) nor a service's request, response or event; only those are hashed` };
   if (encoding === '') return { ok: false, reason: 'no definition is recorded for it' };
   if (encoding !== 'ros2msg') return { ok: false, reason: `its definition is '${encoding}'; only ros2msg definitions are hashed` };
   const lookup = opts.lookup ?? builtinText;
@@ -220,6 +223,24 @@ export function typeHash(type: string, text: string, encoding = 'ros2msg', opts:
       if (!texts.has(name)) texts.set(name, b.text);
     }
     const types = new Map<string, HashTypeDescription>();
+    if (service) {
+      // A service's `.srv` text (request, `---`, response); the event type is rosidl's:
+      // info, request[<=1], response[<=1].
+      const parts = (texts.get(root) ?? '').split(/^---[ \t]*\r?$/m);
+      if (parts.length !== 2) throw new HashInputError(`the definition of ${root} is no service text (request, ---, response)`);
+      const base = `${service[1]}/srv/${service[2]}`;
+      types.set(`${base}_Request`, { typeName: `${base}_Request`, fields: checkedFields(`${base}_Request`, parts[0]!) });
+      types.set(`${base}_Response`, { typeName: `${base}_Response`, fields: checkedFields(`${base}_Response`, parts[1]!) });
+      const part = (name: string, nested: string, typeId: number, capacity: number): HashField => ({ name, typeId, capacity, stringCapacity: 0, nestedTypeName: nested });
+      types.set(`${base}_Event`, {
+        typeName: `${base}_Event`,
+        fields: [
+          part('info', 'service_msgs/msg/ServiceEventInfo', NESTED_ID, 0),
+          part('request', `${base}_Request`, NESTED_ID + BOUNDED_SEQUENCE_OFFSET, 1),
+          part('response', `${base}_Response`, NESTED_ID + BOUNDED_SEQUENCE_OFFSET, 1),
+        ],
+      });
+    }
     const visit = (name: string): void => {
       if (types.has(name)) return;
       const t = texts.get(name) ?? lookup(name);
@@ -228,7 +249,11 @@ export function typeHash(type: string, text: string, encoding = 'ros2msg', opts:
       types.set(name, d);
       for (const f of d.fields) if (f.nestedTypeName !== '') visit(f.nestedTypeName);
     };
-    visit(root);
+    if (service) {
+      for (const d of [...types.values()]) for (const f of d.fields) if (f.nestedTypeName !== '') visit(f.nestedTypeName);
+    } else {
+      visit(root);
+    }
     for (const name of types.keys()) if (!IDENT.test(name.split('/')[2]!)) throw new HashInputError(`bad type name ${name}`);
     return { ok: true, hash: rihs01(canonicalTypeDescriptionJson(root, types)) };
   } catch (err) {

@@ -78,6 +78,33 @@ describe('RIHS01 against ROS 2 published hashes', () => {
   });
 });
 
+describe('byte, char arrays and services against ROS 2 published hashes', () => {
+  it('diagnostic_msgs/msg/DiagnosticArray, DiagnosticStatus (byte level), KeyValue (hpmicro/hpm_sdk …/diagnostic_msgs/msg/detail/diagnostic_array__description.c)', () => {
+    const KEY_VALUE = 'string key\nstring value';
+    const STATUS = 'byte OK=0\nbyte WARN=1\nbyte ERROR=2\nbyte STALE=3\nbyte level\nstring name\nstring message\nstring hardware_id\nKeyValue[] values';
+    expect(hashOf('diagnostic_msgs/msg/KeyValue', KEY_VALUE)).toBe('RIHS01_d68081eaa540288c5440753baecef0c4e16e81a5f78ad68902ded5100413bb42');
+    expect(hashOf('diagnostic_msgs/msg/DiagnosticStatus', text(STATUS, { 'diagnostic_msgs/KeyValue': KEY_VALUE }))).toBe(
+      'RIHS01_b0e3e692ea2d54a8af2f4ef1930e81556a2db55216b771f8a7d2724ed47bf0e4',
+    );
+    const array = 'RIHS01_5a8a36efb05fb25070fa0fb3810290c0e6cd4862b54a8fb975a1ee8dc55a333e';
+    expect(hashOf('diagnostic_msgs/msg/DiagnosticArray', text('std_msgs/Header header # for timestamp\nDiagnosticStatus[] status', {
+      'std_msgs/Header': HEADER, 'builtin_interfaces/Time': TIME, 'diagnostic_msgs/DiagnosticStatus': STATUS, 'diagnostic_msgs/KeyValue': KEY_VALUE,
+    }))).toBe(array);
+    expect(typeHash('diagnostic_msgs/msg/DiagnosticArray', builtinDefinition('diagnostic_msgs/msg/DiagnosticArray')!)).toEqual({ ok: true, hash: array });
+  });
+
+  it('example_interfaces/srv/AddTwoInts_Request, _Response, _Event and service_msgs/msg/ServiceEventInfo (char[16], bounded sequences; hpmicro/hpm_sdk …/example_interfaces/srv/detail/add_two_ints__description.c)', () => {
+    const INFO = 'uint8 REQUEST_SENT = 0\nuint8 REQUEST_RECEIVED = 1\nuint8 RESPONSE_SENT = 2\nuint8 RESPONSE_RECEIVED = 3\nuint8 event_type\nbuiltin_interfaces/Time stamp\nchar[16] client_gid\nint64 sequence_number';
+    expect(hashOf('service_msgs/msg/ServiceEventInfo', text(INFO, { 'builtin_interfaces/Time': TIME }))).toBe('RIHS01_41bcbbe07a75c9b52bc96bfd5c24d7f0fc0a08c0cb7921b3373c5732345a6f45');
+    const srv = text('int64 a\nint64 b\n---\nint64 sum', { 'service_msgs/ServiceEventInfo': INFO, 'builtin_interfaces/Time': TIME });
+    expect(hashOf('example_interfaces/srv/AddTwoInts_Request', srv)).toBe('RIHS01_000c5fd92d6b2e1a05949348f584d6d652adea1e92d691792011ac2273508302');
+    expect(hashOf('example_interfaces/srv/AddTwoInts_Response', srv)).toBe('RIHS01_de5c030d4af33cba2749310b249737b631594703f9300495f48bffb2b44dcc2f');
+    expect(hashOf('example_interfaces/srv/AddTwoInts_Event', srv)).toBe('RIHS01_32c1d140259c71e5c355115942bcb31df98b4330e4d906b1b75ccb1c9b3ce6c8');
+    // The shipped ServiceEventInfo fills in a .srv text that carries no dependency blocks.
+    expect(typeHash('example_interfaces/srv/AddTwoInts_Event', 'int64 a\nint64 b\n---\nint64 sum')).toEqual({ ok: true, hash: 'RIHS01_32c1d140259c71e5c355115942bcb31df98b4330e4d906b1b75ccb1c9b3ce6c8' });
+  });
+});
+
 describe('field type serialization (ros2/rosidl rosidl_generator_type_description/test/test_serializers.py)', () => {
   it('array of bounded strings, bounded sequence of strings, bounded wstring, nested sequence', () => {
     const f = msgFields('my_pkg/msg/TestThing', 'string<=12[22] a\nstring[<=32] b\nwstring<=12 c\nother_pkg/RefThing ref_thing\nother_pkg/RefThing[] ref_things');
