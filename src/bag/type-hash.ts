@@ -108,7 +108,7 @@ export function msgFields(typeName: string, text: string): HashField[] {
     let valueId: number;
     let nested = '';
     let stringCapacity = 0;
-    if (base in PRIMITIVE_IDS) {
+    if (Object.hasOwn(PRIMITIVE_IDS, base)) {
       valueId = PRIMITIVE_IDS[base]!;
       if (stringBound !== undefined) {
         if (base === 'string') valueId = BOUNDED_STRING_ID;

@@ -139,6 +139,7 @@ describe('our own rules (tests of our behaviour)', () => {
     expect(typeHash('a_pkg/msg/T', '', '').ok).toBe(false);
     expect(typeHash('a_pkg/srv/S_Request', 'int32 a').ok).toBe(false);
     expect(typeHash('a_pkg/msg/T', 'int32 x y z w').ok).toBe(false);
+    expect(typeHash('a_pkg/msg/T', 'constructor x', 'ros2msg', { lookup: () => undefined }).ok).toBe(false); // no prototype names as primitives
   });
 
   it('every shipped message type gets a hash (the outputs never write an empty one)', () => {
