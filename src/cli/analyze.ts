@@ -5,7 +5,7 @@
  * Exit 0 when every expectation in the model file holds, 1 when one fails, 2 on bad input.
  */
 import type { Command } from 'commander';
-import cliProgress from 'cli-progress';
+import { progressBar } from './progress.js';
 // The analysis (and mathjs, about a second to load) is imported only when the command runs.
 import type { NoiseOptions, TeamReport } from '../analysis/linear-team.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
@@ -138,8 +138,7 @@ export function register(program: Command): void {
         log.debug({ file, states: team.n, periods: periods ?? team.model.periods }, 'analyzing');
         // A progress bar on a terminal (stderr), never with --json. The limits (MAX_STATES,
         // MAX_RUNS, MAX_SIMULATED_STEPS in src/analysis/linear-team.ts) are checked first.
-        const showBar = !json && process.stderr.isTTY === true && !process.env['CI'];
-        const bar = showBar ? new cliProgress.SingleBar({ stream: process.stderr, hideCursor: true, format: 'analyze [{bar}] {percentage}% | {eta}s left' }, cliProgress.Presets.shades_classic) : undefined;
+        const bar = progressBar('analyze', json);
         let report: TeamReport;
         let started = false;
         try {

@@ -1,6 +1,6 @@
 /** `antiphon compare`: every strategy on N randomized worlds; success rate with Wilson 95 % intervals. */
 import type { Command } from 'commander';
-import cliProgress from 'cli-progress';
+import { progressBar } from './progress.js';
 import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
 import { parseStrategyList } from '../sim/strategies.js';
@@ -88,8 +88,7 @@ export function register(program: Command): void {
         const cell = loadCell(opts.params);
         const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
-        const showBar = !opts.json && process.stderr.isTTY === true;
-        const bar = showBar ? new cliProgress.SingleBar({ stream: process.stderr, hideCursor: true }, cliProgress.Presets.shades_classic) : null;
+        const bar = progressBar('compare', !!opts.json);
         bar?.start(worlds * strategies.length, 0);
         let result: CompareResult;
         try {

@@ -1,7 +1,9 @@
 /** `antiphon replay <bag>`: what antiphon would have done on a recorded run, with these parameters. */
 import { join } from 'node:path';
 import type { Command } from 'commander';
-import cliProgress from 'cli-progress';
+import { progressBar } from './progress.js';
+import type { ArmSummary } from '../replay/summary.js';
+import { changedParams } from '../params/diff.js';
 import { openBag } from '../bag/index.js';
 import { loadDefinitionSources } from '../bag/definition-sources.js';
 import { createBagWriter, storageOption } from '../bag/writer.js';
@@ -73,8 +75,7 @@ export function register(program: Command): void {
         const definitions = await loadDefinitionSources(opts.definitions);
         const bag = await openBag(bagPath);
         try {
-          const showBar = process.stdout.isTTY && !opts.json && !process.env['CI'];
-          const bar = showBar ? new cliProgress.SingleBar({ format: 'replay [{bar}] {percentage}% | {eta}s left', hideCursor: true }, cliProgress.Presets.shades_classic) : undefined;
+          const bar = progressBar('replay', !!opts.json);
           bar?.start(1000, 0);
           const progress = bar ? (f: number) => bar.update(Math.round(f * 1000)) : undefined;
           const base = { arms, configs: { left: cell.left.config, right: cell.right.config }, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}), ...(definitions.length ? { definitions } : {}) };
@@ -83,7 +84,7 @@ export function register(program: Command): void {
           let verdicts: Verdict[] | undefined;
           const finish = (r: ReplayRecord) => {
             verdicts = expectations ? evaluate(r, expectations) : undefined;
-            summary = summarize(r, opts.params ?? null, verdicts);
+            summary = summarize(r, opts.params ?? null, verdicts, Object.fromEntries(arms.map((a) => [a, changedParams(cell[a].values, a)])));
           };
           if (opts.out !== undefined) {
             await withOutputDir(opts.out, outOpts, async (tmp) => {
@@ -110,11 +111,13 @@ export function register(program: Command): void {
             printJson({ ...summary!, ...(opts.out ? { out: opts.out } : {}) });
           } else {
             const lines: string[] = [`replayed ${bagPath} (${record!.storage}, ${record!.duration_s.toFixed(3)} s)`];
-            for (const a of summary!['arms'] as { arm: string; samples: number; holds: { t_s: number; reasons: { check: string }[] }[]; impacts: unknown[]; role_switches: number; peak_correction_force_n: number | null }[]) {
-              lines.push(`  ${a.arm}: ${a.samples} samples, ${a.role_switches} role switches, ${a.impacts.length} impacts, peak correction force ${a.peak_correction_force_n ?? '-'} N, ${a.holds.length ? a.holds.map((h) => `hold at ${h.t_s} s (${h.reasons.map((r) => r.check).join(', ')})`).join('; ') : 'no hold'}`);
+            const n2 = (v: number | null) => (v === null ? '-' : v.toFixed(2));
+            for (const a of summary!['arms'] as ArmSummary[]) {
+              lines.push(`  ${a.arm}: ${a.samples} samples, ${a.role_switches} role switches, ${a.impacts.length} impacts, peak correction force ${n2(a.peak_correction_force_n)} N, ${a.holds.length ? a.holds.length + ' hold' + (a.holds.length === 1 ? '' : 's') : 'no hold'}`);
+              for (const h of a.holds) lines.push(`    hold at ${h.start_s.toFixed(3)} s${h.end_s === null ? ', not released' : `, released at ${h.end_s.toFixed(3)} s`}: ${h.reasons.map((r) => r.text).join('; ')}`);
             }
             const inf = summary!['internal_force'] as { peak_n: number } | undefined;
-            if (inf) lines.push(`  peak internal force ${inf.peak_n} N`);
+            if (inf) lines.push(`  peak internal force ${n2(inf.peak_n)} N (estimated from the wrist wrenches; + squeeze)`);
             // The warnings themselves went to stderr once, as they were found.
             if (record!.warnings.length > 0) lines.push(`  ${record!.warnings.length} warning${record!.warnings.length === 1 ? '' : 's'} (on stderr; in summary.json with --out)`);
             if (verdicts) lines.push('', verdictTable(verdicts));

@@ -12,6 +12,8 @@ import type { CommitmentSummary, PartnerHoldSummary } from '../sim/measures.js';
 import { ARM_MODELS, type ArmModel, type InjectHold, type SimOptionsOverrides } from '../sim/options.js';
 import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
+import { simulateSummaryJson } from '../sim/summary-json.js';
+import { tripText } from '../core/trip-text.js';
 import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
@@ -20,16 +22,17 @@ import { integerOption, numberOption, printJson, printText, runCommand } from '.
  * `bag/` (both arms' inputs and every output, under the live topic names), `summary.json`
  * and `report.html`.
  */
-export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean, storage: StorageId = 'mcap', inputs: readonly (string | undefined)[] = []): Promise<{ files: string[]; replayMatches: boolean }> {
+export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, overwrite: boolean, storage: StorageId = 'mcap', inputs: readonly (string | undefined)[] = []): Promise<{ files: string[]; replayMatches: boolean; summary: Record<string, unknown> }> {
   let replayMatches = false;
+  let summary: Record<string, unknown> = {};
   await withOutputDir(dir, { overwrite, inputs }, async (tmp) => {
     const art = await writeEpisodeBag(tmp, result, result.configs, storage);
     replayMatches = art.matchingSamples === art.samples;
-    const summary = { ...result.summary, bag_replay_matches_closed_loop: replayMatches };
+    summary = simulateSummaryJson(result.summary, art.replaySummary, replayMatches);
     writeFileAtomic(join(tmp, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
     writeFileAtomic(join(tmp, 'report.html'), renderReport(art.report));
   });
-  return { files: [join(dir, 'bag'), join(dir, 'summary.json'), join(dir, 'report.html')], replayMatches };
+  return { files: [join(dir, 'bag'), join(dir, 'summary.json'), join(dir, 'report.html')], replayMatches, summary };
 }
 
 /** Parse --arm-model. */
@@ -76,15 +79,20 @@ export function partnerHoldText(p: PartnerHoldSummary): string {
   return `NaN wrench on ${p.arm} (${p.role_at_injection}) at ${num(p.injected_at_s)} s, held at ${num(p.held_at_s)} s; partner ${p.partner} (${p.partner_role_at_injection}) ${det}; object moved ${num(p.object_moved_m)} m (path ${num(p.object_path_m)} m) after it`;
 }
 
+/** "success after 16.61 s" or "failure (stall) after 30.00 s": the end reason only when it adds something. */
+export function outcomeText(s: EpisodeSummary): string {
+  return s.success ? `success: goal reached after ${s.duration_s.toFixed(2)} s` : `failure (${s.end_reason.replace('_', ' ')}) after ${s.duration_s.toFixed(2)} s, goal not reached`;
+}
+
 export function summaryText(s: EpisodeSummary): string {
   const f = (v: number | null, d = 2) => (v === null ? '-' : v.toFixed(d));
   const occ = Object.entries(s.world.occupied).map(([k, v]) => `${k} ${v ? 'occupied' : 'free'}`).join(', ');
   const lines = [
     `seed ${s.seed}, strategy ${s.strategy}, arms ${s.arm_model}`,
     `world: ${occ || 'no zones'}; start (${f(s.world.start_m[0], 3)}, ${f(s.world.start_m[1], 3)}) m, goal (${f(s.world.goal_m[0], 3)}, ${f(s.world.goal_m[1], 3)}) m`,
-    `outcome: ${s.success ? 'success' : 'failure'} (${s.end_reason}) after ${f(s.duration_s)} s; time to goal ${f(s.time_to_goal_s)} s; final distance ${f(s.final_distance_m, 3)} m`,
+    `outcome: ${outcomeText(s)}; final distance to the goal ${f(s.final_distance_m, 3)} m`,
     `collisions: ${s.collisions.count}${s.collisions.first_s === null ? '' : `, first at ${f(s.collisions.first_s, 3)} s`}; contact ${f(s.collisions.contact_s, 3)} s`,
-    `internal force: peak ${f(s.internal_force.peak_n)} N, mean ${f(s.internal_force.mean_n)} N`,
+    `internal force (true, along the beam; + squeeze): peak ${f(s.internal_force.peak_n)} N, mean |f| ${f(s.internal_force.mean_abs_n)} N`,
     `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}`,
     `role switches: left ${s.role_switches.left}, right ${s.role_switches.right}; tared at left ${f(s.tared_at_s.left, 3)} s, right ${f(s.tared_at_s.right, 3)} s`,
     `belief calibration (this one world; compare pools many worlds): ${calibrationText(s.belief.calibration)}`,
@@ -93,7 +101,7 @@ export function summaryText(s: EpisodeSummary): string {
   ];
   if (s.partner_hold) lines.push(`partner hold: ${partnerHoldText(s.partner_hold)}`);
   for (const e of s.holds.events) {
-    lines.push(`  hold ${e.arm} at ${f(e.start_s, 3)} s${e.end_s === null ? ', not released' : `, released at ${f(e.end_s, 3)} s`}: ${e.reasons.map((r) => `${r.check} (${r.input} ${r.value.toFixed(3)} > ${r.limit})`).join(', ')}`);
+    lines.push(`  hold ${e.arm} at ${f(e.start_s, 3)} s${e.end_s === null ? ', not released' : `, released at ${f(e.end_s, 3)} s`}: ${e.reasons.map((r) => tripText(r)).join('; ')}`);
   }
   return lines.join('\n');
 }
@@ -136,8 +144,8 @@ export function register(program: Command): void {
         const dir = opts.out ?? join('out', `sim-${seed}`);
         checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
         const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
-        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
-        if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });
+        const { files, summary } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
+        if (opts.json) printJson({ ...summary, files });
         else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
         return 0;
       }),

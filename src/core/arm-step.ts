@@ -228,6 +228,7 @@ export class ArmStep {
       correction: this.filter.correction,
       impactFlag: false,
       impactScore: 0,
+      impactByTorque: false,
       jointVelocity: this.jointVel,
       jointCount: this.jointCount,
       jointFinite: true,
@@ -438,6 +439,7 @@ export class ArmStep {
     wd.t_s = t;
     wd.impactFlag = f.impactFlag;
     wd.impactScore = f.impactScore;
+    wd.impactByTorque = f.impactByTorque;
     wd.jointFinite = this.jointFinite;
     wd.poseFinite = this.poseFinite;
     wd.zoneFinite = this.zoneFinite;

@@ -43,6 +43,7 @@ export interface Trip {
   check: number;
   /** Input or channel, e.g. `wrench`, `joint_states[2]`. */
   input: string;
+  /** The worst value seen while the hold lasts (what the WatchdogTrip message carries); the value at t_s is `tripFirst(k)`. */
   value: number;
   limit: number;
   t_s: number;
@@ -58,6 +59,8 @@ export interface WatchdogInputs {
   correction: Float64Array;
   impactFlag: boolean;
   impactScore: number;
+  /** The torque ratio, not the force ratio, sets the impact score. */
+  impactByTorque: boolean;
   jointVelocity: Float64Array;
   jointCount: number;
   /** Whether the non-wrench inputs hold non-finite values (checked where they arrive). */
@@ -97,6 +100,7 @@ export function watchdogInputs(fields: Partial<WatchdogInputs> = {}): WatchdogIn
     correction: new Float64Array(6),
     impactFlag: false,
     impactScore: 0,
+    impactByTorque: false,
     jointVelocity: new Float64Array(0),
     jointCount: 0,
     jointFinite: true,
@@ -130,6 +134,7 @@ export class Watchdog {
   /** Inputs whose arrival was recorded at least once (an input cannot go back to "never seen"). */
   private readonly everSeen = new Uint8Array(INPUTS.length);
   private readonly tripPool: Trip[];
+  private readonly firstValue = new Float64Array(MAX_TRIPS);
   private tripCount = 0;
   private readonly seen = new Uint8Array(CHECKS.length);
   private lastT = Number.NEGATIVE_INFINITY;
@@ -154,6 +159,11 @@ export class Watchdog {
   get trips(): readonly Trip[] {
     return this.tripPool.slice(0, this.tripCount);
   }
+  /** The value trip k had when it tripped (its record's `value` is the worst since). */
+  tripFirst(k: number): number {
+    return this.firstValue[k]!;
+  }
+
   tripAt(k: number): Trip {
     return this.tripPool[k]!;
   }
@@ -200,6 +210,7 @@ export class Watchdog {
     r.check = check;
     r.input = input;
     r.value = value;
+    this.firstValue[this.tripCount - 1] = value;
     r.limit = limit;
     r.t_s = t;
   }
@@ -264,7 +275,7 @@ export class Watchdog {
         if (fc > p.correction_force_limit_n) { this.trip(CHECK.force_correction, 'wrench', fc, p.correction_force_limit_n, t); bad = true; }
         if (tc > p.correction_torque_limit_nm) { this.trip(CHECK.torque_correction, 'wrench', tc, p.correction_torque_limit_nm, t); bad = true; }
       }
-      if (x.impactFlag && p.on_impact === 'hold') { this.trip(CHECK.impact, 'wrench', x.impactScore, 1, t); bad = true; }
+      if (x.impactFlag && p.on_impact === 'hold') { this.trip(CHECK.impact, x.impactByTorque ? 'wrench.torque' : 'wrench.force', x.impactScore, 1, t); bad = true; }
     }
     const qe = x.quaternionNormError;
     if (!(qe <= p.quaternion_norm_tolerance)) {
@@ -403,6 +414,7 @@ export class Watchdog {
       seen: Array.from(this.seen),
       everSeen: Array.from(this.everSeen),
       trips: this.trips.map((r) => ({ ...r })),
+      tripFirst: Array.from(this.firstValue.subarray(0, this.tripCount)),
     };
   }
 
@@ -416,7 +428,10 @@ export class Watchdog {
     this.seen.set(s.seen);
     this.everSeen.set(s.everSeen);
     this.tripCount = s.trips.length;
-    s.trips.forEach((r, k) => Object.assign(this.tripPool[k]!, r));
+    s.trips.forEach((r, k) => {
+      Object.assign(this.tripPool[k]!, r);
+      this.firstValue[k] = s.tripFirst?.[k] ?? r.value;
+    });
   }
 }
 
@@ -430,6 +445,8 @@ export interface WatchdogSnapshot {
   seen: number[];
   everSeen: number[];
   trips: Trip[];
+  /** Each trip's value when it tripped (absent in snapshots of older code: then its worst). */
+  tripFirst?: number[];
 }
 
 function norm3(x: number, y: number, z: number): number {

@@ -203,7 +203,7 @@ export function parseExpectations(text: string, file: string, context?: Expectat
       const need = a.arm === 'both' ? (['left', 'right'] as const) : [a.arm as 'left' | 'right'];
       const missing = need.filter((x) => !context.arms.includes(x));
       if (missing.length)
-        problems.push({ code: 'expect.arm_not_replayed', message: `expect[${k}].${kind} needs the ${missing.join(' and ')} arm, which is not replayed`, where: at('arm'), hint: 'replay with --arm both (or the arm named)' });
+        problems.push({ code: 'expect.arm_not_replayed', message: `expect[${k}].${kind} needs the ${missing.join(' and ')} arm${missing.length > 1 ? 's' : ''}, which ${missing.length > 1 ? 'are' : 'is'} not replayed`, where: at('arm'), hint: 'replay with --arm both (or the arm named)' });
       else if (kind === 'belief_above' && a.zone !== undefined) {
         const zones = context.hiddenZones[a.arm as 'left' | 'right'];
         if (!zones.includes(a.zone))
@@ -228,12 +228,16 @@ export function parseExpectations(text: string, file: string, context?: Expectat
 function armsOf(record: ReplayRecord, which: unknown, e: Expectation): readonly ArmReplayRecord[] {
   const arms = which === 'both' ? record.arms : record.arms.filter((a) => a.arm === which);
   if (arms.length === 0 || (which === 'both' && record.arms.length < 2)) {
-    throw new InputError({ code: 'expect.arm_not_replayed', message: `expectation '${e.name}' needs the ${String(which)} arm${which === 'both' ? 's' : ''}, which ${which === 'both' ? 'were' : 'was'} not replayed`, hint: 'replay with --arm both (or the arm named)' });
+    throw new InputError({ code: 'expect.arm_not_replayed', message: `expectation '${e.name}' needs ${which === 'both' ? 'both arms' : `the ${String(which)} arm`}, which ${which === 'both' ? 'were' : 'was'} not replayed`, hint: 'replay with --arm both (or the arm named)' });
   }
   return arms;
 }
 
 const f3 = (v: number) => (Number.isFinite(v) ? v.toFixed(3) : String(v));
+/** Forces in texts: 0.01 N, as everywhere else. */
+const f2 = (v: number) => (Number.isFinite(v) ? v.toFixed(2) : String(v));
+/** A small time offset, s: 0, or three significant digits. */
+const fs = (v: number) => (v === 0 ? '0' : v < 1e-3 ? v.toExponential(2) : v.toPrecision(3));
 
 /** Evaluate every expectation against a replay record. Throws InputError for checks that cannot apply. */
 export function evaluate(record: ReplayRecord, list: readonly Expectation[]): Verdict[] {
@@ -256,12 +260,12 @@ export function evaluate(record: ReplayRecord, list: readonly Expectation[]): Ve
         if (!record.internalForce) throw new InputError({ code: 'expect.arm_not_replayed', message: `expectation '${e.name}' needs both arms`, hint: 'replay with --arm both' });
         let peak = 0;
         for (const v of record.internalForce.y) peak = Math.max(peak, Math.abs(v));
-        return { ...base, expected: `< ${a.value} N`, measured: `${f3(peak)} N`, pass: peak < a.value, value: peak };
+        return { ...base, expected: `< ${a.value} N`, measured: `${f2(peak)} N`, pass: peak < a.value, value: peak };
       }
       case 'peak_correction_force_below_n': {
         let peak = 0;
         for (const r of armsOf(record, a.arm, e)) for (const v of r.correctionForce.subarray(r.taredFrom)) peak = Math.max(peak, v);
-        return { ...base, expected: `< ${a.value} N`, measured: `${f3(peak)} N`, pass: peak < a.value, value: peak };
+        return { ...base, expected: `< ${a.value} N`, measured: `${f2(peak)} N`, pass: peak < a.value, value: peak };
       }
       case 'belief_above': {
         const r = armsOf(record, a.arm, e)[0]!;
@@ -311,7 +315,7 @@ export function evaluate(record: ReplayRecord, list: readonly Expectation[]): Ve
             worst = Math.max(worst, Math.abs(abs - k * a.period_s));
           }
         }
-        return { ...base, expected: `switches on multiples of ${a.period_s} s within ${tol} s`, measured: count ? `${count} switches, worst ${f3(worst * 1000)} ms off` : 'no switch', pass: count > 0 && worst <= tol, value: count ? worst : null };
+        return { ...base, expected: `switches on multiples of ${a.period_s} s within ${tol} s`, measured: count ? `${count} switches, worst ${fs(worst)} s off` : 'no switch', pass: count > 0 && worst <= tol, value: count ? worst : null };
       }
     }
   });

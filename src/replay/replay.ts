@@ -18,19 +18,24 @@ import { INPUT_KINDS, INPUT_TYPES, inputTopic, OUTPUT_BAG_QOS, OUTPUT_KINDS, OUT
 import { InputError, type Problem } from '../util/errors.js';
 import { warnOnce } from '../util/log.js';
 import { Column } from './series.js';
+import { tripText } from '../core/trip-text.js';
 
 export interface ReplayEvent {
   readonly arm: ArmName;
   /** Seconds from the start of the bag. */
   readonly t_s: number;
-  /** `tared`, `tare_refused`, `trip`, `hold`, `role`, `impact_start`, `impact_end`, `input_missing`. */
+  /** `tared`, `tare_refused`, `trip`, `hold`, `release`, `role`, `impact_start`, `impact_end`, `input_missing`. */
   readonly kind: string;
   readonly text: string;
-  /** For trips: the check name, measured value and limit. */
+  /** For trips: the check name, input, worst value while held, limit and value when it tripped (text: `tripText`). */
   readonly check?: string;
+  readonly input?: string;
   readonly value?: number;
   readonly limit?: number;
+  readonly first?: number;
 }
+
+type Mutable<T> = { -readonly [K in keyof T]: T[K] };
 
 /** Full-rate record of one replayed arm (times in seconds from the bag start). */
 export interface ArmReplayRecord {
@@ -146,6 +151,8 @@ interface ArmRun {
   lastHeld: boolean;
   lastImpact: boolean;
   trips: number;
+  /** The trip events of the current hold, by trip index: their worst value follows the watchdog's. */
+  tripEvents: Mutable<ReplayEvent>[];
   tared: boolean;
   taredFrom: number;
   sawJoints: boolean;
@@ -321,7 +328,7 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
       zoneStates: new Uint8Array(config.task.zones.length).fill(ZONE_UNKNOWN),
       zoneIndex: new Map(config.task.zones.map((z, k) => [z.name, k])),
       lastPoseT: Number.NaN, lastPoseX: 0, lastPoseY: 0, lastPoseZ: 0,
-      lastRole: -1, lastHeld: false, lastImpact: false, trips: 0, tared: false, taredFrom: -1, sawJoints: false, jointsWithoutVelocity: 0, lastStatusT: Number.NEGATIVE_INFINITY,
+      lastRole: -1, lastHeld: false, lastImpact: false, trips: 0, tripEvents: [], tared: false, taredFrom: -1, sawJoints: false, jointsWithoutVelocity: 0, lastStatusT: Number.NEGATIVE_INFINITY,
     };
     for (const kind of INPUT_KINDS) {
       const name = resolved[kind];
@@ -546,12 +553,27 @@ function trackEvents(run: ArmRun, rel: number, o: ArmOutputs): void {
   }
   if (o.tareOutcome === TARE_OUTCOME_REFUSED) run.events.push({ arm: run.arm, t_s: rel, kind: 'tare_refused', text: `tare refused: ${o.tareReason}` });
   if (o.held && !run.lastHeld) run.events.push({ arm: run.arm, t_s: rel, kind: 'hold', text: 'safe hold latched: recommended twist zero until reset' });
+  if (!o.held && run.lastHeld) run.events.push({ arm: run.arm, t_s: rel, kind: 'release', text: 'hold released by a reset (every condition clear)' });
   run.lastHeld = o.held;
+  if (wd.tripsLength < run.trips) run.tripEvents.length = 0; // a reset released the hold
+  for (let k = 0; k < run.tripEvents.length && k < wd.tripsLength; k++) {
+    // The watchdog raises a trip's recorded value to the worst seen while held: so does its event.
+    const r = wd.tripAt(k);
+    const e = run.tripEvents[k]!;
+    if (r.value !== e.value) {
+      e.value = r.value;
+      e.input = r.input;
+      e.text = tripText(e as Required<ReplayEvent>);
+    }
+  }
   if (wd.tripsLength > run.trips) {
     for (let k = run.trips; k < wd.tripsLength; k++) {
       const r = wd.tripAt(k);
       const check = CHECKS[r.check] ?? 'unknown';
-      run.events.push({ arm: run.arm, t_s: rel, kind: 'trip', text: `${check} on ${r.input}: ${fmt(r.value)} (limit ${fmt(r.limit)})`, check, value: r.value, limit: r.limit });
+      const e: Mutable<ReplayEvent> = { arm: run.arm, t_s: rel, kind: 'trip', text: '', check, input: r.input, value: r.value, limit: r.limit, first: wd.tripFirst(k) };
+      e.text = tripText(e as Required<ReplayEvent>);
+      run.events.push(e);
+      run.tripEvents[k] = e;
     }
   }
   run.trips = wd.tripsLength;

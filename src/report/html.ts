@@ -65,6 +65,16 @@ const KIND_ORDER = ['trip', 'hold', 'release', 'impact', 'collision', 'role', 't
 const OTHER_KIND_COLOURS = ['#5a5f97', '#98582d', '#4b6b78', '#7a4a6a'];
 const OTHER_LANE_COLOUR = '#6d6a64';
 const MAX_LANES = 12;
+/** Short lane names that fit the plot's left margin (the event table keeps the kinds). */
+const LANE_LABELS = new Map<string, string>([
+  ['impact_start', 'impact'],
+  ['impact_end', 'impact end'],
+  ['tare_refused', 'tare refused'],
+  ['input_missing', 'no input'],
+]);
+function laneLabel(kind: string): string {
+  return LANE_LABELS.get(kind) ?? kind;
+}
 
 // ---------------------------------------------------------------------------------------
 // Payload written into the page (read by client.ts)
@@ -245,14 +255,14 @@ function renderChecks(checks: NonNullable<ReportInput['checks']>): string {
       const verdict = ok
         ? '<span class="verdict pass"><span aria-hidden="true">✓</span> PASS</span>'
         : '<span class="verdict fail"><span aria-hidden="true">✗</span> FAIL</span>';
-      return `<tr class="${ok ? 'pass' : 'fail'}"><td>${verdict}</td><td>${escapeHtml(c.name)}</td><td>${escapeHtml(c.measured)}</td></tr>`;
+      return `<tr class="${ok ? 'pass' : 'fail'}"><td>${verdict}</td><td>${escapeHtml(c.name)}</td><td>${escapeHtml(c.expected ?? '')}</td><td>${escapeHtml(c.measured)}</td></tr>`;
     })
     .join('');
   const headline =
     failed === 0
       ? `<p class="tally ok">All ${checks.length} expectation${checks.length === 1 ? '' : 's'} passed.</p>`
       : `<p class="tally bad">${failed} of ${checks.length} expectation${checks.length === 1 ? '' : 's'} failed; ${passed} passed.</p>`;
-  return `<section id="checks"><h2>Expectations</h2>${headline}<table class="checks"><thead><tr><th>verdict</th><th>expectation</th><th>measured</th></tr></thead><tbody>${rows}</tbody></table></section>`;
+  return `<section id="checks"><h2>Expectations</h2>${headline}<table class="checks"><thead><tr><th>verdict</th><th>expectation</th><th>expected</th><th>measured</th></tr></thead><tbody>${rows}</tbody></table></section>`;
 }
 
 function renderArm(arm: ReportArm, index: number, ctx: Ctx, held: Steps, holdNote: string | undefined): string {
@@ -262,7 +272,9 @@ function renderArm(arm: ReportArm, index: number, ctx: Ctx, held: Steps, holdNot
   const notes = holdNote ? [holdNote] : [];
   const nHolds = onIntervals(held).length / 2;
 
-  // Force magnitudes.
+  // Force magnitudes. Before the tare, raw is the untared reading (weight and sensor offset in it).
+  const taredEvent = arm.events.find((e) => e.kind === 'tared');
+  const taredAt = taredEvent ? taredEvent.t_s : null;
   parts.push(
     xyPlot(ctx, {
       title: 'Force magnitude',
@@ -270,7 +282,7 @@ function renderArm(arm: ReportArm, index: number, ctx: Ctx, held: Steps, holdNot
       includeZero: true,
       holds,
       series: [
-        { label: 'raw (tared)', colour: C.raw, width: 1.6, series: arm.rawForce },
+        { label: taredAt === null ? 'raw (never tared)' : `raw (tared from ${taredAt.toFixed(2)} s; untared before)`, colour: C.raw, width: 1.6, series: arm.rawForce },
         { label: 'correction band', colour: C.correction, width: 1.2, series: arm.correctionForce },
         { label: 'impact band', colour: C.impact, width: 1.2, series: arm.impactForce },
       ],
@@ -336,9 +348,9 @@ function renderArm(arm: ReportArm, index: number, ctx: Ctx, held: Steps, holdNot
     parts.push(
       plotFigure(
         ctx,
-        { kind: 'events', holds, lanes, colours, binned, marks },
+        { kind: 'events', holds, lanes: lanes.map(laneLabel), colours, binned, marks },
         'Events',
-        [...lanes.map((k, i) => ({ label: k, colour: colours[i]!, swatch: 'band' as const })), holdItem],
+        [...lanes.map((k, i) => ({ label: laneLabel(k), colour: colours[i]!, swatch: 'band' as const })), holdItem],
         M_TOP_BOTTOM + 20 * lanes.length,
         evNotes,
       ),
@@ -366,7 +378,7 @@ function renderArm(arm: ReportArm, index: number, ctx: Ctx, held: Steps, holdNot
         })),
         extraLegend: [holdItem],
         height: 200,
-        notes,
+        notes: [...notes, 'The belief changes only while this arm listens (it reads its partner\'s corrections then) and is held flat while it speaks, so its line moves in steps, one stretch per listening slot.'],
       }),
     );
   }
@@ -402,7 +414,7 @@ function renderInternal(series: ReportSeries, arms: readonly ReportArm[], holdIn
       yLabel: 'force (N)',
       includeZero: true,
       holds: arms.length > 0 ? [holdIndex] : [],
-      series: [{ label: 'internal force (+ pulls apart)', colour: C.internal, width: 1.4, series }],
+      series: [{ label: 'internal force (+ squeeze, − pull apart)', colour: C.internal, width: 1.4, series }],
       extraLegend: [{ label: arms.length > 1 ? 'watchdog hold (any arm)' : 'watchdog hold', colour: '#a8740c', swatch: 'hold' }],
       height: 220,
       notes: [],

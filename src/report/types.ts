@@ -53,7 +53,7 @@ export interface ReportInput {
   /** Reliability diagram of the belief, when the truth is known (simulated cell). */
   readonly calibration?: ReportCalibration;
   /** Expectation verdicts, when checks ran. */
-  readonly checks?: readonly { readonly name: string; readonly measured: string; readonly verdict: 'pass' | 'fail' }[];
+  readonly checks?: readonly { readonly name: string; readonly expected?: string; readonly measured: string; readonly verdict: 'pass' | 'fail' }[];
 }
 
 /** One bin of a reliability diagram: predicted probability in [lo, hi). */

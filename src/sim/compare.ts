@@ -118,7 +118,7 @@ export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: Epi
     end_reason: s.end_reason,
     collisions: s.collisions.count,
     peak_internal_force_n: s.internal_force.peak_n,
-    mean_internal_force_n: s.internal_force.mean_n,
+    mean_internal_force_n: s.internal_force.mean_abs_n,
     time_to_goal_s: s.time_to_goal_s,
     holds: s.holds.count,
     duration_s: s.duration_s,

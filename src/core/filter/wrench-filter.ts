@@ -242,6 +242,8 @@ export class WrenchFilter {
   /** Modelled payload wrench in the sensor frame (zero when payload compensation is off). */
   readonly payloadWrench = new Float64Array(6);
   impactScore = 0;
+  /** Whether the torque ratio, not the force ratio, sets the impact score (for the trip's input label). */
+  impactByTorque = false;
   impactFlag = false;
   /** A bias has been estimated at least once since construction or `reset()`. */
   tared = false;
@@ -472,6 +474,7 @@ export class WrenchFilter {
     const t = Math.sqrt(imp[3]! * imp[3]! + imp[4]! * imp[4]! + imp[5]! * imp[5]!) * this.invTorque;
     const score = f > t ? f : t;
     this.impactScore = score;
+    this.impactByTorque = t > f;
     this.above = score >= 1 ? this.above + 1 : 0;
     this.below = score < this.release ? this.below + 1 : 0;
     if (!this.impactFlag) {
