@@ -45,9 +45,12 @@ const JOB_SUM = 9;
 const JOB_NORM = 10;
 const JOB_MARG = 11;
 const JOB_COMMIT = 12;
-const JOB_COST = Float64Array.of(10, 8, 19, 10, 8, 19, 2, 40, 3, 14, 28, 12, 1);
-/** Cost units per sample for the job. */
-export const JOB_BUDGET = 12_000;
+const JOB_COST = Float64Array.of(12, 10, 25, 12, 10, 25, 3, 32, 5, 12, 35, 14, 1);
+/**
+ * Cost units per sample for the job: with 256 hypotheses a replica update (about 25 600 units)
+ * or a belief update (29 200) lands in two samples, a hedged belief update (about 50 000) in four.
+ */
+export const JOB_BUDGET = 15_000;
 
 /** `ArmOutputs.tareOutcome`: nothing happened, a tare was taken, a tare was refused. */
 export const TARE_OUTCOME_NONE = 0;
