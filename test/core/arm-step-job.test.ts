@@ -232,7 +232,7 @@ describe('the 100 Hz job', () => {
     );
   });
 
-  it('a snapshot taken mid-job restores to the same continuation, every output, every sample', () => {
+  it('a snapshot taken mid-job (restore, applyParams) gives the same continuation, every output, every sample', () => {
     const { left } = config256();
     const sig = (s: ArmStep) => JSON.stringify([state(s), Array.from(s.out.twist), s.out.beliefUpdated, s.out.committedHidden, s.out.committedOwn]);
     for (const seed of [3, 4]) {
@@ -257,11 +257,18 @@ describe('the 100 Hz job', () => {
       expect(a.jobKind).not.toBe(0);
       const copy = new ArmStep(left, { jointCount: 3 });
       copy.restore(base.snapshot());
-      const r1 = new Rng(99), r2 = new Rng(99);
+      // applyParams goes through a snapshot too: a run-time parameter change mid-job continues it.
+      const changed = new ArmStep(left, { jointCount: 3 });
+      changed.restore(base.snapshot());
+      changed.applyParams(left);
+      expect(inside(changed).jobKind).toBe(a.jobKind);
+      const r1 = new Rng(99), r2 = new Rng(99), r3 = new Rng(99);
       for (let j = 0; j < 700; j++) {
         feed(base, k + j, r1);
         feed(copy, k + j, r2);
+        feed(changed, k + j, r3);
         expect(sig(copy)).toBe(sig(base));
+        expect(sig(changed)).toBe(sig(base));
       }
     }
   });
