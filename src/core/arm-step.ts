@@ -23,6 +23,35 @@ export const ZONE_FREE = 0;
 export const ZONE_OCCUPIED = 1;
 export const ZONE_UNKNOWN = 2;
 
+/**
+ * The 100 Hz job (ArmStep.startJob): its kinds, its stages in order, and the cost of each
+ * stage per hypothesis in units of about a nanosecond (measured on the development machine;
+ * only their ratios matter). Each sample gives the job JOB_BUDGET units, except the samples
+ * of a policy update, which carry none.
+ */
+const JOB_NONE = 0;
+const JOB_BELIEF = 1;
+const JOB_REPLICA = 2;
+const JOB_TAB_A = 0;
+const JOB_MEAN_A = 1;
+const JOB_SCORE_A = 2;
+const JOB_TAB_B = 3;
+const JOB_MEAN_B = 4;
+const JOB_SCORE_B = 5;
+const JOB_MIX_TOP = 6;
+const JOB_MIX = 7;
+const JOB_ADD = 8;
+const JOB_SUM = 9;
+const JOB_NORM = 10;
+const JOB_MARG = 11;
+const JOB_COMMIT = 12;
+const JOB_COST = Float64Array.of(12, 10, 25, 12, 10, 25, 3, 32, 5, 12, 35, 14, 1);
+/**
+ * Cost units per sample for the job: with 256 hypotheses a replica update (about 25 600 units)
+ * or a belief update (29 200) lands in two samples, a hedged belief update (about 50 000) in four.
+ */
+export const JOB_BUDGET = 15_000;
+
 /** `ArmOutputs.tareOutcome`: nothing happened, a tare was taken, a tare was refused. */
 export const TARE_OUTCOME_NONE = 0;
 export const TARE_OUTCOME_TAKEN = 1;
@@ -103,6 +132,8 @@ export interface ArmStepSnapshot {
   zones: Uint8Array;
   partnerStop: Float64Array;
   commitWeight: Float64Array;
+  /** The 100 Hz job in flight: its numbers, then its two log-likelihood buffers. */
+  job: Float64Array;
   tareReason: string;
 }
 
@@ -187,6 +218,34 @@ export class ArmStep {
   private readonly ownTable: SubsetTable;
   private readonly hiddenTable2: SubsetTable;
   private readonly loglik2: Float64Array;
+  /** The policy's own tables: the job's tables must survive a policy update mid-job. */
+  private readonly policyHiddenTable: SubsetTable;
+  private readonly policyOwnTable: SubsetTable;
+
+  // The 100 Hz job in flight (startJob, runJob).
+  private jobKind = JOB_NONE;
+  private jobRole = -1;
+  private jobStage = 0;
+  private jobH = 0;
+  private jobN = 0;
+  private jobPx = 0;
+  private jobPy = 0;
+  private jobFx = 0;
+  private jobFy = 0;
+  private jobVx = 0;
+  private jobVy = 0;
+  private jobKnownA = 0;
+  private jobKnownB = 0;
+  private jobNeed = 0;
+  private jobDoubt = -1;
+  private jobSx = 0;
+  private jobSy = 0;
+  private jobK = 0;
+  private jobMx = 0;
+  private jobMy = 0;
+  private jobTop = 0;
+  private jobE1 = 0;
+  private jobE0 = 0;
 
   constructor(config: ArmConfig, options: ArmStepOptions = {}) {
     this.config = config;
@@ -203,6 +262,8 @@ export class ArmStep {
     this.ownTable = new SubsetTable(this.task.own.length);
     this.hiddenTable2 = new SubsetTable(this.task.hidden.length);
     this.loglik2 = new Float64Array(this.loglik.length);
+    this.policyHiddenTable = new SubsetTable(this.task.hidden.length);
+    this.policyOwnTable = new SubsetTable(this.task.own.length);
     this.commitWeight = new Float64Array(Math.max(1, this.task.own.length));
     this.jointCount = options.jointCount ?? 0;
     this.jointVel = new Float64Array(Math.max(64, this.jointCount));
@@ -470,6 +531,8 @@ export class ArmStep {
       this.commitAtSwitch(role, px);
       this.lastRole = role;
     }
+    // A window's evidence lands only in the role it was gathered in.
+    if (this.jobKind !== JOB_NONE && role !== this.jobRole) this.jobKind = JOB_NONE;
 
     // Belief: accumulate the correction force (cell frame) and this arm's own command.
     this.accumulate();
@@ -478,26 +541,27 @@ export class ArmStep {
     if (role !== this.windowRole || unusable) this.windowClean = false;
     if (unusable) this.dragClean = false;
     out.beliefUpdated = false;
+    const policyNow = ++this.policyCount >= this.policyEvery;
     if (++this.beliefCount >= this.beliefEvery) {
       const n = this.beliefEvery;
       if (this.dragClean) this.partnerStop.update(this.accFx / n, this.accFy / n, this.accVx / n, this.accVy / n);
       else this.partnerStop.reset();
       this.dragClean = true;
+      // The previous window's job lands within this window whatever: finish it if it has not.
+      if (this.jobKind !== JOB_NONE) this.runJob(Number.POSITIVE_INFINITY);
       if (this.windowClean) {
-        if (role === LISTENER && this.task.hidden.length > 0) {
-          this.updateBelief(px, py);
-          out.beliefUpdated = true;
-        } else if (role === SPEAKER && this.task.own.length > 0) {
-          this.updateReplica(px, py);
-        }
+        if (role === LISTENER && this.task.hidden.length > 0) this.startJob(role, px, py);
+        else if (role === SPEAKER && this.task.own.length > 0) this.startJob(role, px, py);
       }
       this.beliefCount = 0;
       this.accFx = this.accFy = this.accVx = this.accVy = 0;
       this.windowClean = true;
     }
+    // The job's part of this sample; a sample of a policy update carries none.
+    if (this.jobKind !== JOB_NONE && !policyNow) this.runJob(JOB_BUDGET);
 
     // Policy at its own rate; the command follows the target within the acceleration limit.
-    if (++this.policyCount >= this.policyEvery) {
+    if (policyNow) {
       this.policyCount = 0;
       this.updateTarget(role, px, py);
     }
@@ -634,32 +698,42 @@ export class ArmStep {
   }
 
   /**
-   * Log-likelihood of each hidden hypothesis for the window's mean correction force (fx, fy)
-   * and own velocity (vx, vy), with the speaker acting on `known`. Writes `into`.
+   * Start the 100 Hz job for the window that just ended, on a snapshot of its inputs: the
+   * window's means, this arm's object position at its last sample, and the common knowledge
+   * and zone view of that moment. The listener's job is the Bayes update of the belief (hedged
+   * over the most doubtful commitment of the partner), the speaker's the replica's update. The
+   * job runs over the next samples (runJob) and lands within the next window; a role switch
+   * before it lands discards it (on both arms alike: the belief and the replica each lose the
+   * last window of a slot). Its result equals the one-shot computation bit for bit.
    */
-  private scoreSpeaker(table: SubsetTable, known: number, fx: number, fy: number, vx: number, vy: number, into: Float64Array): void {
+  private startJob(role: Role, px: number, py: number): void {
     const task = this.task;
-    task.tabulate(task.hidden, known, table);
-    this.legMean(table, task.hidden, this.committedHidden);
-    const mx = this.v2[0]!, my = this.v2[1]!;
-    const c = this.config.coupling.damping_n_s_m;
-    const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
-    for (let h = 0; h < this.hypotheses; h++) {
-      this.legible(table, h, mx, my);
-      const rx = fx - c * (this.v2[0]! - vx);
-      const ry = fy - c * (this.v2[1]! - vy);
-      into[h] = -(rx * rx + ry * ry) * k;
-    }
-  }
-
-  private updateBelief(px: number, py: number): void {
-    const task = this.task;
-    task.prepare(px, py);
     const n = this.beliefEvery;
-    const fx = this.accFx / n, fy = this.accFy / n, vx = this.accVx / n, vy = this.accVy / n;
+    this.jobRole = role;
+    this.jobPx = px;
+    this.jobPy = py;
+    this.jobFx = this.accFx / n;
+    this.jobFy = this.accFy / n;
+    this.jobVx = this.accVx / n;
+    this.jobVy = this.accVy / n;
+    this.jobStage = JOB_TAB_A;
+    this.jobH = 0;
+    this.jobDoubt = -1;
+    if (role === SPEAKER) {
+      // The partner's listener update, reproduced (see the replica's stage in jobPart).
+      this.jobKind = JOB_REPLICA;
+      this.jobN = this.replica.n;
+      this.jobKnownA = this.observedMask(task.shared) | this.committedHidden;
+      this.jobNeed = ArmStep.toListBits(task.own, this.committedOwn);
+      this.replica.stageBegin(this.config.belief.forgetting);
+      return;
+    }
+    this.jobKind = JOB_BELIEF;
+    this.jobN = this.hypotheses;
     // The partner (speaker) knows the shared zones as this arm sees them, its own (our hidden)
     // zones, and what it learned of ours in its last listening slot (reproduced here).
     const known = this.observedMask(task.shared) | this.committedOwn;
+    this.jobNeed = ArmStep.toListBits(task.hidden, this.committedHidden);
     // Whether the partner really committed an own zone is not common knowledge: hedge over the
     // most doubtful one, scoring the speaker both with and without it.
     let doubt = -1;
@@ -672,69 +746,230 @@ export class ArmStep {
         doubt = b;
       }
     }
+    this.jobDoubt = doubt;
     if (doubt === -1) {
-      this.scoreSpeaker(this.hiddenTable, known, fx, fy, vx, vy, this.loglik);
+      this.jobKnownA = known;
     } else {
       const bit = 1 << task.own[doubt]!;
-      const w = this.commitWeight[doubt]!;
-      this.scoreSpeaker(this.hiddenTable, known | bit, fx, fy, vx, vy, this.loglik);
-      this.scoreSpeaker(this.hiddenTable2, known & ~bit, fx, fy, vx, vy, this.loglik2);
-      const lw = Math.log(w), lw0 = Math.log(1 - w);
-      // The commitment is a hidden variable too: what the speaker does tells whether it
-      // committed the zone. Its posterior, P(c | window) ∝ w Σ_h p(h) L1(h) against
-      // (1 − w) Σ_h p(h) L0(h), becomes the weight of the next window (and, rounded, this arm's
-      // view of the partner's commitment), so a disagreement repairs itself while listening.
-      // One common maximum serves the mixture and the posterior: two exponentials and one
-      // logarithm per hypothesis.
-      let top = Number.NEGATIVE_INFINITY;
-      for (let h = 0; h < this.hypotheses; h++) {
-        const a = lw + this.loglik[h]!, b = lw0 + this.loglik2[h]!;
-        if (a > top) top = a;
-        if (b > top) top = b;
-      }
-      const p = this.belief.p;
-      let e1 = 0, e0 = 0;
-      for (let h = 0; h < this.hypotheses; h++) {
-        const ea = Math.exp(lw + this.loglik[h]! - top);
-        const eb = Math.exp(lw0 + this.loglik2[h]! - top);
-        e1 += p[h]! * ea;
-        e0 += p[h]! * eb;
-        this.loglik[h] = top + Math.log(ea + eb);
-      }
-      const post = e1 / (e1 + e0);
-      if (Number.isFinite(post)) {
-        const wp = Math.min(Math.max(post, 1e-9), 1 - 1e-9);
-        this.commitWeight[doubt] = wp;
-        this.committedOwn = wp >= 0.5 ? this.committedOwn | bit : this.committedOwn & ~bit;
-      }
+      this.jobKnownA = known | bit;
+      this.jobKnownB = known & ~bit;
     }
-    this.belief.update(this.loglik, this.config.belief.forgetting);
-    this.belief.marginals(task.hidden.length, this.out.hiddenOccupied);
+    this.belief.stageBegin(this.config.belief.forgetting);
+  }
+
+  /** Run the job in flight for at most `budget` cost units (JOB_COST); Infinity finishes it. */
+  private runJob(budget: number): void {
+    let left = budget;
+    let first = true;
+    while (this.jobKind !== JOB_NONE) {
+      const used = this.jobPart(left, first);
+      if (used === 0) return;
+      left -= used;
+      first = false;
+      if (left <= 0) return;
+    }
   }
 
   /**
-   * The partner's listener update, reproduced: it feels f = c (v_own - v_partner) + noise and
-   * compares with c (speaker policy(h) - v_partner), so its expected log-likelihood of our
-   * private hypothesis h is -c^2 |v_own - policy(h)|^2 / (2 sigma^2), at the same scale.
+   * One part of the job's current stage within `budget` cost units (at least one hypothesis
+   * when `first`); returns the units used, 0 when nothing fits. Stages, in order (a hedged
+   * belief job has the B stages and the mixture, a replica job no mixture and no marginals):
+   * tabulate A, mean A, score A, [tabulate B, mean B, score B, mixture maximum, mixture],
+   * add and maximum, sum, normalise, [marginals], commit.
    */
-  private updateReplica(px: number, py: number): void {
+  private jobPart(budget: number, first: boolean): number {
+    const stage = this.jobStage;
+    const nH = this.jobN;
     const task = this.task;
-    task.prepare(px, py);
-    const n = this.beliefEvery;
-    const vx = this.accVx / n, vy = this.accVy / n;
-    const c = this.config.coupling.damping_n_s_m;
-    const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
-    const known = this.observedMask(task.shared) | this.committedHidden;
-    task.tabulate(task.own, known, this.ownTable);
-    this.legMean(this.ownTable, task.own, this.committedOwn);
-    const mx = this.v2[0]!, my = this.v2[1]!;
-    for (let h = 0; h < this.replica.n; h++) {
-      this.legible(this.ownTable, h, mx, my);
-      const rx = c * (vx - this.v2[0]!);
-      const ry = c * (vy - this.v2[1]!);
-      this.loglik[h] = -(rx * rx + ry * ry) * k;
+    const replicaJob = this.jobKind === JOB_REPLICA;
+    const bel = replicaJob ? this.replica : this.belief;
+    const cost = JOB_COST[stage]!;
+    if (stage === JOB_TAB_A || stage === JOB_TAB_B || stage === JOB_COMMIT) {
+      const units = cost * nH;
+      if (!first && units > budget) return 0;
+      if (stage === JOB_COMMIT) {
+        this.commitJob();
+        return units;
+      }
+      task.prepare(this.jobPx, this.jobPy);
+      const list = replicaJob ? task.own : task.hidden;
+      const table = replicaJob ? this.ownTable : stage === JOB_TAB_A ? this.hiddenTable : this.hiddenTable2;
+      task.tabulate(list, stage === JOB_TAB_A ? this.jobKnownA : this.jobKnownB, table);
+      this.jobSx = this.jobSy = this.jobK = 0;
+      this.jobStage = stage + 1;
+      this.jobH = 0;
+      return units;
     }
-    this.replica.update(this.loglik, this.config.belief.forgetting);
+    let count = Math.floor(budget / cost);
+    if (count < 1) {
+      if (!first) return 0;
+      count = 1;
+    }
+    const from = this.jobH;
+    const to = Math.min(nH, from + count);
+    const table = replicaJob ? this.ownTable : stage <= JOB_SCORE_A ? this.hiddenTable : this.hiddenTable2;
+    switch (stage) {
+      case JOB_MEAN_A:
+      case JOB_MEAN_B: {
+        // consistentMean, over a range.
+        const need = this.jobNeed;
+        let sx = this.jobSx, sy = this.jobSy, k = this.jobK;
+        for (let h = from; h < to; h++) {
+          if ((h & need) !== need) continue;
+          task.velocityOf(table, h, this.v2);
+          sx += this.v2[0]!;
+          sy += this.v2[1]!;
+          k++;
+        }
+        this.jobSx = sx;
+        this.jobSy = sy;
+        this.jobK = k;
+        if (to === nH) {
+          this.jobMx = sx / k;
+          this.jobMy = sy / k;
+        }
+        break;
+      }
+      case JOB_SCORE_A:
+      case JOB_SCORE_B: {
+        const c = this.config.coupling.damping_n_s_m;
+        const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
+        const mx = this.jobMx, my = this.jobMy;
+        const vx = this.jobVx, vy = this.jobVy;
+        if (replicaJob) {
+          // It feels f = c (v_own - v_partner) + noise and compares with c (speaker policy(h) -
+          // v_partner), so its expected log-likelihood of our private hypothesis h is
+          // -c^2 |v_own - policy(h)|^2 / (2 sigma^2), at the same scale.
+          const into = this.loglik;
+          for (let h = from; h < to; h++) {
+            this.legible(table, h, mx, my);
+            const rx = c * (vx - this.v2[0]!);
+            const ry = c * (vy - this.v2[1]!);
+            into[h] = -(rx * rx + ry * ry) * k;
+          }
+        } else {
+          // Log-likelihood of each hidden hypothesis for the window's mean correction force and
+          // own velocity, with the speaker acting on the table's known zones.
+          const into = stage === JOB_SCORE_A ? this.loglik : this.loglik2;
+          const fx = this.jobFx, fy = this.jobFy;
+          for (let h = from; h < to; h++) {
+            this.legible(table, h, mx, my);
+            const rx = fx - c * (this.v2[0]! - vx);
+            const ry = fy - c * (this.v2[1]! - vy);
+            into[h] = -(rx * rx + ry * ry) * k;
+          }
+        }
+        break;
+      }
+      case JOB_MIX_TOP: {
+        const w = this.commitWeight[this.jobDoubt]!;
+        const lw = Math.log(w), lw0 = Math.log(1 - w);
+        let top = from === 0 ? Number.NEGATIVE_INFINITY : this.jobTop;
+        for (let h = from; h < to; h++) {
+          const a = lw + this.loglik[h]!, b = lw0 + this.loglik2[h]!;
+          if (a > top) top = a;
+          if (b > top) top = b;
+        }
+        this.jobTop = top;
+        if (from === 0) this.jobE1 = this.jobE0 = 0;
+        break;
+      }
+      case JOB_MIX: {
+        // The commitment is a hidden variable too: what the speaker does tells whether it
+        // committed the zone. Its posterior, P(c | window) ∝ w Σ_h p(h) L1(h) against
+        // (1 − w) Σ_h p(h) L0(h), becomes the weight of the next window (and, rounded, this
+        // arm's view of the partner's commitment), so a disagreement repairs itself while
+        // listening. One common maximum serves the mixture and the posterior.
+        const w = this.commitWeight[this.jobDoubt]!;
+        const lw = Math.log(w), lw0 = Math.log(1 - w);
+        const top = this.jobTop;
+        const p = this.belief.p;
+        let e1 = this.jobE1, e0 = this.jobE0;
+        for (let h = from; h < to; h++) {
+          const ea = Math.exp(lw + this.loglik[h]! - top);
+          const eb = Math.exp(lw0 + this.loglik2[h]! - top);
+          e1 += p[h]! * ea;
+          e0 += p[h]! * eb;
+          this.loglik[h] = top + Math.log(ea + eb);
+        }
+        this.jobE1 = e1;
+        this.jobE0 = e0;
+        break;
+      }
+      case JOB_ADD:
+        bel.stageAdd(this.loglik, from, to);
+        bel.stageMax(from, to);
+        break;
+      case JOB_SUM:
+        bel.stageSum(from, to);
+        break;
+      case JOB_NORM:
+        bel.stageNormalise(from, to);
+        break;
+      case JOB_MARG:
+        bel.stageMarginals(task.hidden.length, from, to);
+        break;
+    }
+    this.jobH = to;
+    if (to === nH) {
+      this.jobH = 0;
+      this.jobStage = this.nextStage(stage);
+    }
+    return (to - from) * cost;
+  }
+
+  private nextStage(stage: number): number {
+    const hedged = this.jobDoubt !== -1;
+    const replicaJob = this.jobKind === JOB_REPLICA;
+    if (stage === JOB_SCORE_A && !hedged) return JOB_ADD;
+    if (stage === JOB_NORM && replicaJob) return JOB_COMMIT;
+    return stage + 1;
+  }
+
+  /** The job lands: the staged belief (or replica) becomes current, with what it concluded. */
+  private commitJob(): void {
+    if (this.jobKind === JOB_REPLICA) {
+      this.replica.stageCommit();
+      this.jobKind = JOB_NONE;
+      return;
+    }
+    const task = this.task;
+    if (this.jobDoubt !== -1) {
+      const post = this.jobE1 / (this.jobE1 + this.jobE0);
+      if (Number.isFinite(post)) {
+        const bit = 1 << task.own[this.jobDoubt]!;
+        const wp = Math.min(Math.max(post, 1e-9), 1 - 1e-9);
+        this.commitWeight[this.jobDoubt] = wp;
+        this.committedOwn = wp >= 0.5 ? this.committedOwn | bit : this.committedOwn & ~bit;
+      }
+    }
+    const degenerate = this.belief.stageDegenerate;
+    this.belief.stageCommit();
+    if (degenerate) this.belief.marginals(task.hidden.length, this.out.hiddenOccupied);
+    else this.belief.stagedMarginals(task.hidden.length, this.out.hiddenOccupied);
+    this.out.beliefUpdated = true;
+    this.jobKind = JOB_NONE;
+  }
+
+  /** Tables a restored job in the middle of a mean or score stage reads (tabulation is deterministic). */
+  private retabulateJob(): void {
+    if (this.jobKind === JOB_NONE) return;
+    const task = this.task;
+    const st = this.jobStage;
+    if (this.jobKind === JOB_REPLICA) {
+      if (st === JOB_MEAN_A || st === JOB_SCORE_A) {
+        task.prepare(this.jobPx, this.jobPy);
+        task.tabulate(task.own, this.jobKnownA, this.ownTable);
+      }
+      return;
+    }
+    if (st === JOB_MEAN_A || st === JOB_SCORE_A) {
+      task.prepare(this.jobPx, this.jobPy);
+      task.tabulate(task.hidden, this.jobKnownA, this.hiddenTable);
+    } else if (st === JOB_MEAN_B || st === JOB_SCORE_B) {
+      task.prepare(this.jobPx, this.jobPy);
+      task.tabulate(task.hidden, this.jobKnownB, this.hiddenTable2);
+    }
   }
 
   /**
@@ -786,12 +1021,12 @@ export class ArmStep {
       // Act on my own view and common knowledge only; exaggerate what tells my view from
       // the alternatives the partner still holds (uniform over what is not yet committed).
       const known = shared | this.committedHidden;
-      task.tabulate(task.own, known, this.ownTable);
-      this.legMean(this.ownTable, task.own, this.committedOwn);
+      task.tabulate(task.own, known, this.policyOwnTable);
+      this.legMean(this.policyOwnTable, task.own, this.committedOwn);
       const mx = this.v2[0]!, my = this.v2[1]!;
       let hyp = 0;
       for (let b = 0; b < task.own.length; b++) if ((own >>> task.own[b]!) & 1) hyp |= 1 << b;
-      this.legible(this.ownTable, hyp, mx, my);
+      this.legible(this.policyOwnTable, hyp, mx, my);
       this.targetVx = this.v2[0]!;
       this.targetVy = this.v2[1]!;
       return;
@@ -800,9 +1035,9 @@ export class ArmStep {
     // hypotheses it still holds disagree about what to do (uncertainty that matters here).
     let sx = 0, sy = 0, sxx = 0;
     const p = this.belief.p;
-    task.tabulate(task.hidden, shared | own, this.hiddenTable);
+    task.tabulate(task.hidden, shared | own, this.policyHiddenTable);
     for (let h = 0; h < this.hypotheses; h++) {
-      task.velocityOf(this.hiddenTable, h, this.v2);
+      task.velocityOf(this.policyHiddenTable, h, this.v2);
       const ph = p[h]!;
       sx += ph * this.v2[0]!;
       sy += ph * this.v2[1]!;
@@ -833,6 +1068,7 @@ export class ArmStep {
       zones: Uint8Array.from(this.zoneState),
       partnerStop: this.partnerStop.snapshot(),
       commitWeight: Float64Array.from(this.commitWeight),
+      job: this.jobSnapshot(),
       tareReason: this.out.tareReason,
     };
   }
@@ -859,6 +1095,7 @@ export class ArmStep {
     this.partnerHeldFlag = n[23] === 1;
     this.partnerStop.restore(s.partnerStop);
     this.commitWeight.set(s.commitWeight);
+    this.jobRestore(s.job);
     // Outputs a caller may read before the next step: as they were.
     this.belief.marginals(this.task.hidden.length, this.out.hiddenOccupied);
     this.out.held = this.watchdog.held;
@@ -869,6 +1106,31 @@ export class ArmStep {
     this.jointVel.set(s.joint);
     this.pose.set(s.pose);
     this.zoneState.set(s.zones);
+  }
+
+  private jobSnapshot(): Float64Array {
+    const head = Float64Array.of(this.jobKind, this.jobRole, this.jobStage, this.jobH, this.jobN, this.jobPx, this.jobPy, this.jobFx, this.jobFy,
+      this.jobVx, this.jobVy, this.jobKnownA, this.jobKnownB, this.jobNeed, this.jobDoubt, this.jobSx, this.jobSy, this.jobK, this.jobMx, this.jobMy,
+      this.jobTop, this.jobE1, this.jobE0);
+    const s = new Float64Array(JOB_HEAD + 2 * this.loglik.length);
+    s.set(head, 0);
+    s.set(this.loglik, JOB_HEAD);
+    s.set(this.loglik2, JOB_HEAD + this.loglik.length);
+    return s;
+  }
+
+  private jobRestore(s: Float64Array | undefined): void {
+    if (!s || s.length !== JOB_HEAD + 2 * this.loglik.length) {
+      this.jobKind = JOB_NONE;
+      return;
+    }
+    const j = Array.from(s.subarray(0, JOB_HEAD));
+    [this.jobKind, this.jobRole, this.jobStage, this.jobH, this.jobN, this.jobPx, this.jobPy, this.jobFx] = [j[0]!, j[1]!, j[2]!, j[3]!, j[4]!, j[5]!, j[6]!, j[7]!];
+    [this.jobFy, this.jobVx, this.jobVy, this.jobKnownA, this.jobKnownB, this.jobNeed, this.jobDoubt, this.jobSx] = [j[8]!, j[9]!, j[10]!, j[11]!, j[12]!, j[13]!, j[14]!, j[15]!];
+    [this.jobSy, this.jobK, this.jobMx, this.jobMy, this.jobTop, this.jobE1, this.jobE0] = [j[16]!, j[17]!, j[18]!, j[19]!, j[20]!, j[21]!, j[22]!];
+    this.loglik.set(s.subarray(JOB_HEAD, JOB_HEAD + this.loglik.length));
+    this.loglik2.set(s.subarray(JOB_HEAD + this.loglik.length));
+    this.retabulateJob();
   }
 
   /**
@@ -903,6 +1165,9 @@ export class ArmStep {
     for (const key of Object.keys(fresh)) self[key] = (fresh as unknown as Record<string, unknown>)[key];
   }
 }
+
+/** Numbers at the head of a job snapshot. */
+const JOB_HEAD = 23;
 
 function logit(p: number): number {
   const q = Math.min(Math.max(p, 1e-12), 1 - 1e-12);

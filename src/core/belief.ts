@@ -4,6 +4,12 @@
  * update(): log p(h) += log-likelihood(h), then normalise with log-sum-exp, then mix toward
  * the uniform belief by the forgetting factor (a world that changes: no hypothesis is ever
  * ruled out for good). Outputs: probabilities, entropy (nats), most likely hypothesis.
+ *
+ * The staged form (stageBegin, stageAdd, stageMax, stageSum, stageNormalise, stageMarginals,
+ * stageCommit) does the same arithmetic in the same order over ranges of hypotheses, into
+ * arrays of its own, so an update can be spread over several calls (the arm step does one part
+ * per sample) while `p` and `logp` stay as they were until the commit. Its result equals
+ * `update()` bit for bit.
  */
 export class Belief {
   readonly n: number;
@@ -12,12 +18,25 @@ export class Belief {
   entropy = 0;
   mostLikely = 0;
   updates = 0;
+  // Staged update: the new log-probabilities and probabilities, and the running figures.
+  private readonly stLogp: Float64Array;
+  private readonly stP: Float64Array;
+  private readonly stMarg: Float64Array;
+  private stForgetting = 0;
+  private stMax = -Infinity;
+  private stSum = 0;
+  private stEntropy = 0;
+  private stBest = 0;
+  private stBestP = -1;
 
   constructor(n: number) {
     if (!Number.isInteger(n) || n < 1) throw new RangeError('a belief needs at least one hypothesis');
     this.n = n;
     this.logp = new Float64Array(n);
     this.p = new Float64Array(n);
+    this.stLogp = new Float64Array(n);
+    this.stP = new Float64Array(n);
+    this.stMarg = new Float64Array(32);
     this.reset();
   }
 
@@ -76,6 +95,93 @@ export class Belief {
     this.mostLikely = best;
   }
 
+  /** Start a staged update with this forgetting factor. */
+  stageBegin(forgetting: number): void {
+    this.stForgetting = forgetting;
+    this.stMax = -Infinity;
+    this.stSum = 0;
+    this.stEntropy = 0;
+    this.stBest = 0;
+    this.stBestP = -1;
+  }
+
+  /** Staged logp + loglik for hypotheses [from, to). */
+  stageAdd(loglik: Float64Array, from: number, to: number): void {
+    for (let k = from; k < to; k++) this.stLogp[k] = this.logp[k]! + loglik[k]!;
+  }
+
+  /** The staged maximum over [from, to) (after stageAdd of the same range). */
+  stageMax(from: number, to: number): void {
+    let max = this.stMax;
+    for (let k = from; k < to; k++) if (this.stLogp[k]! > max) max = this.stLogp[k]!;
+    this.stMax = max;
+  }
+
+  /** Every hypothesis ruled out (or a NaN): the commit starts over, as update() does. */
+  get stageDegenerate(): boolean {
+    return !Number.isFinite(this.stMax);
+  }
+
+  /** The normaliser's sum over [from, to) (after the maximum over every hypothesis). */
+  stageSum(from: number, to: number): void {
+    const max = this.stMax;
+    let s = this.stSum;
+    for (let k = from; k < to; k++) s += Math.exp(this.stLogp[k]! - max);
+    this.stSum = s;
+  }
+
+  /** Normalise and forget over [from, to) (after the sum over every hypothesis). */
+  stageNormalise(from: number, to: number): void {
+    const n = this.n;
+    const forgetting = this.stForgetting;
+    const lse = this.stMax + Math.log(this.stSum);
+    const u = forgetting / n;
+    let h = this.stEntropy;
+    let best = this.stBest;
+    let bestP = this.stBestP;
+    for (let k = from; k < to; k++) {
+      const pk = (1 - forgetting) * Math.exp(this.stLogp[k]! - lse) + u;
+      this.stP[k] = pk;
+      this.stLogp[k] = Math.log(pk);
+      if (pk > 0) h -= pk * this.stLogp[k]!;
+      if (pk > bestP) {
+        bestP = pk;
+        best = k;
+      }
+    }
+    this.stEntropy = h;
+    this.stBest = best;
+    this.stBestP = bestP;
+  }
+
+  /** Marginals of the staged probabilities over [from, to) (as marginals(); from = 0 clears). */
+  stageMarginals(bits: number, from: number, to: number): void {
+    const out = this.stMarg;
+    if (from === 0) out.fill(0, 0, bits);
+    for (let k = from; k < to; k++) {
+      const pk = this.stP[k]!;
+      for (let b = 0; b < bits; b++) if ((k >>> b) & 1) out[b]! += pk;
+    }
+  }
+
+  /** Marginals of the last staged update (valid after stageMarginals over every hypothesis). */
+  stagedMarginals(bits: number, out: Float64Array): void {
+    for (let b = 0; b < bits; b++) out[b] = this.stMarg[b]!;
+  }
+
+  /** Make the staged update the belief (what update() would have left). */
+  stageCommit(): void {
+    if (!Number.isFinite(this.stMax)) {
+      this.reset();
+    } else {
+      this.logp.set(this.stLogp);
+      this.p.set(this.stP);
+      this.entropy = this.stEntropy;
+      this.mostLikely = this.stBest;
+    }
+    this.updates++;
+  }
+
   /** Marginal probability that bit b of the hypothesis index is set, for each of `bits` bits. */
   marginals(bits: number, out: Float64Array): void {
     out.fill(0, 0, bits);
@@ -85,22 +191,46 @@ export class Belief {
     }
   }
 
-  /** Full state, for bit-identical continuation after restore(). */
+  /** Full state, a staged update in progress included, for bit-identical continuation after restore(). */
   snapshot(): Float64Array {
-    const s = new Float64Array(2 * this.n + 3);
+    const n = this.n;
+    const s = new Float64Array(4 * n + 3 + 6 + this.stMarg.length);
     s.set(this.logp, 0);
-    s.set(this.p, this.n);
-    s[2 * this.n] = this.entropy;
-    s[2 * this.n + 1] = this.mostLikely;
-    s[2 * this.n + 2] = this.updates;
+    s.set(this.p, n);
+    s[2 * n] = this.entropy;
+    s[2 * n + 1] = this.mostLikely;
+    s[2 * n + 2] = this.updates;
+    s.set(this.stLogp, 2 * n + 3);
+    s.set(this.stP, 3 * n + 3);
+    const o = 4 * n + 3;
+    s[o] = this.stForgetting;
+    s[o + 1] = this.stMax;
+    s[o + 2] = this.stSum;
+    s[o + 3] = this.stEntropy;
+    s[o + 4] = this.stBest;
+    s[o + 5] = this.stBestP;
+    s.set(this.stMarg, o + 6);
     return s;
   }
 
+  /** Restore a snapshot (one without a staged part, from before staged updates, restores the belief only). */
   restore(s: Float64Array): void {
-    this.logp.set(s.subarray(0, this.n));
-    this.p.set(s.subarray(this.n, 2 * this.n));
-    this.entropy = s[2 * this.n]!;
-    this.mostLikely = s[2 * this.n + 1]!;
-    this.updates = s[2 * this.n + 2]!;
+    const n = this.n;
+    this.logp.set(s.subarray(0, n));
+    this.p.set(s.subarray(n, 2 * n));
+    this.entropy = s[2 * n]!;
+    this.mostLikely = s[2 * n + 1]!;
+    this.updates = s[2 * n + 2]!;
+    if (s.length < 4 * n + 9 + this.stMarg.length) return;
+    this.stLogp.set(s.subarray(2 * n + 3, 3 * n + 3));
+    this.stP.set(s.subarray(3 * n + 3, 4 * n + 3));
+    const o = 4 * n + 3;
+    this.stForgetting = s[o]!;
+    this.stMax = s[o + 1]!;
+    this.stSum = s[o + 2]!;
+    this.stEntropy = s[o + 3]!;
+    this.stBest = s[o + 4]!;
+    this.stBestP = s[o + 5]!;
+    this.stMarg.set(s.subarray(o + 6, o + 6 + this.stMarg.length));
   }
 }

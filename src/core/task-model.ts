@@ -21,13 +21,20 @@ export const MAX_ZONES = 24;
 /** Clearance kept between the object and an occupied zone. */
 export const CLEARANCE_M = 0.05;
 
-/** Per-subset contributions of a set of zones (see `TaskModel.tabulate`). */
+/**
+ * Per-subset contributions of a set of zones (see `TaskModel.tabulate`). Self-contained: it
+ * keeps the goal pull and travel direction of the position it was tabulated at, so it reads
+ * the same after another `prepare()` (the arm step spreads its reads over several samples).
+ */
 export class SubsetTable {
   readonly ly: Float64Array;
   readonly cap: Float64Array;
   readonly lo: Float64Array;
   readonly hi: Float64Array;
   size = 0;
+  gx = 0;
+  gy = 0;
+  dir = 1;
   constructor(bits: number) {
     const n = 1 << bits;
     this.ly = new Float64Array(n);
@@ -180,17 +187,19 @@ export class TaskModel {
       table.hi[h] = Math.min(table.hi[prev]!, this.hi[z]!);
     }
     table.size = n;
+    table.gx = this.gx;
+    table.gy = this.gy;
+    table.dir = this.dir;
   }
 
   /** Velocity of subset h of a table made by `tabulate()`. */
   velocityOf(table: SubsetTable, h: number, out: Float64Array, offset = 0): void {
-    this.finish(table.ly[h]!, table.cap[h]!, table.lo[h]!, table.hi[h]!, out, offset);
+    this.finish(table.ly[h]!, table.cap[h]!, table.lo[h]!, table.hi[h]!, table.gx, table.gy, table.dir, out, offset);
   }
 
-  private finish(ly: number, cap: number, lo: number, hi: number, out: Float64Array, offset: number): void {
-    let vx = this.gx;
-    if (vx * this.dir > cap) vx = cap * this.dir;
-    let gy = this.gy;
+  private finish(ly: number, cap: number, lo: number, hi: number, gx: number, gy: number, dir: number, out: Float64Array, offset: number): void {
+    let vx = gx;
+    if (vx * dir > cap) vx = cap * dir;
     if (gy < lo) gy = lo;
     if (gy > hi) gy = hi;
     let vy = gy + ly;

@@ -106,4 +106,54 @@ describe('Belief (log-domain Bayes)', () => {
     expect(m[0]).toBeCloseTo(0.2 + 0.4, 12); // bit 0 set in hypotheses 1 and 3
     expect(m[1]).toBeCloseTo(0.3 + 0.4, 12); // bit 1 set in hypotheses 2 and 3
   });
+
+  it('the staged update equals update() bit for bit, however it is cut, and a snapshot mid-way continues it (property)', () => {
+    // Our own behaviour: the arm step spreads an update over samples (src/core/belief.ts).
+    fc.assert(
+      fc.property(
+        fc.integer({ min: 1, max: 64 }),
+        fc.array(fc.double({ min: -40, max: 5, noNaN: true }), { minLength: 64, maxLength: 64 }),
+        fc.double({ min: 0, max: 0.1, noNaN: true }),
+        fc.array(fc.integer({ min: 1, max: 20 }), { minLength: 1, maxLength: 5 }),
+        fc.boolean(),
+        (n, ll, forgetting, cuts, midSnapshot) => {
+          const bits = Math.max(1, Math.floor(Math.log2(n)));
+          const loglik = Float64Array.from(ll.slice(0, n));
+          const one = new Belief(n);
+          one.setPrior(Array.from({ length: n }, (_, k) => 1 + ((k * 7) % 5)));
+          let staged = new Belief(n);
+          staged.restore(one.snapshot());
+          one.update(loglik, forgetting);
+          const m1 = new Float64Array(bits);
+          one.marginals(bits, m1);
+          staged.stageBegin(forgetting);
+          let c = 0;
+          const pass = (f: (a: number, b: number) => void) => {
+            for (let a = 0; a < n; ) {
+              const b = Math.min(n, a + cuts[c++ % cuts.length]!);
+              f(a, b);
+              a = b;
+            }
+          };
+          pass((a, b) => { staged.stageAdd(loglik, a, b); staged.stageMax(a, b); });
+          if (midSnapshot) {
+            const copy = new Belief(n);
+            copy.restore(staged.snapshot());
+            staged = copy;
+          }
+          pass((a, b) => staged.stageSum(a, b));
+          pass((a, b) => staged.stageNormalise(a, b));
+          pass((a, b) => staged.stageMarginals(bits, a, b));
+          const m2 = new Float64Array(bits);
+          staged.stagedMarginals(bits, m2);
+          staged.stageCommit();
+          expect(Array.from(staged.logp)).toEqual(Array.from(one.logp));
+          expect(Array.from(staged.p)).toEqual(Array.from(one.p));
+          expect([staged.entropy, staged.mostLikely, staged.updates]).toEqual([one.entropy, one.mostLikely, one.updates]);
+          expect(Array.from(m2)).toEqual(Array.from(m1));
+        },
+      ),
+      { numRuns: 200, seed: 8 },
+    );
+  });
 });

@@ -1,0 +1,375 @@
+/**
+ * The arm step's 100 Hz job (belief and replica updates spread over the samples of the next
+ * window): tests of our own behaviour on invented data of our own scenario (the demo cell and a
+ * 16-zone variant of it with 256 hypotheses per arm).
+ *
+ * The oracle is the one-shot computation the arm step ran before the job existed, kept here
+ * verbatim (scoreSpeaker / updateBelief / updateReplica), applied to a copy of the arm restored
+ * from a snapshot taken when the job started: the job's result must equal it bit for bit,
+ * however the job is cut into parts.
+ */
+import fc from 'fast-check';
+import { setFlagsFromString } from 'node:v8';
+import { runInNewContext } from 'node:vm';
+import { describe, expect, it } from 'vitest';
+import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../../src/core/arm-step.js';
+import { LISTENER, SPEAKER } from '../../src/core/roles.js';
+import { SubsetTable } from '../../src/core/task-model.js';
+import { loadCell, type ArmConfig, type ZoneConfig } from '../../src/params/config.js';
+import { Rng } from '../../src/util/rng.js';
+
+const cell = loadCell('config/demo_cell.yaml');
+
+/** 16 zones, 8 seen only by each arm: 256 hypotheses on both sides (as bench/pipeline.ts). */
+function config256(): { left: ArmConfig; right: ArmConfig } {
+  const zones: ZoneConfig[] = [];
+  for (let k = 0; k < 16; k++) {
+    const side = k % 2 === 0 ? 'left' : 'right';
+    zones.push({
+      name: `zone_${String(k).padStart(2, '0')}`,
+      shape: k % 3 === 0 ? 'box' : 'circle',
+      center_m: [0.3 + 0.07 * k, side === 'left' ? 0.5 : -0.5],
+      size_m: [0.08, 0.08],
+      radius_m: 0.04,
+      observed_by: side,
+      kind: k % 2 === 0 ? 'clamp_post' : 'cable_tray',
+    });
+  }
+  const mk = (c: ArmConfig): ArmConfig => ({ ...c, task: { ...c.task, zones } });
+  return { left: mk(cell.left.config), right: { ...mk(cell.right.config), roles: { ...cell.right.config.roles, phase: 1 } } };
+}
+
+// The private parts of ArmStep the tests read and drive.
+interface Inside {
+  task: ArmStep['task'];
+  config: ArmConfig;
+  belief: ArmStep['belief'];
+  replica: ArmStep['replica'];
+  hypotheses: number;
+  likelihoodScale: number;
+  committedHidden: number;
+  committedOwn: number;
+  commitWeight: Float64Array;
+  jobKind: number;
+  jobStage: number;
+  jobRole: number;
+  jobPx: number;
+  jobPy: number;
+  jobFx: number;
+  jobFy: number;
+  jobVx: number;
+  jobVy: number;
+  zoneState: Uint8Array;
+  out: ArmStep['out'];
+  v2: Float64Array;
+  runJob(budget: number): void;
+  startJob(role: number, px: number, py: number): void;
+  legible(table: SubsetTable, h: number, mx: number, my: number): void;
+  legMean(table: SubsetTable, list: Int32Array, committed: number): void;
+  observedMask(indices: Int32Array): number;
+}
+const inside = (s: ArmStep) => s as unknown as Inside;
+
+/** The one-shot updates as they were (verbatim but for `this`), on the job's snapshot inputs. */
+function oneShot(a: Inside): void {
+  const task = a.task;
+  const px = a.jobPx, py = a.jobPy;
+  const k = a.likelihoodScale / (2 * a.config.belief.noise_force_n ** 2);
+  const c = a.config.coupling.damping_n_s_m;
+  const loglik = new Float64Array(Math.max(a.hypotheses, a.replica.n));
+  const loglik2 = new Float64Array(loglik.length);
+  if (a.jobKind === 2) {
+    task.prepare(px, py);
+    const vx = a.jobVx, vy = a.jobVy;
+    const known = a.observedMask(task.shared) | a.committedHidden;
+    const table = new SubsetTable(task.own.length);
+    task.tabulate(task.own, known, table);
+    a.legMean(table, task.own, a.committedOwn);
+    const mx = a.v2[0]!, my = a.v2[1]!;
+    for (let h = 0; h < a.replica.n; h++) {
+      a.legible(table, h, mx, my);
+      const rx = c * (vx - a.v2[0]!);
+      const ry = c * (vy - a.v2[1]!);
+      loglik[h] = -(rx * rx + ry * ry) * k;
+    }
+    a.replica.update(loglik, a.config.belief.forgetting);
+    return;
+  }
+  const fx = a.jobFx, fy = a.jobFy, vx = a.jobVx, vy = a.jobVy;
+  const score = (table: SubsetTable, kn: number, into: Float64Array) => {
+    task.prepare(px, py);
+    task.tabulate(task.hidden, kn, table);
+    a.legMean(table, task.hidden, a.committedHidden);
+    const mx = a.v2[0]!, my = a.v2[1]!;
+    for (let h = 0; h < a.hypotheses; h++) {
+      a.legible(table, h, mx, my);
+      const rx = fx - c * (a.v2[0]! - vx);
+      const ry = fy - c * (a.v2[1]! - vy);
+      into[h] = -(rx * rx + ry * ry) * k;
+    }
+  };
+  const known = a.observedMask(task.shared) | a.committedOwn;
+  let doubt = -1;
+  let doubtU = 0.0196;
+  for (let b = 0; b < task.own.length; b++) {
+    const w = a.commitWeight[b]!;
+    const u = w * (1 - w);
+    if (u > doubtU) {
+      doubtU = u;
+      doubt = b;
+    }
+  }
+  if (doubt === -1) {
+    score(new SubsetTable(task.hidden.length), known, loglik);
+  } else {
+    const bit = 1 << task.own[doubt]!;
+    const w = a.commitWeight[doubt]!;
+    score(new SubsetTable(task.hidden.length), known | bit, loglik);
+    score(new SubsetTable(task.hidden.length), known & ~bit, loglik2);
+    const lw = Math.log(w), lw0 = Math.log(1 - w);
+    let top = Number.NEGATIVE_INFINITY;
+    for (let h = 0; h < a.hypotheses; h++) {
+      const x = lw + loglik[h]!, y = lw0 + loglik2[h]!;
+      if (x > top) top = x;
+      if (y > top) top = y;
+    }
+    const p = a.belief.p;
+    let e1 = 0, e0 = 0;
+    for (let h = 0; h < a.hypotheses; h++) {
+      const ea = Math.exp(lw + loglik[h]! - top);
+      const eb = Math.exp(lw0 + loglik2[h]! - top);
+      e1 += p[h]! * ea;
+      e0 += p[h]! * eb;
+      loglik[h] = top + Math.log(ea + eb);
+    }
+    const post = e1 / (e1 + e0);
+    if (Number.isFinite(post)) {
+      const wp = Math.min(Math.max(post, 1e-9), 1 - 1e-9);
+      a.commitWeight[doubt] = wp;
+      a.committedOwn = wp >= 0.5 ? a.committedOwn | bit : a.committedOwn & ~bit;
+    }
+  }
+  a.belief.update(loglik, a.config.belief.forgetting);
+  a.belief.marginals(task.hidden.length, a.out.hiddenOccupied);
+}
+
+/** Everything the job may change, for comparison. */
+function state(s: ArmStep): unknown {
+  const a = inside(s);
+  return {
+    logp: Array.from(a.belief.logp), p: Array.from(a.belief.p), entropy: a.belief.entropy, mostLikely: a.belief.mostLikely, updates: a.belief.updates,
+    rlogp: Array.from(a.replica.logp), rp: Array.from(a.replica.p), rentropy: a.replica.entropy, rmost: a.replica.mostLikely, rupdates: a.replica.updates,
+    marg: Array.from(a.out.hiddenOccupied), weight: Array.from(a.commitWeight), committedOwn: a.committedOwn,
+  };
+}
+
+/** An arm brought to a random state: a run with noise and pushes, then random common knowledge and a random prior. */
+function armAt(cfg: ArmConfig, seed: number, samples: number): { s: ArmStep; t: number } {
+  const s = new ArmStep(cfg, { jointCount: 3 });
+  const rng = new Rng(seed);
+  const w = new Float64Array(6);
+  const vel = new Float64Array(3);
+  const zones = cfg.task.zones;
+  const view = Uint8Array.from(zones, (z) => (z.observed_by === cfg.arm ? (rng.uniform() < 0.5 ? ZONE_OCCUPIED : ZONE_FREE) : ZONE_UNKNOWN));
+  let t = 0;
+  for (let k = 0; k < samples; k++) {
+    t = k / 1000;
+    if (k % 100 === 0) s.setZoneView(t, view);
+    s.setToolPose(t, 0.2 + 0.3 * Math.sin(0.1 * t + seed), 0.55 * (cfg.arm === 'left' ? 1 : -1) + 0.1 * Math.cos(0.1 * t), 0.9, 0, 0, 0, 1);
+    if (k % 2 === 0) s.setJointState(t, vel, 3);
+    const nz = k < 1000 ? 0.2 : 1; // quiet until the start-up tare
+    w[0] = nz * rng.normal() + (k > 1000 ? 4 * Math.sin(3 * t) : 0);
+    w[1] = nz * rng.normal() + (k > 1000 ? 3 * Math.cos(2 * t) : 0);
+    w[2] = -11.77 + 0.2 * rng.normal();
+    s.step(t, w);
+  }
+  return { s, t };
+}
+
+describe('the 100 Hz job', () => {
+  it('equals the one-shot update bit for bit, however it is cut into parts (property)', () => {
+    const cfgs = [cell.left.config, cell.right.config, config256().left, config256().right];
+    fc.assert(
+      fc.property(
+        fc.integer({ min: 0, max: 3 }),
+        fc.integer({ min: 1, max: 1_000_000 }),
+        fc.boolean(),
+        fc.double({ min: 0.03, max: 0.97, noNaN: true }),
+        fc.integer({ min: 0, max: 0xffff }),
+        fc.array(fc.integer({ min: 1, max: 30_000 }), { minLength: 1, maxLength: 8 }),
+        (ci, seed, hedge, w, masks, budgets) => {
+          const cfg = cfgs[ci]!;
+          const { s } = armAt(cfg, seed, 1200 + (seed % 700));
+          const a = inside(s);
+          a.jobKind = 0;
+          const rng = new Rng(seed + 1);
+          // Random common knowledge and prior.
+          a.committedHidden = 0;
+          for (let b = 0; b < a.task.hidden.length; b++) if ((masks >>> b) & 1) a.committedHidden |= 1 << a.task.hidden[b]!;
+          a.committedOwn = 0;
+          for (let b = 0; b < a.task.own.length; b++) if ((masks >>> (8 + b)) & 1) a.committedOwn |= 1 << a.task.own[b]!;
+          a.commitWeight.fill(0);
+          if (hedge) a.commitWeight[seed % a.task.own.length] = w;
+          a.belief.setPrior(Array.from({ length: a.belief.n }, () => 0.05 + rng.uniform()));
+          a.replica.setPrior(Array.from({ length: a.replica.n }, () => 0.05 + rng.uniform()));
+          for (const role of [LISTENER, SPEAKER]) {
+            // Start a job on this window (the means as accumulated so far), copy the arm.
+            (s as unknown as { accFx: number; accFy: number; accVx: number; accVy: number }).accFx = 30 * (rng.uniform() - 0.5);
+            (s as unknown as { accFy: number }).accFy = 30 * (rng.uniform() - 0.5);
+            (s as unknown as { accVx: number }).accVx = 1.5 * rng.uniform();
+            (s as unknown as { accVy: number }).accVy = 0.5 * (rng.uniform() - 0.5);
+            a.startJob(role, 0.1 + 1.2 * rng.uniform(), 0.2 * (rng.uniform() - 0.5));
+            const ref = new ArmStep(cfg, { jointCount: 3 });
+            ref.restore(s.snapshot());
+            oneShot(inside(ref));
+            let i = 0;
+            while (a.jobKind !== 0) a.runJob(budgets[i++ % budgets.length]!);
+            expect(state(s)).toEqual(state(ref));
+          }
+        },
+      ),
+      { numRuns: 25, seed: 8 },
+    );
+  });
+
+  it('a snapshot taken mid-job (restore, applyParams) gives the same continuation, every output, every sample', () => {
+    const { left } = config256();
+    const sig = (s: ArmStep) => JSON.stringify([state(s), Array.from(s.out.twist), s.out.beliefUpdated, s.out.committedHidden, s.out.committedOwn]);
+    for (const seed of [3, 4]) {
+      const { s: base } = armAt(left, seed, 1500);
+      const a = inside(base);
+      const rng = new Rng(seed);
+      const w = new Float64Array(6);
+      let k = 1500;
+      const feed = (s: ArmStep, kk: number, r: Rng) => {
+        const t = kk / 1000;
+        s.setToolPose(t, 0.3, 0.55, 0.9, 0, 0, 0, 1);
+        s.setJointState(t, new Float64Array(3), 3);
+        if (kk % 100 === 0) s.setZoneView(t, new Uint8Array(16).fill(ZONE_FREE));
+        w[0] = 0.3 * r.normal() + 2;
+        w[1] = 0.3 * r.normal();
+        w[2] = -11.77;
+        return s.step(t, w);
+      };
+      // Step until a job is in flight past its first part, then copy it there.
+      let guard = 0;
+      while (!(a.jobKind !== 0 && a.jobStage > 2) && guard++ < 100) feed(base, k++, rng);
+      expect(a.jobKind).not.toBe(0);
+      const copy = new ArmStep(left, { jointCount: 3 });
+      copy.restore(base.snapshot());
+      // applyParams goes through a snapshot too: a run-time parameter change mid-job continues it.
+      const changed = new ArmStep(left, { jointCount: 3 });
+      changed.restore(base.snapshot());
+      changed.applyParams(left);
+      expect(inside(changed).jobKind).toBe(a.jobKind);
+      const r1 = new Rng(99), r2 = new Rng(99), r3 = new Rng(99);
+      for (let j = 0; j < 700; j++) {
+        feed(base, k + j, r1);
+        feed(copy, k + j, r2);
+        feed(changed, k + j, r3);
+        expect(sig(copy)).toBe(sig(base));
+        expect(sig(changed)).toBe(sig(base));
+      }
+    }
+  });
+
+  it('a role switch before the job lands discards it; otherwise it lands within the next window', () => {
+    const { left } = config256();
+    const { s } = armAt(left, 11, 2000);
+    const a = inside(s);
+    const rng = new Rng(5);
+    const w = new Float64Array(6);
+    let landed = 0, discarded = 0, startK = -1, longest = 0;
+    for (let k = 2000; k < 8000; k++) {
+      const t = k / 1000;
+      s.setToolPose(t, 0.3, 0.55, 0.9, 0, 0, 0, 1);
+      if (k % 2 === 0) s.setJointState(t, new Float64Array(3), 3);
+      if (k % 100 === 0) s.setZoneView(t, new Uint8Array(16).fill(ZONE_FREE));
+      w[0] = 0.3 * rng.normal() + 2;
+      w[1] = 0.3 * rng.normal();
+      w[2] = -11.77;
+      const before = a.jobKind !== 0 ? { role: a.jobRole, updates: a.belief.updates, rupdates: a.replica.updates } : null;
+      const o = s.step(t, w);
+      const landedNow = before !== null && (a.belief.updates !== before.updates || a.replica.updates !== before.rupdates);
+      if (landedNow) {
+        landed++;
+        expect(o.role).toBe(before.role);
+        // Started at the end of a window, landed within the next one.
+        longest = Math.max(longest, k - startK);
+        expect(k - startK).toBeLessThanOrEqual(inside(s).config.wrench_filter.sample_rate_hz / inside(s).config.belief.update_rate_hz);
+        startK = -1;
+      } else if (before && a.jobKind === 0) {
+        // Gone without landing: only by a role switch, and then nothing changed.
+        discarded++;
+        expect(o.role).not.toBe(before.role);
+        expect(o.beliefUpdated).toBe(false);
+        startK = -1;
+      }
+      if (a.jobKind !== 0 && startK === -1) startK = k;
+      if (o.beliefUpdated) expect(o.role).toBe(LISTENER);
+    }
+    // 256 hypotheses: a job takes two samples or more, so the last window of a slot never lands.
+    expect(longest).toBeGreaterThanOrEqual(1);
+    // 6 s of 0.5 s slots: the last window of each slot is discarded (12), the others land.
+    expect(discarded).toBeGreaterThanOrEqual(10);
+    expect(discarded).toBeLessThanOrEqual(13);
+    expect(landed).toBeGreaterThan(500);
+  });
+
+  it('on the demo cell (two hypotheses a side) every job lands in the sample its window ends, as the one-shot update did', () => {
+    for (const cfg of [cell.left.config, cell.right.config]) {
+      const { s } = armAt(cfg, 21, 1000);
+      const a = inside(s);
+      const rng = new Rng(2);
+      const w = new Float64Array(6);
+      let updates = 0;
+      for (let k = 1000; k < 4000; k++) {
+        const t = k / 1000;
+        s.setToolPose(t, 0.3, 0.55 * (cfg.arm === 'left' ? 1 : -1), 0.9, 0, 0, 0, 1);
+        if (k % 2 === 0) s.setJointState(t, new Float64Array(3), 3);
+        if (k % 100 === 0) s.setZoneView(t, Uint8Array.of(ZONE_FREE, ZONE_FREE));
+        w[0] = 0.3 * rng.normal() + 2;
+        w[1] = 0.3 * rng.normal();
+        w[2] = -11.77;
+        s.step(t, w);
+        expect(a.jobKind).toBe(0);
+        updates = a.belief.updates + a.replica.updates;
+      }
+      expect(updates).toBeGreaterThan(250);
+    }
+  });
+
+  it('allocates nothing per sample over a long run (heap after forced collections)', () => {
+    setFlagsFromString('--expose-gc');
+    const gc = runInNewContext('gc') as () => void;
+    const { left } = config256();
+    const s = new ArmStep(left, { jointCount: 6 });
+    const w = new Float64Array(6);
+    const qd = new Float64Array(6);
+    const view = Uint8Array.from(left.task.zones, (z, k) => (z.observed_by === 'left' ? (k % 4 === 0 ? ZONE_OCCUPIED : ZONE_FREE) : ZONE_UNKNOWN));
+    const rng = new Rng(1);
+    const run = (from: number, n: number) => {
+      for (let k = from; k < from + n; k++) {
+        const t = k / 1000;
+        s.setToolPose(t, 0.3 + 0.05 * Math.sin(t * 0.1), 0.55, 0.9, 0, 0, 0, 1);
+        if ((k & 1) === 0) s.setJointState(t, qd, 6);
+        if (k % 100 === 0) s.setZoneView(t, view);
+        w[0] = 0.2 * rng.normal() + (t > 1 ? 5 * Math.sin(t) : 0);
+        w[1] = 0.2 * rng.normal() + (t > 1 ? 3 * Math.cos(0.7 * t) : 0);
+        w[2] = -11.77 + 0.2 * rng.normal();
+        s.step(t, w);
+      }
+    };
+    run(0, 20_000);
+    gc();
+    gc();
+    const before = process.memoryUsage().heapUsed;
+    const n = 100_000;
+    run(20_000, n);
+    gc();
+    gc();
+    const growth = process.memoryUsage().heapUsed - before;
+    // 100 000 samples: one 16-byte object per sample would be 1.6 MB.
+    expect(growth).toBeLessThan(300_000);
+  });
+});
