@@ -11,6 +11,7 @@ import { loadCell } from '../params/config.js';
 import { runCampaign, type CampaignResult } from '../faults/campaign.js';
 import { FAULT_KINDS, type FaultKind } from '../faults/kinds.js';
 import { InputError } from '../util/errors.js';
+import { interruptExitCode, interrupted, watchInterrupts } from '../util/interrupt.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
 /** The demo cell shipped with the package (the campaign needs zones; the built-in defaults have none). */
@@ -91,15 +92,17 @@ export function register(program: Command): void {
         const showBar = !opts.json && process.stderr.isTTY === true;
         const bar = showBar ? new cliProgress.SingleBar({ stream: process.stderr, hideCursor: true }, cliProgress.Presets.shades_classic) : null;
         let result: CampaignResult;
+        const unwatch = watchInterrupts();
         try {
           bar?.start(episodes + skew * 9, 0);
-          result = await runCampaign({ left: cell.left.config, right: cell.right.config, duration_s: duration, episodes, seed, jobs, skew_episodes: skew, ...(kinds ? { kinds } : {}), ...(bar ? { onProgress: (d: number) => bar.update(d) } : {}) });
+          result = await runCampaign({ left: cell.left.config, right: cell.right.config, duration_s: duration, episodes, seed, jobs, skew_episodes: skew, shouldStop: interrupted, ...(kinds ? { kinds } : {}), ...(bar ? { onProgress: (d: number) => bar.update(d) } : {}) });
         } finally {
+          unwatch();
           bar?.stop();
         }
         if (opts.json) printJson(faultsJson(result));
         else printText(faultsTable(result));
-        return result.violations > 0 ? 1 : 0;
+        return interruptExitCode(result.violations > 0 ? 1 : 0);
       }),
     );
 }

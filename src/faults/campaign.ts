@@ -9,6 +9,7 @@ import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { ArmConfig } from '../params/config.js';
+import { yieldToSignals } from '../util/interrupt.js';
 import { Rng } from '../util/rng.js';
 import { worldSeed } from '../sim/world.js';
 import { runFaultEpisode } from './cell.js';
@@ -226,7 +227,7 @@ export async function runCampaign(input: CampaignInput): Promise<CampaignResult>
       results[j.id] = runCampaignJob(init, j);
       input.onProgress?.(++done, jobs.length);
       // Let signals and timers run between episodes.
-      if (done % 4 === 0) await new Promise((r) => setImmediate(r));
+      await yieldToSignals();
     }
   } else {
     await new Promise<void>((resolve, reject) => {
@@ -271,5 +272,5 @@ export async function runCampaign(input: CampaignInput): Promise<CampaignResult>
       }
     });
   }
-  return aggregateCampaign(input, results, results.some((r) => r === undefined));
+  return aggregateCampaign(input, results, done < jobs.length);
 }
