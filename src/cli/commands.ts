@@ -5,10 +5,11 @@ import { register as bag } from './bag.js';
 import { register as checkConfig } from './check-config.js';
 import { register as classify } from './classify.js';
 import { register as compare } from './compare.js';
+import { register as faults } from './faults.js';
 import { register as node } from './node.js';
 import { register as replay } from './replay.js';
 import { register as simulate } from './simulate.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, faults, node];

@@ -4,6 +4,7 @@ import { progressBar } from './progress.js';
 import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
 import { parseStrategyList } from '../sim/strategies.js';
+import { interruptExitCode, interrupted, interruptedFields, watchInterrupts } from '../util/interrupt.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions } from './simulate.js';
 
@@ -21,7 +22,7 @@ export function compareTable(r: CompareResult): string {
   ]);
   const w = head.map((h, c) => Math.max(h.length, ...rows.map((row) => row[c]!.length)));
   const line = (cells: string[]) => cells.map((x, c) => (c < 2 ? x.padEnd(w[c]!) : x.padStart(w[c]!))).join('  ');
-  const out = [`${r.worlds} worlds, seed ${r.seed}${r.arm_model ? `, arms ${r.arm_model}` : ''}`, line(head), ...rows.map(line), '', 'belief calibration, commitment agreement and same-role time (pooled over the worlds):'];
+  const out = [`${r.worlds_done < r.worlds ? `interrupted: ${r.worlds_done} of ` : ''}${r.worlds} worlds, seed ${r.seed}${r.arm_model ? `, arms ${r.arm_model}` : ''}`, line(head), ...rows.map(line), '', 'belief calibration, commitment agreement and same-role time (pooled over the worlds):'];
   const nw = Math.max(...r.strategies.map((s) => s.label.length));
   for (const s of r.strategies) {
     out.push(`${s.label.padEnd(nw)}  belief: ${calibrationText(s.calibration)}`);
@@ -39,6 +40,7 @@ export function compareTable(r: CompareResult): string {
 export function compareJson(r: CompareResult): Record<string, unknown> {
   return {
     worlds: r.worlds,
+    ...interruptedFields({ worlds_done: r.worlds_done }),
     seed: r.seed,
     arm_model: r.arm_model,
     strategies: r.strategies.map((s) => ({
@@ -91,9 +93,12 @@ export function register(program: Command): void {
         const bar = progressBar('compare', !!opts.json);
         bar?.start(worlds * strategies.length, 0);
         let result: CompareResult;
+        // SIGINT/SIGTERM: the episodes running finish, the whole worlds done are reported, exit 130/143.
+        const unwatch = watchInterrupts();
         try {
-          result = await runCompare({ ...input, ...(bar ? { onProgress: (done: number) => bar.update(done) } : {}) });
+          result = await runCompare({ ...input, shouldStop: interrupted, ...(bar ? { onProgress: (done: number) => bar.update(done) } : {}) });
         } finally {
+          unwatch();
           bar?.stop();
         }
         if (opts.json) printJson(compareJson(result));
@@ -101,7 +106,7 @@ export function register(program: Command): void {
           printText(compareTable(result));
           if (cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (pass --params config/demo_cell.yaml for the demo cell)');
         }
-        return 0;
+        return interruptExitCode(0);
       }),
     );
 }

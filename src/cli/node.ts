@@ -166,12 +166,13 @@ export function register(program: Command): void {
         const cell = loadCell(opts.params);
         const rcl = await loadRclnodejs();
         const live = await startNodes(rcl, arm, cell[arm], rosArgs, { autostart: opts.autostart });
-        await new Promise<void>((resolve) => {
-          const stop = (signal: string) => void live.stop(signal).then(resolve);
-          process.once('SIGTERM', () => stop('SIGTERM'));
-          process.once('SIGINT', () => stop('SIGINT'));
+        // Stopped by a signal: final zero twist, nodes destroyed, exit 128 + n (130 SIGINT, 143 SIGTERM).
+        const code = await new Promise<number>((resolve) => {
+          const stop = (signal: string, exit: number) => void live.stop(signal).then(() => resolve(exit));
+          process.once('SIGTERM', () => stop('SIGTERM', 143));
+          process.once('SIGINT', () => stop('SIGINT', 130));
         });
-        return 0;
+        return code;
       }),
     );
 }

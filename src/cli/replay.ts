@@ -15,6 +15,7 @@ import { replayReportInput, summarize } from '../replay/summary.js';
 import { renderReport } from '../report/html.js';
 import { parseRemaps } from '../ros/topics.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
+import { interruptExitCode, interrupted, interruptedFields, watchInterrupts } from '../util/interrupt.js';
 import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { numberOption, printJson, printText, runCommand } from './common.js';
 
@@ -74,17 +75,21 @@ export function register(program: Command): void {
         const expectations = opts.expect ? loadExpectations(opts.expect, { arms, hiddenZones: hiddenZonesOf(cell) }) : undefined;
         const definitions = await loadDefinitionSources(opts.definitions);
         const bag = await openBag(bagPath);
+        // SIGINT/SIGTERM: finish the batch, write the bag and summary.json of what was replayed, exit 130/143.
+        const unwatch = watchInterrupts();
         try {
           const bar = progressBar('replay', !!opts.json);
           bar?.start(1000, 0);
           const progress = bar ? (f: number) => bar.update(Math.round(f * 1000)) : undefined;
-          const base = { arms, configs: { left: cell.left.config, right: cell.right.config }, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}), ...(definitions.length ? { definitions } : {}) };
+          const base = { arms, configs: { left: cell.left.config, right: cell.right.config }, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}), ...(definitions.length ? { definitions } : {}), shouldStop: interrupted };
           let record: ReplayRecord;
           let summary: Record<string, unknown>;
           let verdicts: Verdict[] | undefined;
           const finish = (r: ReplayRecord) => {
             verdicts = expectations ? evaluate(r, expectations) : undefined;
-            summary = summarize(r, opts.params ?? null, verdicts, Object.fromEntries(arms.map((a) => [a, changedParams(cell[a].values, a)])));
+            const s = summarize(r, opts.params ?? null, verdicts, Object.fromEntries(arms.map((a) => [a, changedParams(cell[a].values, a)])));
+            const done = (s['arms'] as { samples: number }[] | undefined)?.reduce((a, x) => a + x.samples, 0) ?? 0;
+            summary = { ...s, ...interruptedFields({ samples_done: done }) };
           };
           if (opts.out !== undefined) {
             await withOutputDir(opts.out, outOpts, async (tmp) => {
@@ -124,8 +129,9 @@ export function register(program: Command): void {
             if (opts.out) lines.push('', `wrote ${join(opts.out, 'bag')}, ${join(opts.out, 'summary.json')}, ${join(opts.out, 'report.html')}`);
             printText(lines.join('\n'));
           }
-          return ok ? EXIT_OK : EXIT_CHECKS_FAILED;
+          return interruptExitCode(ok ? EXIT_OK : EXIT_CHECKS_FAILED);
         } finally {
+          unwatch();
           bag.close();
         }
       }),

@@ -14,6 +14,7 @@ import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js
 import { InputError } from '../util/errors.js';
 import { simulateSummaryJson } from '../sim/summary-json.js';
 import { tripText } from '../core/trip-text.js';
+import { interruptExitCode, interruptedFields, watchInterrupts } from '../util/interrupt.js';
 import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 
@@ -28,7 +29,7 @@ export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, 
   await withOutputDir(dir, { overwrite, inputs }, async (tmp) => {
     const art = await writeEpisodeBag(tmp, result, result.configs, storage);
     replayMatches = art.matchingSamples === art.samples;
-    summary = simulateSummaryJson(result.summary, art.replaySummary, replayMatches);
+    summary = { ...simulateSummaryJson(result.summary, art.replaySummary, replayMatches), ...interruptedFields({ episodes_done: 1 }) };
     writeFileAtomic(join(tmp, 'summary.json'), JSON.stringify(summary, null, 2) + '\n');
     writeFileAtomic(join(tmp, 'report.html'), renderReport(art.report));
   });
@@ -124,30 +125,36 @@ export function register(program: Command): void {
     .option('--json', 'print the summary as JSON')
     .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; storage?: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
-        const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
-        const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
-        const duration = numberOption('--duration', opts.duration, 0.01, 3600);
-        const armModel = armModelOption(opts.armModel);
-        const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
-        const inject = injectHoldOption(opts.injectHold);
-        const storage = storageOption(opts.storage);
-        const cell = loadCell(opts.params);
-        const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
-        let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
-        if (period !== undefined) {
-          if (!PERIODIC.has(strategy.name)) {
-            throw new InputError({ code: 'cli.period_not_allowed', message: `--period-steps does not apply to strategy '${strategy.name}'`, where: { option: '--period-steps' }, hint: 'only alternating and explicit take a period' });
+        // SIGINT/SIGTERM: the episode (the unit here: it runs without a break) finishes, its bag and summary.json are written, exit 130/143.
+        const unwatch = watchInterrupts();
+        try {
+          const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
+          const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
+          const duration = numberOption('--duration', opts.duration, 0.01, 3600);
+          const armModel = armModelOption(opts.armModel);
+          const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
+          const inject = injectHoldOption(opts.injectHold);
+          const storage = storageOption(opts.storage);
+          const cell = loadCell(opts.params);
+          const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
+          let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
+          if (period !== undefined) {
+            if (!PERIODIC.has(strategy.name)) {
+              throw new InputError({ code: 'cli.period_not_allowed', message: `--period-steps does not apply to strategy '${strategy.name}'`, where: { option: '--period-steps' }, hint: 'only alternating and explicit take a period' });
+            }
+            strategy = { name: strategy.name, k: period };
           }
-          strategy = { name: strategy.name, k: period };
+          // --out is checked before the episode runs (it may take minutes).
+          const dir = opts.out ?? join('out', `sim-${seed}`);
+          checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
+          const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
+          const { files, summary } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
+          if (opts.json) printJson({ ...summary, files });
+          else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
+          return interruptExitCode(0);
+        } finally {
+          unwatch();
         }
-        // --out is checked before the episode runs (it may take minutes).
-        const dir = opts.out ?? join('out', `sim-${seed}`);
-        checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
-        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
-        const { files, summary } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
-        if (opts.json) printJson({ ...summary, files });
-        else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
-        return 0;
       }),
     );
 }

@@ -53,6 +53,9 @@ const JOB_COST = Float64Array.of(12, 10, 25, 12, 10, 25, 3, 32, 5, 12, 35, 14, 1
 export const JOB_BUDGET = 15_000;
 
 /** `ArmOutputs.tareOutcome`: nothing happened, a tare was taken, a tare was refused. */
+/** Largest |wrench component| taken as a measurement, N or N·m; beyond it a sample is skipped by the filter and holds. */
+export const WRENCH_ABS_MAX = 1e6;
+
 export const TARE_OUTCOME_NONE = 0;
 export const TARE_OUTCOME_TAKEN = 1;
 export const TARE_OUTCOME_REFUSED = 2;
@@ -480,7 +483,8 @@ export class ArmStep {
     for (let k = 0; k < 6; k++) {
       const v = wrench[k]!;
       this.rawFinite[k] = v;
-      if (!Number.isFinite(v)) finite = false;
+      // Beyond any wrist sensor's range is no measurement: kept out of the filter like a NaN (1e300 overflowed its state).
+      if (!(Math.abs(v) <= WRENCH_ABS_MAX)) finite = false;
     }
     const f = this.filter;
     // A re-tare accepted while held or still ends, refused, once the arm moves again.

@@ -11,6 +11,9 @@
  * per sample) while `p` and `logp` stay as they were until the commit. Its result equals
  * `update()` bit for bit.
  */
+/** |max log p| beyond which the log-domain normalisation shifts to 0 first (exact to 1e-10 below it). */
+const RECENTER = 1048576;
+
 export class Belief {
   readonly n: number;
   readonly logp: Float64Array;
@@ -68,11 +71,21 @@ export class Belief {
   private normalise(forgetting: number): void {
     const n = this.n;
     let max = -Infinity;
-    for (let k = 0; k < n; k++) if (this.logp[k]! > max) max = this.logp[k]!;
-    if (!Number.isFinite(max)) {
+    let nan = false;
+    for (let k = 0; k < n; k++) {
+      const v = this.logp[k]!;
+      if (v > max) max = v;
+      else if (v !== v) nan = true;
+    }
+    if (nan || !Number.isFinite(max)) {
       // Every hypothesis was ruled out (or a NaN came in): start over rather than propagate.
       this.reset();
       return;
+    }
+    if (max > RECENTER || max < -RECENTER) {
+      // Far from 0, max + log(sum) rounds the log-sum away (1e308 + ln 2 = 1e308): shift first.
+      for (let k = 0; k < n; k++) this.logp[k] = this.logp[k]! - max;
+      max = 0;
     }
     let s = 0;
     for (let k = 0; k < n; k++) s += Math.exp(this.logp[k]! - max);

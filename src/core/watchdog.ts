@@ -191,7 +191,8 @@ export class Watchdog {
 
   private trip(check: number, input: string, value: number, limit: number, t: number): void {
     this.held = true;
-    this.lastBadT = t;
+    // Never earlier than a dating already made (updateClear dates it on the clock's high-water).
+    if (!(this.lastBadT >= t)) this.lastBadT = t;
     if (this.seen[check] === 1) {
       // Keep the first occurrence, but raise the recorded value to the worst seen.
       for (let k = 0; k < this.tripCount; k++) {
@@ -374,8 +375,10 @@ export class Watchdog {
 
   private updateClear(t: number, bad: boolean): void {
     if (bad) {
-      // On the latest time seen: a sample from the past must not date the fault earlier.
-      this.lastBadT = Math.max(t, this.lastT);
+      // On the latest time seen: a sample from the past must not date the fault earlier, nor move
+      // back a dating a tick made later (a delayed burst after a stale gap shortened the clear time).
+      const at = Math.max(t, this.lastT);
+      this.lastBadT = at > this.lastBadT ? at : Number.isNaN(this.lastBadT) ? at : this.lastBadT;
       this.clearFor_s = 0;
     } else {
       if (Number.isNaN(this.firstT)) this.firstT = t;

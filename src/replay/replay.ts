@@ -3,6 +3,7 @@
  * arm step as the live node, on bag time. Deterministic: the same bag and parameters give the
  * same record, summary and output bag, byte for byte.
  */
+import { yieldToSignals } from '../util/interrupt.js';
 import { openBag, type Bag, type MessageBatch, type TopicInfo } from '../bag/index.js';
 import type { QosProfile } from '../bag/types.js';
 import { bagDecoders, type DecoderOptions } from '../bag/decode.js';
@@ -96,6 +97,8 @@ export interface ReplayOptions {
   readonly sink?: OutputSink;
   /** Called with the fraction done, at most a few hundred times. */
   readonly progress?: (fraction: number) => void;
+  /** Checked after each batch (with a turn of the event loop): true stops after the batch (src/util/interrupt.ts). */
+  readonly shouldStop?: () => boolean;
   /** `--definitions` sources for the types decoded generically (the zone view). */
   readonly definitions?: DecoderOptions['definitions'];
 }
@@ -466,7 +469,13 @@ export async function replayBag(bag: Bag, opts: ReplayOptions): Promise<ReplayRe
     if (sink) writeOutputs(run, ns, o, sink, changed);
   };
 
-  for (const batch of bag.batches(readOpts)) handle(batch);
+  for (const batch of bag.batches(readOpts)) {
+    handle(batch);
+    if (opts.shouldStop) {
+      await yieldToSignals();
+      if (opts.shouldStop()) break;
+    }
+  }
   opts.progress?.(1);
   for (const run of runs) {
     const topic = run.topics.wrench;

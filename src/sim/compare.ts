@@ -9,6 +9,7 @@ import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { ArmConfig } from '../params/config.js';
 import { InputError } from '../util/errors.js';
+import { yieldToSignals } from '../util/interrupt.js';
 import type { MainModule } from 'mujoco-js';
 import { pooledCalibration, type CalibrationSummary, type CalibrationSums } from './belief-metrics.js';
 import { checkEpisodeSetup, runEpisodeWith, type EndReason, type EpisodeResult, type EpisodeSummary } from './episode.js';
@@ -29,6 +30,8 @@ export interface CompareInput {
   readonly options?: SimOptionsOverrides;
   readonly duration_s?: number;
   readonly onProgress?: (done: number, total: number) => void;
+  /** Checked between worlds: true starts no new world (the world under way finishes; src/util/interrupt.ts). */
+  readonly shouldStop?: () => boolean;
 }
 
 /** What one run contributes to the table. */
@@ -103,6 +106,8 @@ export function partnerHoldAggregate(all: readonly (PartnerHoldSummary | null)[]
 
 export interface CompareResult {
   readonly worlds: number;
+  /** Worlds every strategy finished (fewer than `worlds` only after an interruption); the table covers these. */
+  readonly worlds_done: number;
   readonly seed: number;
   readonly arm_model: string;
   readonly strategies: readonly StrategyRow[];
@@ -181,22 +186,34 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
   const nJobs = Math.max(1, Math.min(input.jobs ?? 1, jobs.length));
   let done = 0;
   const progress = () => input.onProgress?.(++done, jobs.length);
+  // World by world (every strategy of a world, then the next), so an interruption leaves whole worlds.
+  const order = input.shouldStop ? [...jobs].sort((a, b) => a.world - b.world || a.id - b.id) : jobs;
   if (nJobs === 1) {
     const mj = await loadMujoco();
-    for (const j of jobs) {
+    let world = -1;
+    for (const j of order) {
+      // Interrupted: the world under way is finished (every strategy), then no new one starts.
+      if (input.shouldStop && j.world !== world) {
+        await yieldToSignals();
+        if (input.shouldStop()) break;
+      }
+      world = j.world;
       const r = runJob(mj, { left: input.left, right: input.right, options, duration_s: input.duration_s }, j);
       results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures);
       progress();
     }
   } else {
-    await runPool(workerScript(), nJobs, { left: input.left, right: input.right, options, duration_s: input.duration_s }, jobs, (id, r) => {
+    await runPool(workerScript(), nJobs, { left: input.left, right: input.right, options, duration_s: input.duration_s }, order, (id, r) => {
       results[id] = r;
       progress();
-    });
+    }, input.shouldStop);
   }
-  const runs = results as RunOutcome[];
-  const rows = input.strategies.map((s, si) => aggregate(s, runs.slice(si * input.worlds, (si + 1) * input.worlds)));
-  return { worlds: input.worlds, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs };
+  // Worlds every strategy finished (all of them unless interrupted); only those are aggregated.
+  let worldsDone = 0;
+  while (worldsDone < input.worlds && input.strategies.every((_, si) => results[si * input.worlds + worldsDone] !== undefined)) worldsDone++;
+  const runs = (worldsDone === input.worlds ? results : input.strategies.flatMap((_, si) => results.slice(si * input.worlds, si * input.worlds + worldsDone))) as RunOutcome[];
+  const rows = input.strategies.map((s, si) => aggregate(s, runs.slice(si * worldsDone, (si + 1) * worldsDone)));
+  return { worlds: input.worlds, worlds_done: worldsDone, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs };
 }
 
 /** One job of a batch (main thread or worker). */
@@ -272,17 +289,30 @@ function sameRoleAggregate(runs: readonly RunOutcome[]): { total_s: number; mean
 
 type FromWorker = { type: 'ready' } | { type: 'result'; id: number; outcome: RunOutcome } | { type: 'error'; id: number; message: string };
 
-function runPool(script: string, n: number, init: WorkerInit, jobs: readonly CompareJob[], onResult: (id: number, r: RunOutcome) => void): Promise<void> {
+function runPool(script: string, n: number, init: WorkerInit, jobs: readonly CompareJob[], onResult: (id: number, r: RunOutcome) => void, shouldStop?: () => boolean): Promise<void> {
   return new Promise((resolve, reject) => {
     let next = 0;
     let finished = 0;
+    let busy = 0;
     let failed = false;
     const workers: Worker[] = [];
     const stopAll = () => {
       for (const w of workers) void w.terminate();
     };
     const feed = (w: Worker) => {
-      if (next < jobs.length) w.postMessage({ type: 'job', job: jobs[next++] });
+      // Interrupted: the worlds under way are finished (jobs come world by world), no new one starts.
+      if (shouldStop?.() && (next >= jobs.length || next === 0 || jobs[next]!.world !== jobs[next - 1]!.world)) {
+        // Interrupted: hand out nothing more; done when the episodes running have finished.
+        if (busy === 0) {
+          stopAll();
+          resolve();
+        }
+        return;
+      }
+      if (next < jobs.length) {
+        busy++;
+        w.postMessage({ type: 'job', job: jobs[next++] });
+      }
     };
     for (let i = 0; i < n; i++) {
       const w = new Worker(script, { workerData: init });
@@ -292,6 +322,7 @@ function runPool(script: string, n: number, init: WorkerInit, jobs: readonly Com
         if (m.type === 'ready') {
           feed(w);
         } else if (m.type === 'result') {
+          busy--;
           onResult(m.id, m.outcome);
           finished++;
           if (finished === jobs.length) {

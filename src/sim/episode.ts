@@ -108,7 +108,12 @@ export interface EpisodeInput {
   readonly world?: World;
   /** Override the commands (tests of the physics): called at each sample after the steps ran. */
   readonly commandOverride?: (t: number, side: ArmSide, out: Float64Array) => void;
+  /** Wrap what each arm is fed (fault campaigns: src/faults/inject.ts); default: the arm step itself. */
+  readonly feed?: (side: ArmSide, arm: ArmStep) => ArmFeed;
 }
+
+/** What the episode calls on an arm each sample. */
+export type ArmFeed = Pick<ArmStep, 'setJointState' | 'setToolPose' | 'setZoneView' | 'step' | 'requestReset' | 'watchdog'>;
 
 export interface EpisodeResult {
   readonly summary: EpisodeSummary;
@@ -166,6 +171,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
   const nj = cell.jointCount;
   try {
     const arms = { left: new ArmStep(cfg.left, { jointCount: nj }), right: new ArmStep(cfg.right, { jointCount: nj }) };
+    const feeds = { left: input.feed?.('left', arms.left) ?? arms.left, right: input.feed?.('right', arms.right) ?? arms.right };
     const sensors = {
       left: new SensorModel(world.sensors.left, o.sensor.noise_force_n, o.sensor.noise_torque_nm),
       right: new SensorModel(world.sensors.right, o.sensor.noise_force_n, o.sensor.noise_torque_nm),
@@ -238,7 +244,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     const tol = task.goal_tolerance_m;
     const [gx, gy] = world.goal_m;
 
-    const copyTrips = (a: ArmStep): HoldReason[] => a.watchdog.trips.map((r, k) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s, first: a.watchdog.tripFirst(k) }));
+    const copyTrips = (a: Pick<ArmStep, 'watchdog'>): HoldReason[] => a.watchdog.trips.map((r, k) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s, first: a.watchdog.tripFirst(k) }));
 
     let step = 0;
     zoneFed.left = zoneFed.right = 0;
@@ -284,7 +290,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
           }
         }
         for (const s of SIDES) {
-          const arm = arms[s];
+          const arm = feeds[s];
           cell.wrenchTruth(s, truthW[s]);
           sensors[s].measure(t, truthW[s], meas[s]);
           if (dist > 0 && taredAt[s] !== null) {

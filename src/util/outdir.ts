@@ -17,6 +17,7 @@ import { existsSync, lstatSync, mkdirSync, readdirSync, realpathSync, renameSync
 import { homedir } from 'node:os';
 import { basename, dirname, join, resolve, sep } from 'node:path';
 import { InputError, type Problem } from './errors.js';
+import { interruptsWatched } from './interrupt.js';
 import { logger } from './log.js';
 
 /** The marker file in every output folder antiphon writes. */
@@ -256,6 +257,8 @@ export async function withOutputDir<T>(out: string, opts: boolean | OutputDirOpt
     }
   };
   const onSignal = (sig: NodeJS.Signals): void => {
+    // A command watching interruptions finishes its unit and completes this folder itself.
+    if (interruptsWatched()) return;
     cleanup();
     process.off('SIGINT', onSignal);
     process.off('SIGTERM', onSignal);
