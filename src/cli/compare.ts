@@ -5,7 +5,7 @@ import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
 import { parseStrategyList } from '../sim/strategies.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
-import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions } from './simulate.js';
+import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions, resolveParams } from './simulate.js';
 
 export function compareTable(r: CompareResult): string {
   const head = ['strategy', 'k', 'success', 'ci95', 'collisions', 'peak F_int N', 'mean F_int N', 'mean time s'];
@@ -69,7 +69,7 @@ export function register(program: Command): void {
     .option('--seed <s>', 'seed of the batch (world i uses a seed derived from it)', '1')
     .option('--jobs <k>', 'worker threads', '1')
     .option('--strategies <list>', 'comma-separated: centralized, explicit[:k], alternating[:k], fixed, independent, adaptive (alternating alone: k = 50, 200, 500, 1000)')
-    .option('--params <file>', 'ROS 2 parameters file (default: built-in defaults)')
+    .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--duration <s>', 'simulated time limit per episode, s (default task.time_limit_s)')
     .option('--arm-model <m>', 'tool_point or six_joint', 'tool_point')
     .option('--disturbance-n <N>', 'correction-band force disturbance on each wrist sensor: stationary std, N (Ornstein-Uhlenbeck, 0.2 s), after the start-up tare', '0')
@@ -85,7 +85,7 @@ export function register(program: Command): void {
         const armModel = armModelOption(opts.armModel);
         const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
         const inject = injectHoldOption(opts.injectHold);
-        const cell = loadCell(opts.params);
+        const cell = loadCell(resolveParams('compare', opts.params));
         const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
         const showBar = !opts.json && process.stderr.isTTY === true;
@@ -100,7 +100,7 @@ export function register(program: Command): void {
         if (opts.json) printJson(compareJson(result));
         else {
           printText(compareTable(result));
-          if (cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (pass --params config/demo_cell.yaml for the demo cell)');
+          if (cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (leave out --params for the demo cell)');
         }
         return 0;
       }),

@@ -5,6 +5,7 @@ import type { StorageId } from '../bag/types.js';
 import { storageOption } from '../bag/writer.js';
 import { loadCell } from '../params/config.js';
 import { renderReport } from '../report/html.js';
+import { demoCellNote, demoCellPath } from '../sim/demo-cell.js';
 import { writeEpisodeBag } from '../sim/episode-bag.js';
 import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/episode.js';
 import type { CalibrationSummary } from '../sim/belief-metrics.js';
@@ -30,6 +31,16 @@ export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, 
     writeFileAtomic(join(tmp, 'report.html'), renderReport(art.report));
   });
   return { files: [join(dir, 'bag'), join(dir, 'summary.json'), join(dir, 'report.html')], replayMatches };
+}
+
+/**
+ * The parameters file of `simulate` and `compare`: the one given, else the demo cell's shipped in
+ * the package, with one line on stderr saying so (stdout stays the command's output).
+ */
+export function resolveParams(command: string, given: string | undefined): string {
+  if (given !== undefined) return given;
+  process.stderr.write(demoCellNote(command) + '\n');
+  return demoCellPath();
 }
 
 /** Parse --arm-model. */
@@ -102,7 +113,7 @@ export function register(program: Command): void {
   program
     .command('simulate')
     .description('Run one episode of the simulated cell (MuJoCo) with both arm pipelines and print its summary.')
-    .option('--params <file>', 'ROS 2 parameters file (default: built-in defaults)')
+    .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--seed <n>', 'world seed', '1')
     .option('--strategy <s>', 'centralized, explicit, alternating, fixed, independent or adaptive (name:k sets the period)', 'alternating')
     .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
@@ -123,7 +134,8 @@ export function register(program: Command): void {
         const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
         const inject = injectHoldOption(opts.injectHold);
         const storage = storageOption(opts.storage);
-        const cell = loadCell(opts.params);
+        const paramsPath = resolveParams('simulate', opts.params);
+        const cell = loadCell(paramsPath);
         const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
         let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
         if (period !== undefined) {
@@ -134,9 +146,9 @@ export function register(program: Command): void {
         }
         // --out is checked before the episode runs (it may take minutes).
         const dir = opts.out ?? join('out', `sim-${seed}`);
-        checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
+        checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [paramsPath] });
         const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
-        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
+        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [paramsPath]);
         if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });
         else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
         return 0;
