@@ -3,6 +3,7 @@ import type { Command } from 'commander';
 import cliProgress from 'cli-progress';
 import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
+import { loadFamily } from '../sim/family.js';
 import { parseStrategyList } from '../sim/strategies.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions, resolveParams } from './simulate.js';
@@ -66,6 +67,7 @@ export function register(program: Command): void {
     .command('compare')
     .description('Run every strategy on N randomized worlds of the simulated cell and compare success, collisions, internal force and time.')
     .requiredOption('--worlds <N>', 'number of randomized worlds')
+    .option('--family <file>', 'draw the worlds from this scenario family (YAML; examples/families/)')
     .option('--seed <s>', 'seed of the batch (world i uses a seed derived from it)', '1')
     .option('--jobs <k>', 'worker threads', '1')
     .option('--strategies <list>', 'comma-separated: centralized, explicit[:k], alternating[:k], fixed, independent, adaptive (alternating alone: k = 50, 200, 500, 1000)')
@@ -75,7 +77,7 @@ export function register(program: Command): void {
     .option('--disturbance-n <N>', 'correction-band force disturbance on each wrist sensor: stationary std, N (Ornstein-Uhlenbeck, 0.2 s), after the start-up tare', '0')
     .option('--inject-hold <arm:t>', 'one NaN wrench sample on that arm at that time in every run, s (e.g. left:3.0); also turns off the hold timeout')
     .option('--json', 'print the result as JSON (no progress bar)')
-    .action(async (opts: { worlds: string; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean }) =>
+    .action(async (opts: { worlds: string; family?: string; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const worlds = integerOption('--worlds', opts.worlds, 1, 1_000_000)!;
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
@@ -86,7 +88,9 @@ export function register(program: Command): void {
         const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
         const inject = injectHoldOption(opts.injectHold);
         const cell = loadCell(resolveParams('compare', opts.params));
-        const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) };
+        const options = { arm_model: armModel, ...measureOptions(disturbance, inject) };
+        const family = opts.family !== undefined ? loadFamily(opts.family, cell.left.config, options) : undefined;
+        const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options, ...(family ? { family } : {}), ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
         const showBar = !opts.json && process.stderr.isTTY === true;
         const bar = showBar ? new cliProgress.SingleBar({ stream: process.stderr, hideCursor: true }, cliProgress.Presets.shades_classic) : null;
@@ -100,7 +104,7 @@ export function register(program: Command): void {
         if (opts.json) printJson(compareJson(result));
         else {
           printText(compareTable(result));
-          if (cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (leave out --params for the demo cell)');
+          if (!family && cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (leave out --params for the demo cell)');
         }
         return 0;
       }),

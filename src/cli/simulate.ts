@@ -7,6 +7,7 @@ import { loadCell } from '../params/config.js';
 import { renderReport } from '../report/html.js';
 import { demoCellNote, demoCellPath } from '../sim/demo-cell.js';
 import { writeEpisodeBag } from '../sim/episode-bag.js';
+import { drawFamilyWorld, loadFamily } from '../sim/family.js';
 import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/episode.js';
 import type { CalibrationSummary } from '../sim/belief-metrics.js';
 import type { CommitmentSummary, PartnerHoldSummary } from '../sim/measures.js';
@@ -90,13 +91,18 @@ export function partnerHoldText(p: PartnerHoldSummary): string {
 export function summaryText(s: EpisodeSummary): string {
   const f = (v: number | null, d = 2) => (v === null ? '-' : v.toFixed(d));
   const occ = Object.entries(s.world.occupied).map(([k, v]) => `${k} ${v ? 'occupied' : 'free'}`).join(', ');
+  const changes = s.world.zones.flatMap((z) => z.changes.map((c) => `${z.name} ${c.occupied ? 'occupied' : 'free'} at ${f(c.t_s, 2)} s`));
+  const tc = s.belief.time_to_correct_s;
   const lines = [
-    `seed ${s.seed}, strategy ${s.strategy}, arms ${s.arm_model}`,
+    `seed ${s.seed}, strategy ${s.strategy}, arms ${s.arm_model}${s.family ? `, family ${s.family.name} (${s.family.redraws} redraws)` : ''}`,
     `world: ${occ || 'no zones'}; start (${f(s.world.start_m[0], 3)}, ${f(s.world.start_m[1], 3)}) m, goal (${f(s.world.goal_m[0], 3)}, ${f(s.world.goal_m[1], 3)}) m`,
+    ...(changes.length ? [`changes: ${changes.join(', ')}`] : []),
+    ...(s.world.knocks.length ? [`knocks: ${s.world.knocks.map((k) => `${f(k.force_n, 1)} N at ${f(k.t_s, 2)} s`).join(', ')}`] : []),
     `outcome: ${s.success ? 'success' : 'failure'} (${s.end_reason}) after ${f(s.duration_s)} s; time to goal ${f(s.time_to_goal_s)} s; final distance ${f(s.final_distance_m, 3)} m`,
     `collisions: ${s.collisions.count}${s.collisions.first_s === null ? '' : `, first at ${f(s.collisions.first_s, 3)} s`}; contact ${f(s.collisions.contact_s, 3)} s`,
     `internal force: peak ${f(s.internal_force.peak_n)} N, mean ${f(s.internal_force.mean_n)} N`,
-    `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}`,
+    `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}; false impact holds ${s.holds.false_impact}`,
+    `belief: time to correct median ${f(tc.median)} s, p95 ${f(tc.p95)} s (${tc.count} determinations, ${tc.unresolved} unresolved); confident wrong ${f(s.belief.confident_wrong_s, 3)} s`,
     `role switches: left ${s.role_switches.left}, right ${s.role_switches.right}; tared at left ${f(s.tared_at_s.left, 3)} s, right ${f(s.tared_at_s.right, 3)} s`,
     `belief calibration (this one world; compare pools many worlds): ${calibrationText(s.belief.calibration)}`,
     `commitments: ${commitmentText(s.commitments)}${s.disturbance_n > 0 ? ` (disturbance ${s.disturbance_n} N)` : ''}`,
@@ -115,6 +121,7 @@ export function register(program: Command): void {
     .description('Run one episode of the simulated cell (MuJoCo) with both arm pipelines and print its summary.')
     .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--seed <n>', 'world seed', '1')
+    .option('--family <file>', 'draw the world from this scenario family (YAML; examples/families/)')
     .option('--strategy <s>', 'centralized, explicit, alternating, fixed, independent or adaptive (name:k sets the period)', 'alternating')
     .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
     .option('--duration <s>', 'simulated time limit, s (default task.time_limit_s)')
@@ -125,7 +132,7 @@ export function register(program: Command): void {
     .option('--overwrite', 'replace an existing output folder')
     .option('--storage <s>', 'storage of the output bag: mcap or sqlite3 (rosbag2 .db3, as Humble records by default)', 'mcap')
     .option('--json', 'print the summary as JSON')
-    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; storage?: string; json?: boolean }) =>
+    .action(async (opts: { params?: string; family?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; storage?: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
         const period = integerOption('--period-steps', opts.periodSteps, 1, 600000);
@@ -147,8 +154,20 @@ export function register(program: Command): void {
         // --out is checked before the episode runs (it may take minutes).
         const dir = opts.out ?? join('out', `sim-${seed}`);
         checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [paramsPath] });
-        const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
-        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [paramsPath]);
+        const options: SimOptionsOverrides = { arm_model: armModel, ...measureOptions(disturbance, inject) };
+        let left = cell.left.config;
+        let right = cell.right.config;
+        let drawn = {};
+        if (opts.family !== undefined) {
+          const family = loadFamily(opts.family, left, options);
+          const fw = drawFamilyWorld(family, left, options, seed);
+          left = { ...left, task: fw.task };
+          right = { ...right, task: fw.task };
+          Object.assign(options, fw.options);
+          drawn = { world: fw.world, family: { name: family.spec.family, redraws: fw.redraws } };
+        }
+        const result = await runEpisode({ left, right, strategy, seed, options, ...drawn, ...(duration !== undefined ? { duration_s: duration } : {}) });
+        const { files, replayMatches } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [paramsPath, opts.family]);
         if (opts.json) printJson({ ...result.summary, bag_replay_matches_closed_loop: replayMatches, files });
         else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
         return 0;

@@ -18,6 +18,8 @@ import { simOptions, type SimOptionsOverrides } from './options.js';
 import { mean, wilsonInterval } from './stats.js';
 import { strategyLabel, type StrategySpec } from './strategies.js';
 import { sampleWorld, worldSeed } from './world.js';
+import { beliefTimingSummary, type BeliefTimingSums, type BeliefTimingSummary } from './belief-timing.js';
+import { drawFamilyWorld, type Family } from './family.js';
 
 export interface CompareInput {
   readonly left: ArmConfig;
@@ -28,6 +30,8 @@ export interface CompareInput {
   readonly jobs?: number;
   readonly options?: SimOptionsOverrides;
   readonly duration_s?: number;
+  /** Draw the worlds from this scenario family (src/sim/family.ts). */
+  readonly family?: Family;
   readonly onProgress?: (done: number, total: number) => void;
 }
 
@@ -51,6 +55,12 @@ export interface RunOutcome {
   /** Sampled time of the run (samples x sample period), s. */
   readonly sampled_s: number;
   readonly partner_hold: PartnerHoldSummary | null;
+  readonly belief_timing: BeliefTimingSums;
+  readonly holds_by_reason: Readonly<Record<string, number>>;
+  readonly false_impact_holds: number;
+  /** Family worlds: draws that failed the task checks before this world's (0 without a family). */
+  readonly redraws: number;
+  readonly knocks: number;
 }
 
 export interface StrategyRow {
@@ -76,6 +86,10 @@ export interface StrategyRow {
   readonly same_role: { readonly total_s: number; readonly mean_s: number; readonly fraction: number };
   /** Runs with an injected hold: the partner's detection time; null when no run had one. */
   readonly partner_hold: PartnerHoldAggregate | null;
+  /** Belief timing pooled over the runs: time to correct (median, p95 over every determination), confident-wrong time per run. */
+  readonly belief: { readonly time_to_correct_s: BeliefTimingSummary['time_to_correct_s']; readonly confident_wrong_s: { readonly mean: number | null; readonly max: number | null } };
+  readonly holds_by_reason: Readonly<Record<string, number>>;
+  readonly false_impact_holds: number;
 }
 
 export interface PartnerHoldAggregate {
@@ -107,9 +121,11 @@ export interface CompareResult {
   readonly arm_model: string;
   readonly strategies: readonly StrategyRow[];
   readonly runs: readonly RunOutcome[];
+  /** The family the worlds were drawn from: its name and file, and the redraws over the worlds; null without one. */
+  readonly family: { readonly name: string; readonly file: string; readonly redraws: number; readonly worlds_redrawn: number } | null;
 }
 
-export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: EpisodeMeasureSummary): RunOutcome {
+export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: EpisodeMeasureSummary, bt: BeliefTimingSums = { times_s: [], unresolved: 0, confident_wrong_s: 0 }): RunOutcome {
   return {
     world,
     seed,
@@ -127,6 +143,11 @@ export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: Epi
     same_role_s: m.same_role.total_s,
     sampled_s: m.same_role.sampled_s,
     partner_hold: m.partner_hold,
+    belief_timing: bt,
+    holds_by_reason: s.holds.reasons,
+    false_impact_holds: s.holds.false_impact,
+    redraws: s.family?.redraws ?? 0,
+    knocks: s.world.knocks.length,
   };
 }
 
@@ -147,6 +168,7 @@ export interface WorkerInit {
   readonly right: ArmConfig;
   readonly options: SimOptionsOverrides;
   readonly duration_s: number | undefined;
+  readonly family?: Family;
 }
 
 /** The built worker script (worker threads need JavaScript: run `npx tsc -p tsconfig.build.json`). */
@@ -184,25 +206,34 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
   if (nJobs === 1) {
     const mj = await loadMujoco();
     for (const j of jobs) {
-      const r = runJob(mj, { left: input.left, right: input.right, options, duration_s: input.duration_s }, j);
-      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures);
+      const r = runJob(mj, { left: input.left, right: input.right, options, duration_s: input.duration_s, ...(input.family ? { family: input.family } : {}) }, j);
+      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures, r.beliefTiming);
       progress();
     }
   } else {
-    await runPool(workerScript(), nJobs, { left: input.left, right: input.right, options, duration_s: input.duration_s }, jobs, (id, r) => {
+    await runPool(workerScript(), nJobs, { left: input.left, right: input.right, options, duration_s: input.duration_s, ...(input.family ? { family: input.family } : {}) }, jobs, (id, r) => {
       results[id] = r;
       progress();
     });
   }
   const runs = results as RunOutcome[];
   const rows = input.strategies.map((s, si) => aggregate(s, runs.slice(si * input.worlds, (si + 1) * input.worlds)));
-  return { worlds: input.worlds, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs };
+  const first = runs.slice(0, input.worlds);
+  const family = input.family ? { name: input.family.spec.family, file: input.family.file, redraws: first.reduce((a, r) => a + r.redraws, 0), worlds_redrawn: first.filter((r) => r.redraws > 0).length } : null;
+  return { worlds: input.worlds, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs, family };
 }
 
 /** One job of a batch (main thread or worker). */
 export function runJob(mj: MainModule, init: WorkerInit, j: CompareJob): EpisodeResult {
   const options: SimOptionsOverrides = j.options ? { ...init.options, ...j.options } : init.options;
   let world;
+  if (init.family) {
+    const fw = drawFamilyWorld(init.family, init.left, options, j.seed);
+    const left = { ...init.left, task: fw.task };
+    const right = { ...init.right, task: fw.task };
+    const o2: SimOptionsOverrides = j.options ? { ...fw.options, ...j.options } : fw.options;
+    return runEpisodeWith(mj, { left, right, strategy: j.strategy, seed: j.seed, options: o2, duration_s: init.duration_s, world: fw.world, family: { name: init.family.spec.family, redraws: fw.redraws } });
+  }
   if (j.occupied) {
     const drawn = sampleWorld(init.left.task, simOptions(options), j.seed);
     if (j.occupied.length !== drawn.occupied.length) throw new Error(`job ${j.id}: ${j.occupied.length} occupancy values for ${drawn.occupied.length} zones`);
@@ -223,7 +254,7 @@ export async function runJobs(init: WorkerInit, list: readonly CompareJob[], job
     const mj = await loadMujoco();
     for (const j of list) {
       const r = runJob(mj, init2, j);
-      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures);
+      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures, r.beliefTiming);
       onProgress?.(++done, list.length);
     }
   } else {
@@ -257,7 +288,22 @@ export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): Strateg
     commitments: commitmentSummary(runs.map((r) => r.commitments)),
     same_role: sameRoleAggregate(runs),
     partner_hold: partnerHoldAggregate(runs.map((r) => r.partner_hold)),
+    belief: beliefAggregate(runs),
+    holds_by_reason: sumRecords(runs.map((r) => r.holds_by_reason)),
+    false_impact_holds: runs.reduce((a, r) => a + r.false_impact_holds, 0),
   };
+}
+
+function beliefAggregate(runs: readonly RunOutcome[]): StrategyRow['belief'] {
+  const t = beliefTimingSummary(runs.map((r) => r.belief_timing));
+  const wrong = runs.map((r) => r.belief_timing.confident_wrong_s);
+  return { time_to_correct_s: t.time_to_correct_s, confident_wrong_s: { mean: mean(wrong), max: wrong.length ? Math.max(...wrong) : null } };
+}
+
+function sumRecords(all: readonly Readonly<Record<string, number>>[]): Record<string, number> {
+  const out: Record<string, number> = {};
+  for (const r of all) for (const [k, v] of Object.entries(r)) out[k] = (out[k] ?? 0) + v;
+  return out;
 }
 
 function sameRoleAggregate(runs: readonly RunOutcome[]): { total_s: number; mean_s: number; fraction: number } {
