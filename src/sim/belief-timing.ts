@@ -116,3 +116,20 @@ export function beliefTimingSummary(all: readonly BeliefTimingSums[]): BeliefTim
     confident_wrong_s: wrong,
   };
 }
+
+/** A knock or a collision onset this close before an impact trip explains it, s. */
+export const IMPACT_EXPLAINED_S = 0.5;
+
+/**
+ * Holds with an impact trip that nothing explains: no knock running or ended within
+ * `IMPACT_EXPLAINED_S` before the trip, and no collision onset from 0.05 s after to
+ * `IMPACT_EXPLAINED_S` before it.
+ */
+export function countFalseImpactHolds(
+  holds: readonly { readonly reasons: readonly { readonly check: string; readonly t_s: number }[] }[],
+  knocks: readonly { readonly t_s: number; readonly duration_s: number }[],
+  collisionOnsets: readonly number[],
+): number {
+  const explained = (t: number) => knocks.some((k) => t >= k.t_s - 1e-9 && t <= k.t_s + k.duration_s + IMPACT_EXPLAINED_S) || collisionOnsets.some((c) => t >= c - 0.05 && t <= c + IMPACT_EXPLAINED_S);
+  return holds.filter((e) => e.reasons.some((r) => r.check === 'impact' && !explained(r.t_s))).length;
+}

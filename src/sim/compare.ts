@@ -15,7 +15,7 @@ import { checkEpisodeSetup, runEpisodeWith, type EndReason, type EpisodeResult, 
 import { commitmentSummary, percentile, type CommitmentSummary, type CommitmentSums, type EpisodeMeasureSummary, type PartnerHoldSummary } from './measures.js';
 import { loadMujoco } from './mujoco.js';
 import { simOptions, type SimOptionsOverrides } from './options.js';
-import { mean, wilsonInterval } from './stats.js';
+import { bootstrapMeanInterval, mean, signTest, wilcoxonSignedRank, wilsonInterval } from './stats.js';
 import { strategyLabel, type StrategySpec } from './strategies.js';
 import { sampleWorld, worldSeed } from './world.js';
 import { beliefTimingSummary, type BeliefTimingSums, type BeliefTimingSummary } from './belief-timing.js';
@@ -77,6 +77,8 @@ export interface StrategyRow {
   readonly mean_internal_force_n: number;
   /** Mean time to goal over the successful runs, s; null when none succeeded. */
   readonly mean_time_s: number | null;
+  /** Percentile bootstrap 95 % intervals of the means (2000 resamples, seeded by the batch seed). */
+  readonly bootstrap95: { readonly mean_peak_internal_force_n: [number, number] | null; readonly mean_time_s: [number, number] | null; readonly confident_wrong_s: [number, number] | null };
   readonly end_reasons: Readonly<Record<string, number>>;
   /** Every run's belief pairs pooled. */
   readonly calibration: CalibrationSummary;
@@ -123,6 +125,72 @@ export interface CompareResult {
   readonly runs: readonly RunOutcome[];
   /** The family the worlds were drawn from: its name and file, and the redraws over the worlds; null without one. */
   readonly family: { readonly name: string; readonly file: string; readonly redraws: number; readonly worlds_redrawn: number } | null;
+  /** Every pair of strategies on the same worlds. */
+  readonly paired: readonly PairedComparison[];
+}
+
+/** One measure of a pair of strategies on the same worlds: a wins where it is better. */
+export interface PairedMeasure {
+  readonly wins: number;
+  readonly losses: number;
+  readonly ties: number;
+  /** The test and its two-sided p-value (wins against losses; ties dropped). */
+  readonly test: 'sign' | 'wilcoxon_signed_rank_exact' | 'wilcoxon_signed_rank_normal';
+  readonly p: number;
+  /** Median of a − b over the pairs compared (null for success). */
+  readonly median_difference: number | null;
+}
+
+export interface PairedComparison {
+  readonly a: string;
+  readonly b: string;
+  /** Worlds both ran. */
+  readonly worlds: number;
+  /** Success: a wins where a succeeded and b did not; sign test. */
+  readonly success: PairedMeasure;
+  /** Peak internal force: lower wins; Wilcoxon signed-rank test on a − b. */
+  readonly peak_internal_force_n: PairedMeasure;
+  /** Time to goal over the worlds where both succeeded: lower wins; Wilcoxon signed-rank test. */
+  readonly time_s: PairedMeasure;
+}
+
+function medianOf(xs: readonly number[]): number | null {
+  if (xs.length === 0) return null;
+  const s = [...xs].sort((x, y) => x - y);
+  const m = s.length >> 1;
+  return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2;
+}
+
+function lowerWins(d: readonly number[]): PairedMeasure {
+  const w = wilcoxonSignedRank(d);
+  return { wins: d.filter((x) => x < 0).length, losses: d.filter((x) => x > 0).length, ties: d.filter((x) => x === 0).length, test: w.method === 'exact' ? 'wilcoxon_signed_rank_exact' : 'wilcoxon_signed_rank_normal', p: w.p, median_difference: medianOf(d) };
+}
+
+/** Every pair (a before b in the list) compared world by world. */
+export function pairedComparisons(labels: readonly string[], runsOf: readonly (readonly RunOutcome[])[]): PairedComparison[] {
+  const out: PairedComparison[] = [];
+  for (let i = 0; i < labels.length; i++) {
+    for (let j = i + 1; j < labels.length; j++) {
+      const byWorld = new Map(runsOf[j]!.map((r) => [r.world, r]));
+      const pairs = runsOf[i]!.flatMap((r) => (byWorld.has(r.world) ? [[r, byWorld.get(r.world)!] as const] : []));
+      let wins = 0, losses = 0;
+      for (const [a, b] of pairs) {
+        if (a.success && !b.success) wins++;
+        else if (!a.success && b.success) losses++;
+      }
+      const force = pairs.map(([a, b]) => a.peak_internal_force_n - b.peak_internal_force_n);
+      const time = pairs.filter(([a, b]) => a.success && b.success && a.time_to_goal_s !== null && b.time_to_goal_s !== null).map(([a, b]) => a.time_to_goal_s! - b.time_to_goal_s!);
+      out.push({
+        a: labels[i]!,
+        b: labels[j]!,
+        worlds: pairs.length,
+        success: { wins, losses, ties: pairs.length - wins - losses, test: 'sign', p: signTest(wins, wins + losses), median_difference: null },
+        peak_internal_force_n: lowerWins(force),
+        time_s: lowerWins(time),
+      });
+    }
+  }
+  return out;
 }
 
 export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: EpisodeMeasureSummary, bt: BeliefTimingSums = { times_s: [], unresolved: 0, confident_wrong_s: 0 }): RunOutcome {
@@ -217,10 +285,11 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
     });
   }
   const runs = results as RunOutcome[];
-  const rows = input.strategies.map((s, si) => aggregate(s, runs.slice(si * input.worlds, (si + 1) * input.worlds)));
+  const per = input.strategies.map((_, si) => runs.slice(si * input.worlds, (si + 1) * input.worlds));
+  const rows = input.strategies.map((s, si) => aggregate(s, per[si]!, input.seed));
   const first = runs.slice(0, input.worlds);
   const family = input.family ? { name: input.family.spec.family, file: input.family.file, redraws: first.reduce((a, r) => a + r.redraws, 0), worlds_redrawn: first.filter((r) => r.redraws > 0).length } : null;
-  return { worlds: input.worlds, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs, family };
+  return { worlds: input.worlds, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs, family, paired: pairedComparisons(rows.map((r) => r.label), per) };
 }
 
 /** One job of a batch (main thread or worker). */
@@ -266,7 +335,7 @@ export async function runJobs(init: WorkerInit, list: readonly CompareJob[], job
   return results as RunOutcome[];
 }
 
-export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): StrategyRow {
+export function aggregate(s: StrategySpec, runs: readonly RunOutcome[], seed = 1): StrategyRow {
   const n = runs.length;
   const successes = runs.filter((r) => r.success).length;
   const end: Record<string, number> = {};
@@ -283,6 +352,11 @@ export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): Strateg
     mean_peak_internal_force_n: mean(runs.map((r) => r.peak_internal_force_n)) ?? 0,
     mean_internal_force_n: mean(runs.map((r) => r.mean_internal_force_n)) ?? 0,
     mean_time_s: mean(runs.filter((r) => r.success && r.time_to_goal_s !== null).map((r) => r.time_to_goal_s!)),
+    bootstrap95: {
+      mean_peak_internal_force_n: bootstrapMeanInterval(runs.map((r) => r.peak_internal_force_n), seed),
+      mean_time_s: bootstrapMeanInterval(runs.filter((r) => r.success && r.time_to_goal_s !== null).map((r) => r.time_to_goal_s!), seed + 1),
+      confident_wrong_s: bootstrapMeanInterval(runs.map((r) => r.belief_timing.confident_wrong_s), seed + 2),
+    },
     end_reasons: end,
     calibration: pooledCalibration(runs.map((r) => r.calibration)),
     commitments: commitmentSummary(runs.map((r) => r.commitments)),

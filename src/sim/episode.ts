@@ -19,7 +19,7 @@ import { Rng } from '../util/rng.js';
 import { DISTURBANCE_TAU_S, simOptions, type SimOptions, type SimOptionsOverrides } from './options.js';
 import { Recorder, type EpisodeRecord, type ZoneMessage } from './record.js';
 import { applyStrategy, strategyLabel, type StrategySpec } from './strategies.js';
-import { BeliefTiming, beliefTimingSummary, type BeliefTimingSummary, type BeliefTimingSums } from './belief-timing.js';
+import { BeliefTiming, beliefTimingSummary, countFalseImpactHolds, type BeliefTimingSummary, type BeliefTimingSums } from './belief-timing.js';
 import { segmentHitsZone } from '../params/config.js';
 import { checkTaskForCell, sampleWorld, type ArmSide, type Knock, type World } from './world.js';
 
@@ -117,9 +117,6 @@ export interface WorldZoneSummary {
   /** When the zone changed state during the episode (a change to occupied waits until the object is clear of the zone). */
   readonly changes: readonly { readonly t_s: number; readonly occupied: boolean }[];
 }
-
-/** A knock or collision onset this close before an impact trip explains it, s. */
-export const IMPACT_EXPLAINED_S = 0.5;
 
 export interface EpisodeInput {
   /** Both arms' configurations as loaded (the nominal task; the world jitters start and goal). */
@@ -484,8 +481,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     });
     const m = measures.finish();
     const bt = timing.finish();
-    const explained = (tt: number) => knocks.some((k) => tt >= k.t_s - 1e-9 && tt <= k.t_s + k.duration_s + IMPACT_EXPLAINED_S) || collisionTimes.some((c) => tt >= c - 0.05 && tt <= c + IMPACT_EXPLAINED_S);
-    const falseImpact = holdEvents.filter((e) => e.reasons.some((r) => r.check === 'impact' && !explained(r.t_s))).length;
+    const falseImpact = countFalseImpactHolds(holdEvents, knocks, collisionTimes);
     const zoneSummaries: WorldZoneSummary[] = zones.map((z, k) => ({
       name: z.name,
       shape: z.shape,
