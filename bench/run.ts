@@ -31,6 +31,7 @@ async function optional(name: string, file: string, fn: string): Promise<void> {
 
 await optional('replay', './replay.js', 'benchReplay');
 await optional('sim', './sim.js', 'benchSim');
+await optional('families', './sim.js', 'benchFamilies');
 await optional('issue8', './issue8-measure.js', 'benchIssue8');
 await optional('adapter', './adapter.js', 'benchAdapter');
 
