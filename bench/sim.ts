@@ -11,7 +11,7 @@ import { fileURLToPath } from 'node:url';
 import { loadCell } from '../src/params/config.js';
 import { runCompare, runJob, type CompareJob } from '../src/sim/compare.js';
 import { runEpisodeWith } from '../src/sim/episode.js';
-import { loadFamily } from '../src/sim/family.js';
+import { drawFamilyWorld, loadFamily } from '../src/sim/family.js';
 import { loadMujoco } from '../src/sim/mujoco.js';
 import { worldSeed } from '../src/sim/world.js';
 
@@ -94,9 +94,17 @@ export async function benchFamilies(worlds = Number(process.env['ANTIPHON_BENCH_
     identical &&= res['plain'] === res['family'];
   }
   const perEpisode = { plain_s: wall.plain / worlds, demo_family_s: wall.family / worlds };
+  // The family path's own cost per episode: drawing and checking the world (50 draws per family).
+  const drawMs: Record<string, number> = {};
+  for (const name of ['demo_cell', 'cluttered', 'changing', 'poor_sensors']) {
+    const fam = loadFamily(`${dir}${name}.yaml`, cell.left.config);
+    const t0 = performance.now();
+    for (let w = 0; w < 50; w++) drawFamilyWorld(fam, cell.left.config, {}, worldSeed(1, w));
+    drawMs[name] = (performance.now() - t0) / 50;
+  }
   const compare: Record<string, unknown> = {};
   const strategies = [{ name: 'centralized' as const, k: null }, strategy, { name: 'adaptive' as const, k: null }];
-  for (const name of ['none', 'demo_cell', 'cluttered', 'changing', 'poor_sensors']) {
+  for (const name of process.env['ANTIPHON_BENCH_COMPARE'] === '0' ? [] : ['none', 'demo_cell', 'cluttered', 'changing', 'poor_sensors']) {
     const family = name === 'none' ? undefined : loadFamily(`${dir}${name}.yaml`, cell.left.config);
     const t0 = performance.now();
     await runCompare({ left: cell.left.config, right: cell.right.config, worlds, seed: 1, strategies, jobs, ...(family ? { family } : {}) });
@@ -107,6 +115,8 @@ export async function benchFamilies(worlds = Number(process.env['ANTIPHON_BENCH_
     worlds,
     jobs,
     one_thread_same_worlds: { ...perEpisode, ratio: perEpisode.demo_family_s / perEpisode.plain_s, limit_ratio: 1.1, summaries_identical: identical },
+    draw_ms_per_world: drawMs,
+    draw_fraction_of_episode: Object.fromEntries(Object.entries(drawMs).map(([k, v]) => [k, v / 1000 / perEpisode.plain_s])),
     compare,
     load_average_before: load0,
     load_average_after: loadavg(),
