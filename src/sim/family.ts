@@ -359,7 +359,9 @@ export function drawOnce(spec: FamilySpec, base: ArmConfig, options: SimOptionsO
   const oc = spec.occupancy ?? {};
   const p = draw(rng, oc.probability, base0.occupancy_probability);
   const worldOptions: SimOptionsOverrides = { ...options, sensor: { ...options.sensor, ...sensor }, admittance_damping_n_s_m: damping, grasp_timeconst_s: timeconst, occupancy_probability: p, disturbance_n: disturbance };
-  const task: TaskParams = { ...t0, object, zones: [...zones].sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0)) };
+  // A family that draws neither zones nor the object keeps the parameters file's task object itself.
+  const sameObject = object.length_m === t0.object.length_m && object.mass_kg === t0.object.mass_kg && object.grasp_offset_m === t0.object.grasp_offset_m;
+  const task: TaskParams = !zs && sameObject ? t0 : { ...t0, object, zones: [...zones].sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0)) };
   // The cell's usual draw, with this world's options.
   const w0 = sampleWorld(task, simOptions({ ...worldOptions, record: false }), seed);
   // Changes, knocks, area sensor.
