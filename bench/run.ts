@@ -56,7 +56,7 @@ async function single(names: string[]): Promise<void> {
     'filter-watchdog': () => benchFilterWatchdog() as unknown as Record<string, unknown>,
     'arm-step': () => benchArmStep() as unknown as Record<string, unknown>,
   };
-  for (const [name, file, fn] of [['replay', './replay.js', 'benchReplay'], ['sim', './sim.js', 'benchSim'], ['issue8', './issue8-measure.js', 'benchIssue8'], ['adapter', './adapter.js', 'benchAdapter'], ['soak', './soak.js', 'benchSoak'], ['sweep', './sweep.js', 'benchSweep']] as const) {
+  for (const [name, file, fn] of [['replay', './replay.js', 'benchReplay'], ['sim', './sim.js', 'benchSim'], ['families', './sim.js', 'benchFamilies'], ['issue8', './issue8-measure.js', 'benchIssue8'], ['adapter', './adapter.js', 'benchAdapter'], ['soak', './soak.js', 'benchSoak'], ['sweep', './sweep.js', 'benchSweep']] as const) {
     const f = await optionalFn(file, fn);
     if (f) B[name] = () => (f as () => Promise<Record<string, unknown>>)();
   }

@@ -3,10 +3,14 @@ import type { Command } from 'commander';
 import { progressBar } from './progress.js';
 import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
+import { join } from 'node:path';
+import { renderCompareReport, type CompareReportFamily } from '../report/compare-html.js';
+import { loadFamily, type Family } from '../sim/family.js';
+import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { parseStrategyList } from '../sim/strategies.js';
 import { interruptExitCode, interrupted, interruptedFields, watchInterrupts } from '../util/interrupt.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
-import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions } from './simulate.js';
+import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions, resolveParams } from './simulate.js';
 
 export function compareTable(r: CompareResult): string {
   const head = ['strategy', 'k', 'success', 'ci95', 'collisions', 'peak F_int N', 'mean F_int N', 'mean time s'];
@@ -22,11 +26,16 @@ export function compareTable(r: CompareResult): string {
   ]);
   const w = head.map((h, c) => Math.max(h.length, ...rows.map((row) => row[c]!.length)));
   const line = (cells: string[]) => cells.map((x, c) => (c < 2 ? x.padEnd(w[c]!) : x.padStart(w[c]!))).join('  ');
-  const out = [`${r.worlds_done < r.worlds ? `interrupted: ${r.worlds_done} of ` : ''}${r.worlds} worlds, seed ${r.seed}${r.arm_model ? `, arms ${r.arm_model}` : ''}`, line(head), ...rows.map(line), '', 'belief calibration, commitment agreement and same-role time (pooled over the worlds):'];
+  const fam = r.family ? `family ${r.family.name} (${r.family.redraws} redraws in ${r.family.worlds_redrawn} worlds), ` : '';
+  const out = [`${fam}${r.worlds_done < r.worlds ? `interrupted: ${r.worlds_done} of ` : ''}${r.worlds} worlds, seed ${r.seed}${r.arm_model ? `, arms ${r.arm_model}` : ''}`, line(head), ...rows.map(line), '', 'belief calibration, commitment agreement and same-role time (pooled over the worlds):'];
   const nw = Math.max(...r.strategies.map((s) => s.label.length));
   for (const s of r.strategies) {
     out.push(`${s.label.padEnd(nw)}  belief: ${calibrationText(s.calibration)}`);
     out.push(`${' '.repeat(nw)}  commitments: ${commitmentText(s.commitments)}`);
+    const tc = s.belief.time_to_correct_s;
+    const f3 = (v: number | null) => (v === null ? '-' : v.toFixed(3));
+    out.push(`${' '.repeat(nw)}  belief timing: time to correct median ${f3(tc.median)} s, p95 ${f3(tc.p95)} s (${tc.count} determinations, ${tc.unresolved} unresolved); confident wrong mean ${f3(s.belief.confident_wrong_s.mean)} s, max ${f3(s.belief.confident_wrong_s.max)} s`);
+    out.push(`${' '.repeat(nw)}  holds: ${Object.entries(s.holds_by_reason).map(([k, v]) => `${k} ${v}`).join(', ') || 'none'}; false impact holds ${s.false_impact_holds}`);
     out.push(`${' '.repeat(nw)}  same role: ${s.same_role.total_s.toFixed(3)} s in all, ${s.same_role.mean_s.toFixed(3)} s per run (${(100 * s.same_role.fraction).toFixed(2)} % of the time)`);
     const ph = s.partner_hold;
     if (ph) {
@@ -34,7 +43,18 @@ export function compareTable(r: CompareResult): string {
       out.push(`${' '.repeat(nw)}  partner hold: detected in ${ph.detected} of ${ph.runs} runs (never ${(100 * ph.never_rate).toFixed(1)} %); detection max ${f(ph.detection_s.max)} s, p95 ${f(ph.detection_s.p95)} s; object moved up to ${f(ph.object_moved_m.max)} m`);
     }
   }
+  const key = r.paired.filter((p) => p.a.startsWith('adaptive') || p.b.startsWith('adaptive') || p.a.startsWith('explicit'));
+  if (key.length) {
+    out.push('', 'paired (same worlds; wins/losses/ties of the first; success: sign test; peak internal force and time: Wilcoxon signed-rank; all pairs in --json):');
+    const c = (m: { wins: number; losses: number; ties: number; p: number }) => `${m.wins}/${m.losses}/${m.ties} p=${m.p < 0.001 ? m.p.toExponential(1) : m.p.toFixed(3)}`;
+    for (const p of key) out.push(`  ${p.a} vs ${p.b}: success ${c(p.success)}; peak F_int ${c(p.peak_internal_force_n)}; time ${c(p.time_s)}`);
+  }
   return out.join('\n');
+}
+
+/** The compare report's view of a result. */
+export function reportFamily(r: CompareResult): CompareReportFamily {
+  return { name: r.family?.name ?? 'parameters file', worlds: r.worlds, seed: r.seed, arm_model: r.arm_model, redraws: r.family ? r.family.redraws : null, strategies: r.strategies, paired: r.paired };
 }
 
 export function compareJson(r: CompareResult): Record<string, unknown> {
@@ -59,7 +79,13 @@ export function compareJson(r: CompareResult): Record<string, unknown> {
       commitments: s.commitments,
       same_role: s.same_role,
       partner_hold: s.partner_hold,
+      bootstrap95: s.bootstrap95,
+      belief: s.belief,
+      holds_by_reason: s.holds_by_reason,
+      false_impact_holds: s.false_impact_holds,
     })),
+    family: r.family,
+    paired: r.paired,
   };
 }
 
@@ -68,16 +94,19 @@ export function register(program: Command): void {
     .command('compare')
     .description('Run every strategy on N randomized worlds of the simulated cell and compare success, collisions, internal force and time.')
     .requiredOption('--worlds <N>', 'number of randomized worlds')
+    .option('--family <file>', 'draw the worlds from this scenario family (YAML; examples/families/); repeat for several families', (v: string, acc: string[] = []) => [...acc, v])
+    .option('--out <dir>', 'write summary.json and a self-contained report.html there')
+    .option('--overwrite', 'replace an existing output folder')
     .option('--seed <s>', 'seed of the batch (world i uses a seed derived from it)', '1')
     .option('--jobs <k>', 'worker threads', '1')
     .option('--strategies <list>', 'comma-separated: centralized, explicit[:k], alternating[:k], fixed, independent, adaptive (alternating alone: k = 50, 200, 500, 1000)')
-    .option('--params <file>', 'ROS 2 parameters file (default: built-in defaults)')
+    .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--duration <s>', 'simulated time limit per episode, s (default task.time_limit_s)')
     .option('--arm-model <m>', 'tool_point or six_joint', 'tool_point')
     .option('--disturbance-n <N>', 'correction-band force disturbance on each wrist sensor: stationary std, N (Ornstein-Uhlenbeck, 0.2 s), after the start-up tare', '0')
     .option('--inject-hold <arm:t>', 'one NaN wrench sample on that arm at that time in every run, s (e.g. left:3.0); also turns off the hold timeout')
     .option('--json', 'print the result as JSON (no progress bar)')
-    .action(async (opts: { worlds: string; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean }) =>
+    .action(async (opts: { worlds: string; family?: string[]; out?: string; overwrite?: boolean; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const worlds = integerOption('--worlds', opts.worlds, 1, 1_000_000)!;
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
@@ -87,24 +116,42 @@ export function register(program: Command): void {
         const armModel = armModelOption(opts.armModel);
         const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
         const inject = injectHoldOption(opts.injectHold);
-        const cell = loadCell(opts.params);
-        const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) };
+        const paramsPath = resolveParams('compare', opts.params);
+        const cell = loadCell(paramsPath);
+        const options = { arm_model: armModel, ...measureOptions(disturbance, inject) };
+        const families: (Family | undefined)[] = opts.family?.length ? opts.family.map((f) => loadFamily(f, cell.left.config, options)) : [undefined];
+        const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options, ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
+        const outInputs = [paramsPath, ...(opts.family ?? [])];
+        if (opts.out !== undefined) checkOutputDir(opts.out, { overwrite: !!opts.overwrite, inputs: outInputs });
         const bar = progressBar('compare', !!opts.json);
-        bar?.start(worlds * strategies.length, 0);
-        let result: CompareResult;
+        const total = worlds * strategies.length * families.length;
+        bar?.start(total, 0);
+        const results: CompareResult[] = [];
         // SIGINT/SIGTERM: the episodes running finish, the whole worlds done are reported, exit 130/143.
         const unwatch = watchInterrupts();
         try {
-          result = await runCompare({ ...input, shouldStop: interrupted, ...(bar ? { onProgress: (done: number) => bar.update(done) } : {}) });
+          for (const [k, family] of families.entries()) {
+            const offset = k * worlds * strategies.length;
+            results.push(await runCompare({ ...input, shouldStop: interrupted, ...(family ? { family } : {}), ...(bar ? { onProgress: (done: number) => bar.update(offset + done) } : {}) }));
+            if (interrupted()) break;
+          }
         } finally {
           unwatch();
           bar?.stop();
         }
-        if (opts.json) printJson(compareJson(result));
+        const json = results.length === 1 ? compareJson(results[0]!) : { families: results.map(compareJson) };
+        if (opts.out !== undefined) {
+          await withOutputDir(opts.out, { overwrite: !!opts.overwrite, inputs: outInputs }, async (tmp) => {
+            writeFileAtomic(join(tmp, 'summary.json'), JSON.stringify(json, null, 2) + '\n');
+            writeFileAtomic(join(tmp, 'report.html'), renderCompareReport(results.map(reportFamily)));
+          });
+        }
+        if (opts.json) printJson(opts.out !== undefined ? { ...json, files: [join(opts.out, 'summary.json'), join(opts.out, 'report.html')] } : json);
         else {
-          printText(compareTable(result));
-          if (cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (pass --params config/demo_cell.yaml for the demo cell)');
+          printText(results.map(compareTable).join('\n\n'));
+          if (families[0] === undefined && cell.left.config.task.zones.length === 0) printText('note: the task has no keep-out zones, so every strategy does the same (leave out --params for the demo cell)');
+          if (opts.out !== undefined) printText(`wrote ${join(opts.out, 'summary.json')}, ${join(opts.out, 'report.html')}`);
         }
         return interruptExitCode(0);
       }),

@@ -67,6 +67,7 @@ export function register(program: Command): void {
         if (bad.length) throw new InputError({ code: 'cli.bad_remap', message: `malformed --remap ${bad.join(', ')}`, where: { option: '--remap' }, hint: 'write from:=to, e.g. /left/wrench:=/ft_left/wrench' });
         const startS = numberOption('--start', opts.start, 0, 1e9);
         const endS = numberOption('--end', opts.end, 0, 1e9);
+        if (opts.params === undefined) process.stderr.write('replay: no --params given, using the built-in default of every parameter (no keep-out zones: the belief has nothing to infer); pass --params <file> with the cell\'s parameters\n');
         const cell = loadCell(opts.params);
         const storage = storageOption(opts.storage);
         // --out is checked before any work; names in the expectations are checked at load.

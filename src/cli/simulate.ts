@@ -5,7 +5,9 @@ import type { StorageId } from '../bag/types.js';
 import { storageOption } from '../bag/writer.js';
 import { loadCell } from '../params/config.js';
 import { renderReport } from '../report/html.js';
+import { demoCellNote, demoCellPath } from '../sim/demo-cell.js';
 import { writeEpisodeBag } from '../sim/episode-bag.js';
+import { drawFamilyWorld, loadFamily } from '../sim/family.js';
 import { runEpisode, type EpisodeResult, type EpisodeSummary } from '../sim/episode.js';
 import type { CalibrationSummary } from '../sim/belief-metrics.js';
 import type { CommitmentSummary, PartnerHoldSummary } from '../sim/measures.js';
@@ -34,6 +36,16 @@ export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, 
     writeFileAtomic(join(tmp, 'report.html'), renderReport(art.report));
   });
   return { files: [join(dir, 'bag'), join(dir, 'summary.json'), join(dir, 'report.html')], replayMatches, summary };
+}
+
+/**
+ * The parameters file of `simulate` and `compare`: the one given, else the demo cell's shipped in
+ * the package, with one line on stderr saying so (stdout stays the command's output).
+ */
+export function resolveParams(command: string, given: string | undefined): string {
+  if (given !== undefined) return given;
+  process.stderr.write(demoCellNote(command) + '\n');
+  return demoCellPath();
 }
 
 /** Parse --arm-model. */
@@ -88,13 +100,18 @@ export function outcomeText(s: EpisodeSummary): string {
 export function summaryText(s: EpisodeSummary): string {
   const f = (v: number | null, d = 2) => (v === null ? '-' : v.toFixed(d));
   const occ = Object.entries(s.world.occupied).map(([k, v]) => `${k} ${v ? 'occupied' : 'free'}`).join(', ');
+  const changes = s.world.zones.flatMap((z) => z.changes.map((c) => `${z.name} ${c.occupied ? 'occupied' : 'free'} at ${f(c.t_s, 2)} s`));
+  const tc = s.belief.time_to_correct_s;
   const lines = [
-    `seed ${s.seed}, strategy ${s.strategy}, arms ${s.arm_model}`,
+    `seed ${s.seed}, strategy ${s.strategy}, arms ${s.arm_model}${s.family ? `, family ${s.family.name} (${s.family.redraws} redraws)` : ''}`,
     `world: ${occ || 'no zones'}; start (${f(s.world.start_m[0], 3)}, ${f(s.world.start_m[1], 3)}) m, goal (${f(s.world.goal_m[0], 3)}, ${f(s.world.goal_m[1], 3)}) m`,
+    ...(changes.length ? [`changes: ${changes.join(', ')}`] : []),
+    ...(s.world.knocks.length ? [`knocks: ${s.world.knocks.map((k) => `${f(k.force_n, 1)} N at ${f(k.t_s, 2)} s`).join(', ')}`] : []),
     `outcome: ${outcomeText(s)}; final distance to the goal ${f(s.final_distance_m, 3)} m`,
     `collisions: ${s.collisions.count}${s.collisions.first_s === null ? '' : `, first at ${f(s.collisions.first_s, 3)} s`}; contact ${f(s.collisions.contact_s, 3)} s`,
     `internal force (true, along the beam; + squeeze): peak ${f(s.internal_force.peak_n)} N, mean |f| ${f(s.internal_force.mean_abs_n)} N`,
-    `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}`,
+    `holds: ${s.holds.count}${s.holds.count ? ' (' + Object.entries(s.holds.reasons).map(([k, v]) => `${k} x${v}`).join(', ') + ')' : ''}; false impact holds ${s.holds.false_impact}`,
+    `belief: time to correct median ${f(tc.median)} s, p95 ${f(tc.p95)} s (${tc.count} determinations, ${tc.unresolved} unresolved); confident wrong ${f(s.belief.confident_wrong_s, 3)} s`,
     `role switches: left ${s.role_switches.left}, right ${s.role_switches.right}; tared at left ${f(s.tared_at_s.left, 3)} s, right ${f(s.tared_at_s.right, 3)} s`,
     `belief calibration (this one world; compare pools many worlds): ${calibrationText(s.belief.calibration)}`,
     `commitments: ${commitmentText(s.commitments)}${s.disturbance_n > 0 ? ` (disturbance ${s.disturbance_n} N)` : ''}`,
@@ -111,8 +128,9 @@ export function register(program: Command): void {
   program
     .command('simulate')
     .description('Run one episode of the simulated cell (MuJoCo) with both arm pipelines and print its summary.')
-    .option('--params <file>', 'ROS 2 parameters file (default: built-in defaults)')
+    .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--seed <n>', 'world seed', '1')
+    .option('--family <file>', 'draw the world from this scenario family (YAML; examples/families/)')
     .option('--strategy <s>', 'centralized, explicit, alternating, fixed, independent or adaptive (name:k sets the period)', 'alternating')
     .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
     .option('--duration <s>', 'simulated time limit, s (default task.time_limit_s)')
@@ -123,7 +141,7 @@ export function register(program: Command): void {
     .option('--overwrite', 'replace an existing output folder')
     .option('--storage <s>', 'storage of the output bag: mcap or sqlite3 (rosbag2 .db3, as Humble records by default)', 'mcap')
     .option('--json', 'print the summary as JSON')
-    .action(async (opts: { params?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; storage?: string; json?: boolean }) =>
+    .action(async (opts: { params?: string; family?: string; seed: string; strategy: string; periodSteps?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; out?: string; overwrite?: boolean; storage?: string; json?: boolean }) =>
       runCommand(!!opts.json, async () => {
         // SIGINT/SIGTERM: the episode (the unit here: it runs without a break) finishes, its bag and summary.json are written, exit 130/143.
         const unwatch = watchInterrupts();
@@ -135,7 +153,8 @@ export function register(program: Command): void {
           const disturbance = numberOption('--disturbance-n', opts.disturbanceN, 0, 100);
           const inject = injectHoldOption(opts.injectHold);
           const storage = storageOption(opts.storage);
-          const cell = loadCell(opts.params);
+          const paramsPath = resolveParams('simulate', opts.params);
+          const cell = loadCell(paramsPath);
           const defaultK = Math.max(1, Math.round(cell.left.config.roles.period_s * cell.left.config.wrench_filter.sample_rate_hz));
           let strategy: StrategySpec = parseStrategy(opts.strategy, '--strategy', defaultK);
           if (period !== undefined) {
@@ -146,9 +165,21 @@ export function register(program: Command): void {
           }
           // --out is checked before the episode runs (it may take minutes).
           const dir = opts.out ?? join('out', `sim-${seed}`);
-          checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [opts.params] });
-          const result = await runEpisode({ left: cell.left.config, right: cell.right.config, strategy, seed, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) });
-          const { files, summary } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [opts.params]);
+          checkOutputDir(dir, { overwrite: !!opts.overwrite, inputs: [paramsPath] });
+          const options: SimOptionsOverrides = { arm_model: armModel, ...measureOptions(disturbance, inject) };
+          let left = cell.left.config;
+          let right = cell.right.config;
+          let drawn = {};
+          if (opts.family !== undefined) {
+            const family = loadFamily(opts.family, left, options);
+            const fw = drawFamilyWorld(family, left, options, seed);
+            left = { ...left, task: fw.task };
+            right = { ...right, task: fw.task };
+            Object.assign(options, fw.options);
+            drawn = { world: fw.world, family: { name: family.spec.family, redraws: fw.redraws } };
+          }
+          const result = await runEpisode({ left, right, strategy, seed, options, ...drawn, ...(duration !== undefined ? { duration_s: duration } : {}) });
+          const { files, summary } = await writeEpisodeArtifacts(dir, result, !!opts.overwrite, storage, [paramsPath, opts.family]);
           if (opts.json) printJson({ ...summary, files });
           else printText(`${summaryText(result.summary)}\nwrote ${files.join(', ')}\nreport: ${join(dir, 'report.html')}`);
           return interruptExitCode(0);

@@ -11,6 +11,8 @@ export const CLIENT_SCRIPT = String.raw`(function () {
   'use strict';
   var D = JSON.parse(document.getElementById('antiphon-data').textContent);
   var T0 = D.t0, T1 = D.t1, SPAN = T1 - T0;
+  // The view: the span of time every plot shows (zoom and pan move all plots together).
+  var V0 = T0, V1 = T1, VSPAN = SPAN;
   var M = { l: 76, r: 16, t: 10, b: 40 };
   var INK = '#1d232a', MUTED = '#5d646e', GRID = '#ebe8e1', FRAME = '#a9a398', HOLD_FILL = 'rgba(222, 166, 36, 0.20)', HOLD_BAR = '#a8740c';
   var FONT = '11px system-ui, -apple-system, "Segoe UI", sans-serif';
@@ -46,7 +48,10 @@ export const CLIENT_SCRIPT = String.raw`(function () {
     if (!isFinite(v)) return '—';
     return String(Number(v.toPrecision(4)));
   }
-  function xOf(P, t) { return P.x0 + (t - T0) / SPAN * (P.x1 - P.x0); }
+  function xOf(P, t) { return P.x0 + (t - V0) / VSPAN * (P.x1 - P.x0); }
+  // Data columns cover the whole record; their place and width in the view.
+  function xCol(P, i, n) { return xOf(P, T0 + i / n * SPAN); }
+  function colW(P, n) { return (P.x1 - P.x0) / n * SPAN / VSPAN; }
 
   function yScale(P, y) {
     var lo = y.lo, hi = y.hi;
@@ -56,10 +61,10 @@ export const CLIENT_SCRIPT = String.raw`(function () {
   function grid(P, ys) {
     var g = P.g;
     g.strokeStyle = GRID; g.lineWidth = 1;
-    var step = niceStep(SPAN, (P.x1 - P.x0) / 90);
+    var step = niceStep(VSPAN, (P.x1 - P.x0) / 90);
     P.tStep = step;
     g.beginPath();
-    for (var t = Math.ceil(T0 / step) * step; t <= T1 + step * 1e-9; t += step) {
+    for (var t = Math.ceil(V0 / step) * step; t <= V1 + step * 1e-9; t += step) {
       var x = Math.round(xOf(P, t)) + 0.5;
       g.moveTo(x, P.y0); g.lineTo(x, P.y1);
     }
@@ -87,7 +92,7 @@ export const CLIENT_SCRIPT = String.raw`(function () {
     var step = P.tStep, dec = decimals(step);
     g.textAlign = 'center'; g.textBaseline = 'top';
     g.beginPath(); g.strokeStyle = FRAME;
-    for (var t = Math.ceil(T0 / step) * step; t <= T1 + step * 1e-9; t += step) {
+    for (var t = Math.ceil(V0 / step) * step; t <= V1 + step * 1e-9; t += step) {
       var x = Math.round(xOf(P, t)) + 0.5;
       g.moveTo(x, P.y1); g.lineTo(x, P.y1 + 4);
       g.fillText((Math.abs(t) < step * 1e-6 ? 0 : t).toFixed(dec), x, P.y1 + 6);
@@ -125,8 +130,8 @@ export const CLIENT_SCRIPT = String.raw`(function () {
 
   function forHolds(P, h, fn) {
     if (h.cm) {
-      var n = h.cm.length, cw = (P.x1 - P.x0) / n;
-      for (var i = 0; i < n; i++) if (h.cm[i]) fn(P.x0 + i * cw, Math.max(cw, 1));
+      var n = h.cm.length, cw = colW(P, n);
+      for (var i = 0; i < n; i++) if (h.cm[i]) fn(xCol(P, i, n), Math.max(cw, 1));
       return;
     }
     for (var k = 0; k + 1 < h.iv.length; k += 2) {
@@ -150,7 +155,7 @@ export const CLIENT_SCRIPT = String.raw`(function () {
     g.globalAlpha = s.a || 1;
   }
   function drawEnv(P, s, ys) {
-    var g = P.g, mn = s.mnA, mx = s.mxA, n = mn.length, cw = (P.x1 - P.x0) / n;
+    var g = P.g, mn = s.mnA, mx = s.mxA, n = mn.length;
     var gapCols = s.gap > 0 ? s.gap / (SPAN / n) : Infinity;
     var pen = false, last = -1, verts = 0;
     stroke(P, s);
@@ -158,7 +163,7 @@ export const CLIENT_SCRIPT = String.raw`(function () {
     for (var i = 0; i < n; i++) {
       var a = mn[i], b = mx[i];
       if (a !== a) continue;
-      var x = P.x0 + (i + 0.5) * cw, ya = ys.f(a), yb = ys.f(b);
+      var x = xCol(P, i + 0.5, n), ya = ys.f(a), yb = ys.f(b);
       if (pen && i - last - 1 > gapCols) pen = false;
       var first = (i & 1) ? yb : ya, second = (i & 1) ? ya : yb;
       if (!pen) { g.moveTo(x, first); pen = true; } else g.lineTo(x, first);
@@ -192,10 +197,10 @@ export const CLIENT_SCRIPT = String.raw`(function () {
       verts++;
     }
     if (p.steps.cm) {
-      var cm = p.steps.cm, n = cm.length, cw = (P.x1 - P.x0) / n;
+      var cm = p.steps.cm, n = cm.length, cw = colW(P, n);
       for (var i = 0; i < n; i++) {
-        if (cm[i] & 1) lane(0, P.x0 + i * cw, Math.max(cw, 1));
-        if (cm[i] & 2) lane(1, P.x0 + i * cw, Math.max(cw, 1));
+        if (cm[i] & 1) lane(0, xCol(P, i, n), Math.max(cw, 1));
+        if (cm[i] & 2) lane(1, xCol(P, i, n), Math.max(cw, 1));
       }
     } else {
       for (var k = 0; k < p.st.length; k++) {
@@ -213,8 +218,8 @@ export const CLIENT_SCRIPT = String.raw`(function () {
       g.fillStyle = p.colours[i];
       var top = P.y0 + i * lh + 3, hh = lh - 6;
       if (p.binned) {
-        var cw = (P.x1 - P.x0) / D.cols, cols = p.marks[i];
-        for (var j = 0; j < cols.length; j++) { g.fillRect(Math.min(P.x0 + cols[j] * cw, P.x1 - 1.5), top, Math.max(cw, 1.5), hh); verts++; }
+        var cw = colW(P, D.cols), cols = p.marks[i];
+        for (var j = 0; j < cols.length; j++) { g.fillRect(Math.min(xCol(P, cols[j], D.cols), P.x1 - 1.5), top, Math.max(cw, 1.5), hh); verts++; }
       } else {
         var ts = p.mt[i];
         for (var k = 0; k < ts.length; k++) { g.fillRect(Math.min(Math.max(xOf(P, ts[k]) - 0.75, P.x0), P.x1 - 1.5), top, 1.5, hh); verts++; }
@@ -298,8 +303,8 @@ export const CLIENT_SCRIPT = String.raw`(function () {
         return;
       }
       var w = c.clientWidth, x0 = M.l, x1 = Math.max(M.l + 10, w - M.r);
-      cur.style.left = (x0 + (t - T0) / SPAN * (x1 - x0)) + 'px';
-      cur.hidden = false;
+      cur.style.left = (x0 + (t - V0) / VSPAN * (x1 - x0)) + 'px';
+      cur.hidden = t < V0 || t > V1;
       var text = 't = ' + t.toFixed(3) + ' s';
       if (p.kind === 'role') text += ' · ' + roleAt(p, t);
       if (p.holds.some(function (a) { return heldAt(holds[a], t); })) text += ' · watchdog hold';
@@ -314,10 +319,44 @@ export const CLIENT_SCRIPT = String.raw`(function () {
   canvases.forEach(function (c) {
     c.addEventListener('mousemove', function (ev) {
       var r = c.getBoundingClientRect(), x = ev.clientX - r.left, x0 = M.l, x1 = Math.max(M.l + 10, r.width - M.r);
-      cursor(x < x0 || x > x1 ? null : T0 + (x - x0) / (x1 - x0) * SPAN);
+      if (drag) return;
+      cursor(x < x0 || x > x1 ? null : V0 + (x - x0) / (x1 - x0) * VSPAN);
     });
     c.addEventListener('mouseleave', function () { cursor(null); });
+    // Zoom (wheel, about the pointer), pan (drag), back to the whole record (double click): every plot follows.
+    c.addEventListener('wheel', function (ev) {
+      ev.preventDefault();
+      var r = c.getBoundingClientRect(), x0 = M.l, x1 = Math.max(M.l + 10, r.width - M.r);
+      var f = Math.min(1, Math.max(0, (ev.clientX - r.left - x0) / (x1 - x0)));
+      var at = V0 + f * VSPAN, k = ev.deltaY > 0 ? 1.25 : 0.8;
+      setView(at - f * VSPAN * k, at + (1 - f) * VSPAN * k);
+    }, { passive: false });
+    c.addEventListener('mousedown', function (ev) {
+      var r = c.getBoundingClientRect();
+      drag = { x: ev.clientX, v0: V0, v1: V1, w: Math.max(10, r.width - M.l - M.r) };
+      ev.preventDefault();
+    });
+    c.addEventListener('dblclick', function () { setView(T0, T1); });
   });
+  var drag = null;
+  window.addEventListener('mousemove', function (ev) {
+    if (!drag) return;
+    var dt = -(ev.clientX - drag.x) / drag.w * (drag.v1 - drag.v0);
+    setView(drag.v0 + dt, drag.v1 + dt);
+  });
+  window.addEventListener('mouseup', function () { drag = null; });
+  /** Show [a, b] (clamped to the record; at least a millionth of it), redraw every plot. */
+  function setView(a, b) {
+    var span = Math.min(SPAN, Math.max(SPAN * 1e-6, b - a));
+    if (!(span > 0)) return;
+    a = Math.max(T0, Math.min(a, T1 - span));
+    V0 = a; V1 = a + span; VSPAN = span;
+    document.body.setAttribute('data-view', V0.toFixed(6) + ',' + V1.toFixed(6));
+    drawAll();
+    if (window.antiphonPlanView) window.antiphonPlanView(V0, V1);
+  }
+  window.antiphonSetView = setView;
+  window.antiphonCursor = cursor;
 
   // Event table filters.
   Array.prototype.forEach.call(document.querySelectorAll('select[data-filter]'), function (sel) {

@@ -8,6 +8,7 @@
  */
 import { createHash } from 'node:crypto';
 import { CLIENT_SCRIPT } from './client.js';
+import { PLAN_CSS, PLAN_SCRIPT, planPayload, renderPlanSection } from './plan.js';
 import {
   changePoints,
   columnOf,
@@ -192,6 +193,7 @@ export function renderReport(input: ReportInput, options: RenderOptions = {}): s
   input.arms.forEach((a, i) => nav.push(`<a href="#arm-${i}">Arm ${escapeHtml(a.name)}</a>`));
   if (input.internalForce) nav.push('<a href="#internal">Internal force</a>');
   if (input.calibration) nav.push('<a href="#calibration">Calibration</a>');
+  if (input.plan) nav.push('<a href="#plan">Plan view</a>');
 
   const meta = [
     `${input.arms.length} arm${input.arms.length === 1 ? '' : 's'}`,
@@ -204,7 +206,8 @@ export function renderReport(input: ReportInput, options: RenderOptions = {}): s
       : '';
 
   const scriptHash = createHash('sha256').update(CLIENT_SCRIPT, 'utf8').digest('base64');
-  const csp = `default-src 'none'; script-src 'sha256-${scriptHash}'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'`;
+  const planHash = input.plan ? ` 'sha256-${createHash('sha256').update(PLAN_SCRIPT, 'utf8').digest('base64')}'` : '';
+  const csp = `default-src 'none'; script-src 'sha256-${scriptHash}'${planHash}; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'`;
 
   return [
     '<!DOCTYPE html>',
@@ -212,7 +215,7 @@ export function renderReport(input: ReportInput, options: RenderOptions = {}): s
     `<meta http-equiv="Content-Security-Policy" content="${escapeHtml(csp)}">`,
     '<meta name="viewport" content="width=device-width, initial-scale=1">',
     `<title>${escapeHtml(input.title)}</title>`,
-    `<style>${CSS}${kindCss(ctx.kinds)}</style>`,
+    `<style>${CSS}${kindCss(ctx.kinds)}${input.plan ? PLAN_CSS : ''}</style>`,
     '</head><body>',
     '<header>',
     `<h1>${escapeHtml(input.title)}</h1>`,
@@ -227,10 +230,13 @@ export function renderReport(input: ReportInput, options: RenderOptions = {}): s
     ...armHtml,
     internalHtml,
     input.calibration ? renderCalibration(input.calibration) : '',
+    input.plan ? renderPlanSection() : '',
     '</main>',
     `<footer><p>How to read the plots: each plot has ${columns} time columns over the same time span; a continuous series is drawn as the band from its least to its greatest value in each column, so a single-sample spike stays visible. Roles and watchdog holds are drawn from their exact change points; a hold shorter than a column is widened to stay visible. Move the pointer over a plot for the time and the values (min…max of the column) at that time.</p><p>antiphon report</p></footer>`,
     `<script type="application/json" id="antiphon-data">${scriptJson(payload)}</script>`,
     `<script>${CLIENT_SCRIPT}</script>`,
+    input.plan ? `<script type="application/json" id="antiphon-plan">${scriptJson(planPayload(input, input.plan))}</script>` : '',
+    input.plan ? `<script>${PLAN_SCRIPT}</script>` : '',
     '</body></html>',
     '',
   ].join('\n');

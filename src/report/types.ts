@@ -52,6 +52,8 @@ export interface ReportInput {
   readonly internalForce?: ReportSeries;
   /** Reliability diagram of the belief, when the truth is known (simulated cell). */
   readonly calibration?: ReportCalibration;
+  /** The cell from above (simulated cell): zones, paths, collisions; drawn with a time slider. */
+  readonly plan?: ReportPlan;
   /** Expectation verdicts, when checks ran. */
   readonly checks?: readonly { readonly name: string; readonly expected?: string; readonly measured: string; readonly verdict: 'pass' | 'fail' }[];
 }
@@ -75,4 +77,37 @@ export interface ReportCalibration {
   readonly ece: number | null;
   readonly p_truth_below_0_05_rate: number | null;
   readonly bins: readonly ReportReliabilityBin[];
+}
+
+/** A zone of the plan view with its true state over time. */
+export interface ReportPlanZone {
+  readonly name: string;
+  readonly shape: string;
+  readonly center_m: readonly [number, number];
+  readonly size_m: readonly [number, number] | null;
+  readonly radius_m: number | null;
+  readonly observed_by: string;
+  /** At the start, then each change. */
+  readonly occupied: boolean;
+  readonly changes: readonly { readonly t_s: number; readonly occupied: boolean }[];
+}
+
+/** The plan view's inputs: full-rate series on one clock (the report decimates them). */
+export interface ReportPlan {
+  readonly zones: readonly ReportPlanZone[];
+  readonly object_length_m: number;
+  readonly start_m: readonly [number, number];
+  readonly goal_m: readonly [number, number];
+  readonly t: Float64Array;
+  /** Object centre and heading (rad about z; the object lies along its own y axis). */
+  readonly objectX: Float64Array;
+  readonly objectY: Float64Array;
+  readonly objectYaw: Float64Array;
+  /** Grasp points (tool positions) of both arms. */
+  readonly leftX: Float64Array;
+  readonly leftY: Float64Array;
+  readonly rightX: Float64Array;
+  readonly rightY: Float64Array;
+  /** Contact onsets: time, object centre then, zone. */
+  readonly collisions: readonly { readonly t_s: number; readonly x: number; readonly y: number; readonly zone: string }[];
 }

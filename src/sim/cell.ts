@@ -306,6 +306,28 @@ export class SimCell {
     return mask;
   }
 
+  /**
+   * Scenario families: switch a zone's obstacle on or off (its contacts and its colour's alpha).
+   * The MJCF holds an obstacle for every zone that is occupied at some time of the world.
+   */
+  setObstacleActive(zone: number, on: boolean): void {
+    const g = this.obstacleGeom[zone] ?? -1;
+    if (g < 0) return;
+    const m = this.model as unknown as { geom_contype: Int32Array; geom_conaffinity: Int32Array; geom_rgba: Float32Array };
+    m.geom_contype[g] = on ? 1 : 0;
+    m.geom_conaffinity[g] = on ? 1 : 0;
+    m.geom_rgba[4 * g + 3] = on ? 1 : 0.15;
+  }
+
+  /** Scenario families: an external force at the beam's centre of mass, cell frame, N (zero clears it). */
+  setBeamForce(fx: number, fy: number, fz: number): void {
+    const x = (this.data as unknown as { xfrc_applied: Float64Array }).xfrc_applied;
+    const b = 6 * this.beamBody;
+    x[b] = fx;
+    x[b + 1] = fy;
+    x[b + 2] = fz;
+  }
+
   dispose(): void {
     if (this.disposed) return;
     this.disposed = true;

@@ -16,9 +16,11 @@ import { checkEpisodeSetup, runEpisodeWith, type EndReason, type EpisodeResult, 
 import { commitmentSummary, percentile, type CommitmentSummary, type CommitmentSums, type EpisodeMeasureSummary, type PartnerHoldSummary } from './measures.js';
 import { loadMujoco } from './mujoco.js';
 import { simOptions, type SimOptionsOverrides } from './options.js';
-import { mean, wilsonInterval } from './stats.js';
+import { bootstrapMeanInterval, mean, signTest, wilcoxonSignedRank, wilsonInterval } from './stats.js';
 import { strategyLabel, type StrategySpec } from './strategies.js';
 import { sampleWorld, worldSeed } from './world.js';
+import { beliefTimingSummary, type BeliefTimingSums, type BeliefTimingSummary } from './belief-timing.js';
+import { drawFamilyWorld, type Family } from './family.js';
 
 export interface CompareInput {
   readonly left: ArmConfig;
@@ -29,6 +31,8 @@ export interface CompareInput {
   readonly jobs?: number;
   readonly options?: SimOptionsOverrides;
   readonly duration_s?: number;
+  /** Draw the worlds from this scenario family (src/sim/family.ts). */
+  readonly family?: Family;
   readonly onProgress?: (done: number, total: number) => void;
   /** Checked between worlds: true starts no new world (the world under way finishes; src/util/interrupt.ts). */
   readonly shouldStop?: () => boolean;
@@ -54,6 +58,12 @@ export interface RunOutcome {
   /** Sampled time of the run (samples x sample period), s. */
   readonly sampled_s: number;
   readonly partner_hold: PartnerHoldSummary | null;
+  readonly belief_timing: BeliefTimingSums;
+  readonly holds_by_reason: Readonly<Record<string, number>>;
+  readonly false_impact_holds: number;
+  /** Family worlds: draws that failed the task checks before this world's (0 without a family). */
+  readonly redraws: number;
+  readonly knocks: number;
 }
 
 export interface StrategyRow {
@@ -70,6 +80,8 @@ export interface StrategyRow {
   readonly mean_internal_force_n: number;
   /** Mean time to goal over the successful runs, s; null when none succeeded. */
   readonly mean_time_s: number | null;
+  /** Percentile bootstrap 95 % intervals of the means (2000 resamples, seeded by the batch seed). */
+  readonly bootstrap95: { readonly mean_peak_internal_force_n: [number, number] | null; readonly mean_time_s: [number, number] | null; readonly confident_wrong_s: [number, number] | null };
   readonly end_reasons: Readonly<Record<string, number>>;
   /** Every run's belief pairs pooled. */
   readonly calibration: CalibrationSummary;
@@ -79,6 +91,10 @@ export interface StrategyRow {
   readonly same_role: { readonly total_s: number; readonly mean_s: number; readonly fraction: number };
   /** Runs with an injected hold: the partner's detection time; null when no run had one. */
   readonly partner_hold: PartnerHoldAggregate | null;
+  /** Belief timing pooled over the runs: time to correct (median, p95 over every determination), confident-wrong time per run. */
+  readonly belief: { readonly time_to_correct_s: BeliefTimingSummary['time_to_correct_s']; readonly confident_wrong_s: { readonly mean: number | null; readonly max: number | null } };
+  readonly holds_by_reason: Readonly<Record<string, number>>;
+  readonly false_impact_holds: number;
 }
 
 export interface PartnerHoldAggregate {
@@ -112,9 +128,77 @@ export interface CompareResult {
   readonly arm_model: string;
   readonly strategies: readonly StrategyRow[];
   readonly runs: readonly RunOutcome[];
+  /** The family the worlds were drawn from: its name and file, and the redraws over the worlds; null without one. */
+  readonly family: { readonly name: string; readonly file: string; readonly redraws: number; readonly worlds_redrawn: number } | null;
+  /** Every pair of strategies on the same worlds. */
+  readonly paired: readonly PairedComparison[];
 }
 
-export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: EpisodeMeasureSummary): RunOutcome {
+/** One measure of a pair of strategies on the same worlds: a wins where it is better. */
+export interface PairedMeasure {
+  readonly wins: number;
+  readonly losses: number;
+  readonly ties: number;
+  /** The test and its two-sided p-value (wins against losses; ties dropped). */
+  readonly test: 'sign' | 'wilcoxon_signed_rank_exact' | 'wilcoxon_signed_rank_normal';
+  readonly p: number;
+  /** Median of a − b over the pairs compared (null for success). */
+  readonly median_difference: number | null;
+}
+
+export interface PairedComparison {
+  readonly a: string;
+  readonly b: string;
+  /** Worlds both ran. */
+  readonly worlds: number;
+  /** Success: a wins where a succeeded and b did not; sign test. */
+  readonly success: PairedMeasure;
+  /** Peak internal force: lower wins; Wilcoxon signed-rank test on a − b. */
+  readonly peak_internal_force_n: PairedMeasure;
+  /** Time to goal over the worlds where both succeeded: lower wins; Wilcoxon signed-rank test. */
+  readonly time_s: PairedMeasure;
+}
+
+function medianOf(xs: readonly number[]): number | null {
+  if (xs.length === 0) return null;
+  const s = [...xs].sort((x, y) => x - y);
+  const m = s.length >> 1;
+  return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2;
+}
+
+function lowerWins(d: readonly number[]): PairedMeasure {
+  const w = wilcoxonSignedRank(d);
+  return { wins: d.filter((x) => x < 0).length, losses: d.filter((x) => x > 0).length, ties: d.filter((x) => x === 0).length, test: w.method === 'exact' ? 'wilcoxon_signed_rank_exact' : 'wilcoxon_signed_rank_normal', p: w.p, median_difference: medianOf(d) };
+}
+
+/** Every pair (a before b in the list) compared world by world. */
+export function pairedComparisons(labels: readonly string[], runsOf: readonly (readonly RunOutcome[])[]): PairedComparison[] {
+  const out: PairedComparison[] = [];
+  for (let i = 0; i < labels.length; i++) {
+    for (let j = i + 1; j < labels.length; j++) {
+      const byWorld = new Map(runsOf[j]!.map((r) => [r.world, r]));
+      const pairs = runsOf[i]!.flatMap((r) => (byWorld.has(r.world) ? [[r, byWorld.get(r.world)!] as const] : []));
+      let wins = 0, losses = 0;
+      for (const [a, b] of pairs) {
+        if (a.success && !b.success) wins++;
+        else if (!a.success && b.success) losses++;
+      }
+      const force = pairs.map(([a, b]) => a.peak_internal_force_n - b.peak_internal_force_n);
+      const time = pairs.filter(([a, b]) => a.success && b.success && a.time_to_goal_s !== null && b.time_to_goal_s !== null).map(([a, b]) => a.time_to_goal_s! - b.time_to_goal_s!);
+      out.push({
+        a: labels[i]!,
+        b: labels[j]!,
+        worlds: pairs.length,
+        success: { wins, losses, ties: pairs.length - wins - losses, test: 'sign', p: signTest(wins, wins + losses), median_difference: null },
+        peak_internal_force_n: lowerWins(force),
+        time_s: lowerWins(time),
+      });
+    }
+  }
+  return out;
+}
+
+export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: EpisodeMeasureSummary, bt: BeliefTimingSums = { times_s: [], unresolved: 0, confident_wrong_s: 0 }): RunOutcome {
   return {
     world,
     seed,
@@ -132,6 +216,11 @@ export function outcomeOf(world: number, seed: number, s: EpisodeSummary, m: Epi
     same_role_s: m.same_role.total_s,
     sampled_s: m.same_role.sampled_s,
     partner_hold: m.partner_hold,
+    belief_timing: bt,
+    holds_by_reason: s.holds.reasons,
+    false_impact_holds: s.holds.false_impact,
+    redraws: s.family?.redraws ?? 0,
+    knocks: s.world.knocks.length,
   };
 }
 
@@ -152,6 +241,7 @@ export interface WorkerInit {
   readonly right: ArmConfig;
   readonly options: SimOptionsOverrides;
   readonly duration_s: number | undefined;
+  readonly family?: Family;
 }
 
 /** The built worker script (worker threads need JavaScript: run `npx tsc -p tsconfig.build.json`). */
@@ -198,12 +288,12 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
         if (input.shouldStop()) break;
       }
       world = j.world;
-      const r = runJob(mj, { left: input.left, right: input.right, options, duration_s: input.duration_s }, j);
-      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures);
+      const r = runJob(mj, { left: input.left, right: input.right, options, duration_s: input.duration_s, ...(input.family ? { family: input.family } : {}) }, j);
+      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures, r.beliefTiming);
       progress();
     }
   } else {
-    await runPool(workerScript(), nJobs, { left: input.left, right: input.right, options, duration_s: input.duration_s }, order, (id, r) => {
+    await runPool(workerScript(), nJobs, { left: input.left, right: input.right, options, duration_s: input.duration_s, ...(input.family ? { family: input.family } : {}) }, order, (id, r) => {
       results[id] = r;
       progress();
     }, input.shouldStop);
@@ -212,14 +302,24 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
   let worldsDone = 0;
   while (worldsDone < input.worlds && input.strategies.every((_, si) => results[si * input.worlds + worldsDone] !== undefined)) worldsDone++;
   const runs = (worldsDone === input.worlds ? results : input.strategies.flatMap((_, si) => results.slice(si * input.worlds, si * input.worlds + worldsDone))) as RunOutcome[];
-  const rows = input.strategies.map((s, si) => aggregate(s, runs.slice(si * worldsDone, (si + 1) * worldsDone)));
-  return { worlds: input.worlds, worlds_done: worldsDone, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs };
+  const per = input.strategies.map((_, si) => runs.slice(si * worldsDone, (si + 1) * worldsDone));
+  const rows = input.strategies.map((s, si) => aggregate(s, per[si]!, input.seed));
+  const first = runs.slice(0, worldsDone);
+  const family = input.family ? { name: input.family.spec.family, file: input.family.file, redraws: first.reduce((a, r) => a + r.redraws, 0), worlds_redrawn: first.filter((r) => r.redraws > 0).length } : null;
+  return { worlds: input.worlds, worlds_done: worldsDone, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs, family, paired: pairedComparisons(rows.map((r) => r.label), per) };
 }
 
 /** One job of a batch (main thread or worker). */
 export function runJob(mj: MainModule, init: WorkerInit, j: CompareJob): EpisodeResult {
   const options: SimOptionsOverrides = j.options ? { ...init.options, ...j.options } : init.options;
   let world;
+  if (init.family) {
+    const fw = drawFamilyWorld(init.family, init.left, options, j.seed);
+    const left = { ...init.left, task: fw.task };
+    const right = { ...init.right, task: fw.task };
+    const o2: SimOptionsOverrides = j.options ? { ...fw.options, ...j.options } : fw.options;
+    return runEpisodeWith(mj, { left, right, strategy: j.strategy, seed: j.seed, options: o2, duration_s: init.duration_s, world: fw.world, family: { name: init.family.spec.family, redraws: fw.redraws } });
+  }
   if (j.occupied) {
     const drawn = sampleWorld(init.left.task, simOptions(options), j.seed);
     if (j.occupied.length !== drawn.occupied.length) throw new Error(`job ${j.id}: ${j.occupied.length} occupancy values for ${drawn.occupied.length} zones`);
@@ -240,7 +340,7 @@ export async function runJobs(init: WorkerInit, list: readonly CompareJob[], job
     const mj = await loadMujoco();
     for (const j of list) {
       const r = runJob(mj, init2, j);
-      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures);
+      results[j.id] = outcomeOf(j.world, j.seed, r.summary, r.measures, r.beliefTiming);
       onProgress?.(++done, list.length);
     }
   } else {
@@ -252,7 +352,7 @@ export async function runJobs(init: WorkerInit, list: readonly CompareJob[], job
   return results as RunOutcome[];
 }
 
-export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): StrategyRow {
+export function aggregate(s: StrategySpec, runs: readonly RunOutcome[], seed = 1): StrategyRow {
   const n = runs.length;
   const successes = runs.filter((r) => r.success).length;
   const end: Record<string, number> = {};
@@ -269,12 +369,32 @@ export function aggregate(s: StrategySpec, runs: readonly RunOutcome[]): Strateg
     mean_peak_internal_force_n: mean(runs.map((r) => r.peak_internal_force_n)) ?? 0,
     mean_internal_force_n: mean(runs.map((r) => r.mean_internal_force_n)) ?? 0,
     mean_time_s: mean(runs.filter((r) => r.success && r.time_to_goal_s !== null).map((r) => r.time_to_goal_s!)),
+    bootstrap95: {
+      mean_peak_internal_force_n: bootstrapMeanInterval(runs.map((r) => r.peak_internal_force_n), seed),
+      mean_time_s: bootstrapMeanInterval(runs.filter((r) => r.success && r.time_to_goal_s !== null).map((r) => r.time_to_goal_s!), seed + 1),
+      confident_wrong_s: bootstrapMeanInterval(runs.map((r) => r.belief_timing.confident_wrong_s), seed + 2),
+    },
     end_reasons: end,
     calibration: pooledCalibration(runs.map((r) => r.calibration)),
     commitments: commitmentSummary(runs.map((r) => r.commitments)),
     same_role: sameRoleAggregate(runs),
     partner_hold: partnerHoldAggregate(runs.map((r) => r.partner_hold)),
+    belief: beliefAggregate(runs),
+    holds_by_reason: sumRecords(runs.map((r) => r.holds_by_reason)),
+    false_impact_holds: runs.reduce((a, r) => a + r.false_impact_holds, 0),
   };
+}
+
+function beliefAggregate(runs: readonly RunOutcome[]): StrategyRow['belief'] {
+  const t = beliefTimingSummary(runs.map((r) => r.belief_timing));
+  const wrong = runs.map((r) => r.belief_timing.confident_wrong_s);
+  return { time_to_correct_s: t.time_to_correct_s, confident_wrong_s: { mean: mean(wrong), max: wrong.length ? Math.max(...wrong) : null } };
+}
+
+function sumRecords(all: readonly Readonly<Record<string, number>>[]): Record<string, number> {
+  const out: Record<string, number> = {};
+  for (const r of all) for (const [k, v] of Object.entries(r)) out[k] = (out[k] ?? 0) + v;
+  return out;
 }
 
 function sameRoleAggregate(runs: readonly RunOutcome[]): { total_s: number; mean_s: number; fraction: number } {

@@ -17,7 +17,7 @@ import type { ArmConfig } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
 import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
 import { replayReportInput, summarize } from '../replay/summary.js';
-import type { ReportEvent, ReportInput } from '../report/types.js';
+import type { ReportEvent, ReportInput, ReportPlan } from '../report/types.js';
 import type { EpisodeResult } from './episode.js';
 import { InputBagWriter } from './input-bag.js';
 import type { EpisodeRecord } from './record.js';
@@ -110,6 +110,7 @@ function simReportInput(result: EpisodeResult, replay: ReplayRecord, replaySumma
     for (let z = 0; onset && z < record.zoneNames.length; z++) if ((onset >>> z) & 1) collisions.push({ t_s: record.t[i]!, kind: 'collision', text: `beam touches ${record.zoneNames[z]}` });
     prev = m;
   }
+  const plan = planOf(result, record);
   const occ = Object.entries(s.world.occupied).map(([k, v]) => `${k} ${v ? 'occupied' : 'free'}`).join(', ');
   const f = (v: number | null, d = 2) => (v === null ? '-' : v.toFixed(d));
   return {
@@ -129,7 +130,43 @@ function simReportInput(result: EpisodeResult, replay: ReplayRecord, replaySumma
     ],
     arms: base.arms.map((a) => ({ ...a, events: [...a.events, ...collisions].sort((x, y) => x.t_s - y.t_s) })),
     internalForce: { t: record.t, y: record.internalForce },
+    plan,
     calibration: { what: 'listener belief updates of both arms, one pair per hidden zone, against the world', ...s.belief.calibration },
+  };
+}
+
+/** The plan view's series from the record: object centre and heading, both grasp points, contact onsets. */
+function planOf(result: EpisodeResult, record: NonNullable<EpisodeResult['record']>): ReportPlan {
+  const n = record.samples;
+  const col = (a: Float64Array, w: number, k: number) => Float64Array.from({ length: n }, (_, i) => a[i * w + k]!);
+  const yaw = Float64Array.from({ length: n }, (_, i) => {
+    const b = i * 7;
+    const qx = record.beamPose[b + 3]!, qy = record.beamPose[b + 4]!, qz = record.beamPose[b + 5]!, qw = record.beamPose[b + 6]!;
+    return Math.atan2(2 * (qw * qz + qx * qy), 1 - 2 * (qy * qy + qz * qz));
+  });
+  const collisions: ReportPlan['collisions'][number][] = [];
+  let prev = 0;
+  for (let i = 0; i < n; i++) {
+    const m = record.contacts[i]!;
+    const onset = m & ~prev;
+    for (let z = 0; onset && z < record.zoneNames.length; z++) if ((onset >>> z) & 1) collisions.push({ t_s: record.t[i]!, x: record.beamPose[i * 7]!, y: record.beamPose[i * 7 + 1]!, zone: record.zoneNames[z]! });
+    prev = m;
+  }
+  const w = result.summary.world;
+  return {
+    zones: w.zones.map((z) => ({ name: z.name, shape: z.shape, center_m: z.center_m, size_m: z.size_m, radius_m: z.radius_m, observed_by: z.observed_by, occupied: z.occupied, changes: z.changes })),
+    object_length_m: result.configs.left.task.object.length_m,
+    start_m: w.start_m,
+    goal_m: w.goal_m,
+    t: record.t.subarray(0, n),
+    objectX: col(record.beamPose, 7, 0),
+    objectY: col(record.beamPose, 7, 1),
+    objectYaw: yaw,
+    leftX: col(record.left.toolPose, 7, 0),
+    leftY: col(record.left.toolPose, 7, 1),
+    rightX: col(record.right.toolPose, 7, 0),
+    rightY: col(record.right.toolPose, 7, 1),
+    collisions,
   };
 }
 

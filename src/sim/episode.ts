@@ -19,7 +19,9 @@ import { Rng } from '../util/rng.js';
 import { DISTURBANCE_TAU_S, simOptions, type SimOptions, type SimOptionsOverrides } from './options.js';
 import { Recorder, type EpisodeRecord, type ZoneMessage } from './record.js';
 import { applyStrategy, strategyLabel, type StrategySpec } from './strategies.js';
-import { checkTaskForCell, sampleWorld, type ArmSide, type World } from './world.js';
+import { BeliefTiming, beliefTimingSummary, countFalseImpactHolds, type BeliefTimingSummary, type BeliefTimingSums } from './belief-timing.js';
+import { segmentHitsZone } from '../params/config.js';
+import { checkTaskForCell, sampleWorld, type ArmSide, type Knock, type World } from './world.js';
 
 export type EndReason = 'success' | 'time_limit' | 'stall' | 'hold';
 
@@ -52,7 +54,13 @@ export interface EpisodeSummary {
     readonly occupied: Readonly<Record<string, boolean>>;
     readonly start_m: readonly [number, number];
     readonly goal_m: readonly [number, number];
+    /** Every zone of this world (task order) with its state at the start and its changes as they happened. */
+    readonly zones: readonly WorldZoneSummary[];
+    /** Knocks on the object (ground truth for the impact detector). */
+    readonly knocks: readonly Knock[];
   };
+  /** The scenario family the world was drawn from; null without one. */
+  readonly family: { readonly name: string; readonly redraws: number } | null;
   readonly success: boolean;
   readonly end_reason: EndReason;
   /** Simulated time at the end, s. */
@@ -79,12 +87,14 @@ export interface EpisodeSummary {
     readonly count: number;
     readonly reasons: Readonly<Record<string, number>>;
     readonly events: readonly HoldEvent[];
+    /** Holds with an impact trip and no knock or collision onset within 0.5 s before it. */
+    readonly false_impact: number;
   };
   readonly role_switches: { readonly left: number; readonly right: number };
   readonly tared_at_s: { readonly left: number | null; readonly right: number | null };
   readonly samples: number;
   /** Calibration of both arms' listener beliefs against this world's occupancy (pairs of both arms pooled). */
-  readonly belief: { readonly calibration: CalibrationSummary };
+  readonly belief: { readonly calibration: CalibrationSummary } & BeliefTimingSummary;
   /** Agreement of the two arms' common-knowledge commitments at the role switches. */
   readonly commitments: CommitmentSummary;
   /** Time with both arms in the same role. */
@@ -93,6 +103,22 @@ export interface EpisodeSummary {
   readonly partner_hold: PartnerHoldSummary | null;
   /** Stationary standard deviation of the correction-band disturbance on each wrist, N (0: none). */
   readonly disturbance_n: number;
+}
+
+export interface WorldZoneSummary {
+  readonly name: string;
+  readonly shape: string;
+  readonly kind: string;
+  readonly center_m: readonly [number, number];
+  /** Box: side lengths (x, y), m; null for a circle. */
+  readonly size_m: readonly [number, number] | null;
+  /** Circle: radius, m; null for a box. */
+  readonly radius_m: number | null;
+  readonly observed_by: string;
+  /** At the start. */
+  readonly occupied: boolean;
+  /** When the zone changed state during the episode (a change to occupied waits until the object is clear of the zone). */
+  readonly changes: readonly { readonly t_s: number; readonly occupied: boolean }[];
 }
 
 export interface EpisodeInput {
@@ -106,6 +132,8 @@ export interface EpisodeInput {
   readonly duration_s?: number;
   /** Use this world instead of drawing one from the seed (tests). */
   readonly world?: World;
+  /** The scenario family the world came from (for the summary). */
+  readonly family?: { readonly name: string; readonly redraws: number };
   /** Override the commands (tests of the physics): called at each sample after the steps ran. */
   readonly commandOverride?: (t: number, side: ArmSide, out: Float64Array) => void;
   /** Wrap what each arm is fed (fault campaigns: src/faults/inject.ts); default: the arm step itself. */
@@ -124,6 +152,8 @@ export interface EpisodeResult {
   readonly xml: string;
   /** The measurements with their raw sums (for pooling over a batch). */
   readonly measures: EpisodeMeasureSummary;
+  /** The belief timing sums (for pooling over a batch). */
+  readonly beliefTiming: BeliefTimingSums;
 }
 
 /** Problems that must stop a run before any simulation starts. */
@@ -167,7 +197,11 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
   const zones = task.zones;
   const nz = zones.length;
 
-  const cell = new SimCell(mj, nominal, world, o);
+  // Families: an obstacle for every zone occupied at some time, switched on and off by the changes.
+  const changes = world.changes ?? [];
+  const cellWorld = changes.some((c) => c.occupied) ? { ...world, occupied: world.occupied.map((occ, k) => occ || changes.some((c) => c.zone === k && c.occupied)) } : world;
+  const cell = new SimCell(mj, nominal, cellWorld, o);
+  if (cellWorld !== world) world.occupied.forEach((occ, k) => occ || cell.setObstacleActive(k, false));
   const nj = cell.jointCount;
   try {
     const arms = { left: new ArmStep(cfg.left, { jointCount: nj }), right: new ArmStep(cfg.right, { jointCount: nj }) };
@@ -202,6 +236,22 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       : null;
     const ch = rec ? channelIndices(rec) : null;
     const measures = new EpisodeMeasures(arms.left, arms.right, world.occupied, 1 / rate, o.inject_hold);
+    const timing = new BeliefTiming({ left: arms.left.task.hidden, right: arms.right.task.hidden }, world.occupied, 1 / rate);
+    // Families: changes as they happen, knocks, an imperfect area sensor.
+    const applied2: Array<{ zone: number; t_s: number; occupied: boolean }> = [];
+    const pendingChange = new Uint8Array(changes.length);
+    let nextChange = 0;
+    const knocks = world.knocks ?? [];
+    let knockActive = -1;
+    let nextKnock = 0;
+    const area = world.area_sensor;
+    const areaRng = area ? { left: new Rng((area.seed ^ 0x6c) >>> 0), right: new Rng((area.seed ^ 0x72) >>> 0) } : null;
+    const truthAt = (z: number, t: number): number => {
+      let occ = world.occupied[z]!;
+      for (const c of applied2) if (c.zone === z && c.t_s <= t) occ = c.occupied;
+      return occ ? ZONE_OCCUPIED : ZONE_FREE;
+    };
+    const collisionTimes: number[] = [];
     // Correction-band disturbance: Ornstein-Uhlenbeck per wrist, force x and y, its own seeded stream
     // (derived from the sensor's noise seed, so the white noise is the same with and without it).
     const dist = o.disturbance_n;
@@ -247,6 +297,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     const copyTrips = (a: Pick<ArmStep, 'watchdog'>): HoldReason[] => a.watchdog.trips.map((r, k) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s, first: a.watchdog.tripFirst(k) }));
 
     let step = 0;
+    cell.beamPose(beam);
     zoneFed.left = zoneFed.right = 0;
     for (; step < nSteps; step++) {
       cell.step1();
@@ -261,6 +312,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
         if (c && !inContact[z]) {
           if (t - lastContactEnd[z]! >= o.contact_debounce_s) {
             collisions++;
+            collisionTimes.push(t);
             perZone[z]!++;
             if (firstCollision === null) firstCollision = t;
           }
@@ -274,6 +326,33 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       }
 
       if (step % every === 0) {
+        if (changes.length && nextChange < changes.length) {
+          // A change to occupied waits until the object is clear of the zone (a part is not set down on the beam).
+          for (let c = nextChange; c < changes.length && changes[c]!.t_s <= t; c++) {
+            if (pendingChange[c]) continue;
+            const ch = changes[c]!;
+            const zc = zones[ch.zone]!;
+            if (ch.occupied && segmentHitsZone(beam[0]!, beam[1]! - nominal.object.length_m / 2 - 0.02, beam[1]! + nominal.object.length_m / 2 + 0.02, zc)) continue;
+            pendingChange[c] = 1;
+            truthState[ch.zone] = ch.occupied ? ZONE_OCCUPIED : ZONE_FREE;
+            cell.setObstacleActive(ch.zone, ch.occupied);
+            measures.zoneChanged(ch.zone, ch.occupied);
+            timing.zoneChanged(ch.zone, ch.occupied);
+            applied2.push({ zone: ch.zone, t_s: t, occupied: ch.occupied });
+          }
+          while (nextChange < changes.length && pendingChange[nextChange]) nextChange++;
+        }
+        if (knocks.length) {
+          if (knockActive >= 0 && t >= knocks[knockActive]!.t_s + knocks[knockActive]!.duration_s) {
+            cell.setBeamForce(0, 0, 0);
+            knockActive = -1;
+          }
+          if (knockActive < 0 && nextKnock < knocks.length && t >= knocks[nextKnock]!.t_s) {
+            const k = knocks[nextKnock]!;
+            cell.setBeamForce(k.force_n * k.direction[0], k.force_n * k.direction[1], k.force_n * k.direction[2]);
+            knockActive = nextKnock++;
+          }
+        }
         // Explicit baseline: send and deliver zone messages.
         if (applied.view === 'messages') {
           if (sampleIndex > 0 && sampleIndex % applied.messageEvery === 0) {
@@ -312,7 +391,16 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
             const view = fedView[s];
             for (let z = 0; z < nz; z++) {
               const inRange = Math.max(0, Math.abs(p[0]! - zones[z]!.center_m[0]) - half[z]!) <= o.zone_sensor_range_m;
-              ownView[s][z] = sees[s][z] && inRange ? truthState[z]! : ZONE_UNKNOWN;
+              if (!(sees[s][z] && inRange)) ownView[s][z] = ZONE_UNKNOWN;
+              else if (!areaRng) ownView[s][z] = truthState[z]!;
+              else {
+                let r = area!.latency_s > 0 ? truthAt(z, t - area!.latency_s) : truthState[z]!;
+                const u = areaRng[s].uniform();
+                if (r === ZONE_OCCUPIED && u < area!.miss_rate) r = ZONE_FREE;
+                else if (r === ZONE_FREE && u < area!.false_alarm_rate) r = ZONE_OCCUPIED;
+                ownView[s][z] = r;
+              }
+              if (sees[s][z]) timing.reading(s, z, ownView[s][z]!, t);
               if (applied.view === 'all') view[z] = truthState[z]!;
               else if (ownView[s][z] !== ZONE_UNKNOWN) view[z] = ownView[s][z]!;
               else if (applied.view === 'messages') view[z] = fromPartner[s][z]!;
@@ -367,6 +455,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
         cell.beamPose(beam);
         cell.beamVelocity(beamV);
         measures.sample(t, arms.left.out, arms.right.out, beam[0]!, beam[1]!);
+        timing.sample(t, arms.left.out.hiddenOccupied, arms.right.out.hiddenOccupied);
         if (rec && ch) record(rec, ch, t, arms, meas, truthW, fCell, pose, fedView, cmd, cell, beam, beamV, internal, mask);
         sampleIndex++;
         // Success, stall.
@@ -400,12 +489,26 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       occupiedRec[z.name] = world.occupied[k]!;
     });
     const m = measures.finish();
+    const bt = timing.finish();
+    const falseImpact = countFalseImpactHolds(holdEvents, knocks, collisionTimes);
+    const zoneSummaries: WorldZoneSummary[] = zones.map((z, k) => ({
+      name: z.name,
+      shape: z.shape,
+      kind: z.kind,
+      center_m: [z.center_m[0], z.center_m[1]],
+      size_m: z.shape === 'box' ? [z.size_m[0], z.size_m[1]] : null,
+      radius_m: z.shape === 'circle' ? z.radius_m : null,
+      observed_by: z.observed_by,
+      occupied: world.occupied[k]!,
+      changes: applied2.filter((c) => c.zone === k).map((c) => ({ t_s: c.t_s, occupied: c.occupied })),
+    }));
     const summary: EpisodeSummary = {
       seed: input.seed,
       strategy: strategyLabel(input.strategy),
       k: input.strategy.k,
       arm_model: o.arm_model,
-      world: { occupied: occupiedRec, start_m: [world.start_m[0], world.start_m[1]], goal_m: [world.goal_m[0], world.goal_m[1]] },
+      world: { occupied: occupiedRec, start_m: [world.start_m[0], world.start_m[1]], goal_m: [world.goal_m[0], world.goal_m[1]], zones: zoneSummaries, knocks: knocks.map((k) => ({ ...k, direction: [k.direction[0], k.direction[1], k.direction[2]] })) },
+      family: input.family ? { name: input.family.name, redraws: input.family.redraws } : null,
       success: endReason === 'success',
       end_reason: endReason,
       duration_s: lastT,
@@ -414,17 +517,17 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       final_distance_m: Math.hypot(beam[0]! - gx, beam[1]! - gy),
       collisions: { count: collisions, first_s: firstCollision, per_zone: perZoneRec, contact_s: contactSteps * dt },
       internal_force: { peak_n: peakInternal, mean_abs_n: nInternal > 0 ? sumInternal / nInternal : 0 },
-      holds: { count: holdEvents.length, reasons, events: holdEvents },
+      holds: { count: holdEvents.length, reasons, events: holdEvents, false_impact: falseImpact },
       role_switches: { left: arms.left.roles.switches, right: arms.right.roles.switches },
       tared_at_s: { left: taredAt.left, right: taredAt.right },
       samples: sampleIndex,
-      belief: { calibration: m.calibration },
+      belief: { calibration: m.calibration, ...beliefTimingSummary([bt]) },
       commitments: m.commitments,
       same_role: m.same_role,
       partner_hold: m.partner_hold,
       disturbance_n: dist,
     };
-    return { summary, configs: cfg, record: rec ? rec.finish(rate, messages) : null, world, xml: cell.xml, measures: m };
+    return { summary, configs: cfg, record: rec ? rec.finish(rate, messages) : null, world, xml: cell.xml, measures: m, beliefTiming: bt };
   } finally {
     cell.dispose();
   }

@@ -182,6 +182,17 @@ export class EpisodeMeasures {
   ) {
     const t = (a: ArmStep) => Uint8Array.from(a.task.hidden, (z) => (occupied[z] ? 1 : 0));
     this.truth = { left: t(left), right: t(right) };
+    this.hidden = { left: left.task.hidden, right: right.task.hidden };
+  }
+
+  private readonly hidden: { left: Int32Array; right: Int32Array };
+
+  /** Scenario families: zone `zone` (task order) changed state; later belief pairs score against the new truth. */
+  zoneChanged(zone: number, occupied: boolean): void {
+    for (const s of ['left', 'right'] as const) {
+      const b = this.hidden[s].indexOf(zone);
+      if (b >= 0) this.truth[s][b] = occupied ? 1 : 0;
+    }
   }
 
   /** Call with each arm's measured wrench before its step: writes the injected NaN sample. */

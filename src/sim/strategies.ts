@@ -8,7 +8,8 @@
  *   alternating  roles.scheduler alternating with period k * dt; phases 0 (left) and 1 (right).
  *   fixed        left a fixed speaker, right a fixed listener.
  *   independent  both fixed speakers with legibility_gain 0: each acts on its own view only.
- *   adaptive     roles.scheduler adaptive (clock slots shared out by each arm's count of private zones).
+ *   adaptive     roles.scheduler adaptive (clock slots shared out by each arm's count of private zones);
+ *                adaptive:k sets the slot to k samples (default: roles.period_s).
  *
  * Everything but `centralized` and `explicit` feeds each arm only its own area sensor.
  */
@@ -31,6 +32,9 @@ export interface StrategySpec {
   /** Period in wrench samples (alternating: role slot; explicit: message period); null otherwise. */
   readonly k: number | null;
 }
+
+/** Strategies that may take a period but need none (adaptive: the slot length, default roles.period_s). */
+export const OPTIONAL_PERIOD: ReadonlySet<StrategyName> = new Set(['adaptive']);
 
 /** How the sim builds each arm's zone view. */
 export type ZoneViewMode = 'own' | 'all' | 'messages';
@@ -89,8 +93,8 @@ export function applyStrategy(spec: StrategySpec, left: ArmConfig, right: ArmCon
     case 'adaptive':
       return {
         spec,
-        left: withRoles(left, { scheduler: 'adaptive', phase: 0 }),
-        right: withRoles(right, { scheduler: 'adaptive', phase: 1 }),
+        left: withRoles(left, { scheduler: 'adaptive', phase: 0, ...(spec.k !== null ? { period_s: spec.k / rate } : {}) }),
+        right: withRoles(right, { scheduler: 'adaptive', phase: 1, ...(spec.k !== null ? { period_s: spec.k / rate } : {}) }),
         view: 'own',
         messageEvery: 0,
       };
@@ -108,7 +112,12 @@ export function parseStrategy(raw: string, option = '--strategy', defaultK = DEF
   }
   const n = name as StrategyName;
   if (!PERIODIC.has(n)) {
-    if (kRaw !== undefined) throw new InputError({ code: 'cli.period_not_allowed', message: `strategy '${n}' takes no period, got '${raw}'`, where: { option }, hint: 'only alternating and explicit take :k' });
+    if (OPTIONAL_PERIOD.has(n) && kRaw !== undefined) {
+      const k = Number(kRaw);
+      if (!Number.isInteger(k) || k < 1 || k > MAX_PERIOD_STEPS) throw new InputError({ code: 'cli.bad_period', message: `the period of '${raw}' must be a whole number of steps`, where: { option }, hint: `from 1 to ${MAX_PERIOD_STEPS}` });
+      return { name: n, k };
+    }
+    if (kRaw !== undefined) throw new InputError({ code: 'cli.period_not_allowed', message: `strategy '${n}' takes no period, got '${raw}'`, where: { option }, hint: 'only alternating, explicit and adaptive take :k' });
     return { name: n, k: null };
   }
   const k = kRaw === undefined ? defaultK : Number(kRaw);

@@ -11,7 +11,7 @@ if (port) {
     const j = m.job;
     try {
       const r = runJob(mj, init, j);
-      port.postMessage({ type: 'result', id: j.id, outcome: outcomeOf(j.world, j.seed, r.summary, r.measures) });
+      port.postMessage({ type: 'result', id: j.id, outcome: outcomeOf(j.world, j.seed, r.summary, r.measures, r.beliefTiming) });
     } catch (err) {
       port.postMessage({ type: 'error', id: j.id, message: (err as Error).stack ?? String(err) });
     }

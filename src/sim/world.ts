@@ -21,6 +21,33 @@ export interface SensorDraw {
   readonly noiseSeed: number;
 }
 
+/** A zone that changes state during the transfer (a part set down on a tray, a post removed). */
+export interface ZoneChange {
+  /** Zone index (task order). */
+  readonly zone: number;
+  readonly t_s: number;
+  /** The state from then on. */
+  readonly occupied: boolean;
+}
+
+/** A knock on the object: a force at its centre for `duration_s` from `t_s` (ground truth for the impact detector). */
+export interface Knock {
+  readonly t_s: number;
+  readonly duration_s: number;
+  readonly force_n: number;
+  /** Unit vector, cell frame. */
+  readonly direction: readonly [number, number, number];
+}
+
+/** Each arm's area sensor in this world: per reading, a miss (occupied read free) or a false alarm, and a latency. */
+export interface AreaSensorDraw {
+  readonly miss_rate: number;
+  readonly false_alarm_rate: number;
+  readonly latency_s: number;
+  /** Seed of the readings' error stream. */
+  readonly seed: number;
+}
+
 export interface World {
   readonly seed: number;
   /** Per zone, in task order (sorted by name): an obstacle stands there. */
@@ -29,6 +56,24 @@ export interface World {
   readonly start_m: readonly [number, number];
   readonly goal_m: readonly [number, number];
   readonly sensors: { readonly left: SensorDraw; readonly right: SensorDraw };
+  /** Scenario families: occupancy changes during the transfer, sorted by time (absent: none). */
+  readonly changes?: readonly ZoneChange[];
+  /** Scenario families: knocks on the object, sorted by time (absent: none). */
+  readonly knocks?: readonly Knock[];
+  /** Scenario families: an imperfect area sensor (absent: every reading true, no latency). */
+  readonly area_sensor?: AreaSensorDraw;
+}
+
+/** Whether a world has anything that changes during the episode (families only). */
+export function isDynamicWorld(w: World): boolean {
+  return (w.changes?.length ?? 0) > 0 || (w.knocks?.length ?? 0) > 0 || w.area_sensor !== undefined;
+}
+
+/** The zone's true state at time t (s): its initial state, then its changes up to t. */
+export function occupiedAt(w: World, zone: number, t: number): boolean {
+  let occ = w.occupied[zone]!;
+  for (const c of w.changes ?? []) if (c.zone === zone && c.t_s <= t) occ = c.occupied;
+  return occ;
 }
 
 /** Draw a world. The draw order is fixed, so a seed names a world on every machine. */
