@@ -28,7 +28,7 @@ export function simulateSummaryJson(s: EpisodeSummary, replaySummary: Record<str
     duration_s: r4(s.duration_s),
     internal_force: { peak_n: r4(inf.peak_n), mean_abs_n: r4(inf.mean_abs_n), source: TRUE_SOURCE, sign: INTERNAL_FORCE_SIGN },
     ...(estimated ? { internal_force_estimated: { ...estimated, source: ESTIMATED_SOURCE } } : {}),
-    holds: holdTotals(holds),
+    holds: { ...holdTotals(holds), false_impact: s.holds.false_impact },
     ...(replaySummary ? { arms: replaySummary['arms'] } : {}),
     ...(replayMatches === null ? {} : { bag_replay_matches_closed_loop: replayMatches }),
   };
