@@ -12,9 +12,12 @@
  * - test/review/yaml-100k-keys.test.ts (a 100 000-key file, about 10 s): it reaches nearly every
  *   line of the parameter loader, so it would run for each of the loader's mutants.
  *
- * `MUTATE_TESTS` (comma-separated globs) narrows the suite for a focused run, e.g. the
- * parameter schema, whose table is built when the module loads (every mutant there is static
- * and reruns every test file that imports it): see DEVELOPERS.md, "Mutation testing".
+ * `MUTATE_SUITE` picks the test files that cover one part, for a focused run (`npm run mutate --
+ * --mutate <files>` with `MUTATE_SUITE=<name>`; see DEVELOPERS.md, "Mutation testing"). A
+ * focused run is much faster because a static mutant (one reached while a module or a test file
+ * loads, outside any test: tables, constants, top-level set-up) reruns every test file of the
+ * suite; its score is a lower bound of the full suite's. `MUTATE_TESTS` (comma-separated
+ * globs) gives the files directly.
  */
 import { defineConfig } from 'vitest/config';
 
@@ -30,7 +33,24 @@ const CLI_TESTS = [
   'test/review/stdout-write-errors.test.ts',
 ];
 
-const narrowed = process.env.MUTATE_TESTS?.split(',').map((s) => s.trim()).filter((s) => s !== '');
+/** The tests that exercise each part directly (unit, hardening and review tests of it). */
+const SUITES: Record<string, string[]> = {
+  watchdog: [
+    'test/core/watchdog.test.ts',
+    'test/core/partner-stop.test.ts',
+    'test/hardening/watchdog-*.test.ts',
+    'test/review/{trip-record,watchdog-time,nan-time-spurious-trip,input-times,quaternion,joint-speed-unavailable,zone-view-input,wrench-gap,pre-tare-gravity,hold-link-deadlock,held-arm-stops-partner,tare-hides-load}.test.ts',
+  ],
+  filter: ['test/core/filter/*.test.ts', 'test/hardening/impact-*.test.ts', 'test/review/{tare-hides-load,startup-tare-hides-squeeze,tare-pending-through-motion,pre-tare-gravity,belief-overconfident}.test.ts'],
+  belief: ['test/core/belief*.test.ts', 'test/hardening/belief-forgetting.test.ts'],
+  expect: ['test/replay/expect*.test.ts', 'test/hardening/expect-kinds.test.ts', 'test/review/expect-aliases.test.ts'],
+  params: ['test/params/*.test.ts', 'test/hardening/param-ceilings.test.ts', 'test/review/params-*.test.ts'],
+  core: ['test/core/{roles,task-model}.test.ts', 'test/review/{legibility-mean,params-cross-arm,adaptive-common-knowledge}.test.ts'],
+};
+
+const suite = process.env.MUTATE_SUITE;
+if (suite !== undefined && suite !== '' && !(suite in SUITES)) throw new Error(`MUTATE_SUITE=${suite}: not a suite; suites: ${Object.keys(SUITES).join(', ')}`);
+const narrowed = suite ? SUITES[suite] : process.env.MUTATE_TESTS?.split(',').map((s) => s.trim()).filter((s) => s !== '');
 
 export default defineConfig({
   test: {
