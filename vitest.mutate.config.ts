@@ -35,15 +35,21 @@ const CLI_TESTS = [
 
 /** The tests that exercise each part directly (unit, hardening and review tests of it). */
 const SUITES: Record<string, string[]> = {
-  watchdog: [
-    'test/core/watchdog.test.ts',
+  // Unit tests of the watchdog and the partner-stop detector (no arm step: quick to load).
+  watchdog: ['test/core/watchdog*.test.ts', 'test/core/partner-stop.test.ts', 'test/hardening/watchdog-*.test.ts', 'test/review/trip-record.test.ts'],
+  // The same plus the review tests that reach the watchdog through the arm step (slow: each mutant reloads them).
+  'watchdog-wide': [
+    'test/core/watchdog*.test.ts',
     'test/core/partner-stop.test.ts',
     'test/hardening/watchdog-*.test.ts',
     'test/review/{trip-record,watchdog-time,nan-time-spurious-trip,input-times,quaternion,joint-speed-unavailable,zone-view-input,wrench-gap,pre-tare-gravity,hold-link-deadlock,held-arm-stops-partner,tare-hides-load}.test.ts',
   ],
+  impact: ['test/core/filter/wrench-filter.test.ts', 'test/hardening/impact-*.test.ts'],
   filter: ['test/core/filter/*.test.ts', 'test/hardening/impact-*.test.ts', 'test/review/{tare-hides-load,startup-tare-hides-squeeze,tare-pending-through-motion,pre-tare-gravity,belief-overconfident}.test.ts'],
   belief: ['test/core/belief*.test.ts', 'test/hardening/belief-forgetting.test.ts'],
   expect: ['test/replay/expect*.test.ts', 'test/hardening/expect-kinds.test.ts', 'test/review/expect-aliases.test.ts'],
+  // The table is built when the module loads: every mutant there is static and reruns the suite.
+  schema: ['test/params/schema-table.test.ts'],
   params: ['test/params/*.test.ts', 'test/hardening/param-ceilings.test.ts', 'test/review/params-*.test.ts'],
   core: ['test/core/{roles,task-model}.test.ts', 'test/review/{legibility-mean,params-cross-arm,adaptive-common-knowledge}.test.ts'],
 };
@@ -57,5 +63,8 @@ export default defineConfig({
     include: narrowed !== undefined && narrowed.length > 0 ? narrowed : ALL,
     exclude: ['node_modules/**', 'test/core/arm-step.test.ts', 'test/review/yaml-100k-keys.test.ts', ...CLI_TESTS],
     testTimeout: 60_000,
+    // MUTATE_NO_ISOLATE=1: one module cache for all test files (about twice as fast). Only with
+    // --ignoreStatic: a static mutant needs the modules loaded afresh, which isolation gives.
+    ...(process.env.MUTATE_NO_ISOLATE === '1' ? { isolate: false } : {}),
   },
 });

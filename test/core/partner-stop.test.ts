@@ -163,7 +163,7 @@ describe('property: ρ and the verdict follow the formula over the last n window
 describe('snapshot and restore', () => {
   it('a restored detector continues bit-identically, across the ring wrap', () => {
     const a = make({ window_s: 0.03 }, 7);
-    const seq = [[-1, 0.2, 0.3, 0.1], [-2, 0.1, 0.35, 0], [0.5, -0.3, 0.2, 0.2], [-1.4, 0, 0.3, 0], [-2.1, 0.6, 0.3, -0.1]] as const;
+    const seq: [number, number, number, number][] = [[-1, 0.2, 0.3, 0.1], [-2, 0.1, 0.35, 0], [0.5, -0.3, 0.2, 0.2], [-1.4, 0, 0.3, 0], [-2.1, 0.6, 0.3, -0.1]];
     for (const s of seq.slice(0, 4)) a.update(...s);
     const snap = a.snapshot();
     expect(snap.length).toBe(7 + 3 * 3);

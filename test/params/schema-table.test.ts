@@ -81,8 +81,12 @@ describe('the parameter table', () => {
         }
       }
       if (s.type === 'double' || s.type === 'integer' || s.type === 'double_array') expect(s.min!, s.key).toBeLessThan(s.max!);
-      // Only the rows with a ceiling carry the field.
+      // Only the rows with a ceiling carry the field; a ceiling lies inside the range it cuts.
       if (s.ceiling === undefined) expect('ceiling' in s, s.key).toBe(false);
+      else {
+        expect(s.ceiling, s.key).toBeGreaterThan(s.min!);
+        expect(s.ceiling, s.key).toBeLessThanOrEqual(s.max!);
+      }
       if (s.type === 'string' && s.choices) {
         expect(s.choices.length, s.key).toBeGreaterThanOrEqual(2);
         expect(new Set(s.choices).size, s.key).toBe(s.choices.length);
@@ -112,6 +116,13 @@ describe('the parameter table', () => {
       'ros.qos.status.reliability': ['reliable', ['reliable', 'best_effort']],
       'ros.qos.wrenches.reliability': ['reliable', ['reliable', 'best_effort']],
     });
+  });
+
+  it('has ceilings (each value pinned with its source in test/hardening/param-ceilings.test.ts), the force ceiling at 500 N', () => {
+    const ceilings = SCHEMA.filter((s) => s.ceiling !== undefined);
+    expect(ceilings.length).toBeGreaterThanOrEqual(20);
+    expect(SPEC_BY_KEY.get('watchdog.force_limit_n')!.ceiling).toBe(500);
+    expect(ceilings.every((s) => s.type === 'double')).toBe(true);
   });
 
   it('gives the two arms their own defaults where they must differ', () => {
