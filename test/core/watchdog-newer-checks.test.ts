@@ -234,3 +234,89 @@ describe('the bias-change reference of the force and torque checks', () => {
     })).toBe(false);
   });
 });
+
+describe('every axis counts (force axes 0–2, torque axes 3–5)', () => {
+  it.each([0, 1, 2])('force axis %i: the bias change, the bias and the correction add to that axis', (k) => {
+    const a = setup();
+    a.sample(1, (x) => {
+      x.tared = false;
+      x.compensated[k] = 100;
+      x.biasChange[k] = 51;
+    });
+    expect(a.trips().map((r) => r.check)).toEqual(['force_raw']);
+    const b = setup();
+    b.sample(1, (x) => {
+      x.compensated[k] = 100;
+      x.bias[k] = 91;
+    });
+    expect(b.trips().map((r) => r.check)).toEqual(['force_untared']);
+    const c = setup();
+    c.sample(1, (x) => {
+      x.correction[k] = 30;
+      x.biasChange[k] = 31;
+    });
+    expect(c.trips().map((r) => r.check)).toEqual(['force_correction']);
+  });
+
+  it.each([3, 4, 5])('torque axis %i: the bias change, the bias and the correction add to that axis', (k) => {
+    const a = setup();
+    a.sample(1, (x) => {
+      x.tared = false;
+      x.compensated[k] = 10;
+      x.biasChange[k] = 15.5;
+    });
+    expect(a.trips().map((r) => r.check)).toEqual(['torque_raw']);
+    const b = setup();
+    b.sample(1, (x) => {
+      x.compensated[k] = 10;
+      x.bias[k] = 25.5;
+    });
+    expect(b.trips().map((r) => r.check)).toEqual(['torque_untared']);
+    const c = setup();
+    c.sample(1, (x) => {
+      x.correction[k] = 7;
+      x.biasChange[k] = 8.5;
+    });
+    expect(c.trips().map((r) => r.check)).toEqual(['torque_correction']);
+  });
+});
+
+describe('inputs that go missing or bad', () => {
+  it('an arrival time lost after the input was seen (NaN again) is stale at once, with an infinite age', () => {
+    const a = setup();
+    a.sample(1);
+    a.sample(1.001, (x) => (x.lastSeen[INPUT.joint_states] = Number.NaN));
+    expect(a.trips()).toEqual([{ check: 'stale_input', input: 'joint_states', value: Number.POSITIVE_INFINITY, limit: a.p.stale_after_s.joint_states, t_s: 1.001 }]);
+  });
+
+  it('a zone view with a non-finite time trips non_finite for zone_view', () => {
+    const a = setup();
+    expect(a.sample(1, (x) => (x.zoneFinite = false))).toBe(true);
+    expect(a.trips()).toEqual([{ check: 'non_finite', input: 'zone_view', value: Number.NaN, limit: 0, t_s: 1 }]);
+  });
+
+  it('a non-finite wrench trips non_finite only: the force and impact checks skip that sample', () => {
+    const a = setup();
+    a.sample(1, (x) => {
+      x.compensated[0] = Number.NaN;
+      x.impactFlag = true;
+      x.impactScore = 5;
+    });
+    expect(a.trips().map((r) => [r.check, r.input])).toEqual([['non_finite', 'wrench']]);
+  });
+
+  it('an arrival exactly future_tolerance_s ahead passes (binary-exact: 0.05 − 0)', () => {
+    const a = setup();
+    expect(a.sample(0, (x) => (x.lastSeen[INPUT.wrench] = 0.05))).toBe(false);
+  });
+
+  it('tick: inputs gone quiet trip stale_input between samples; a tick at the last sample time changes nothing', () => {
+    const a = setup();
+    a.sample(1);
+    const seen = new Float64Array(INPUTS.length).fill(1);
+    const req = new Uint8Array(INPUTS.length).fill(1);
+    expect(a.wd.tick(1, seen, req)).toBe(false);
+    expect(a.wd.tick(1 + a.p.stale_after_s.wrench * 2, seen, req)).toBe(true);
+    expect(a.trips()[0]).toMatchObject({ check: 'stale_input', input: 'wrench' });
+  });
+});
