@@ -139,6 +139,27 @@ describe('Belief marginals', () => {
   });
 });
 
+describe('Belief marginals of fewer bits, or of a count that is no power of two', () => {
+  it('8 hypotheses, 2 bits asked: the low bits only, out[2] untouched', () => {
+    const b = new Belief(8);
+    b.setPrior([1, 2, 3, 4, 5, 6, 7, 8]);
+    const out = new Float64Array(3).fill(7);
+    b.marginals(2, out);
+    expect(out[0]).toBeCloseTo((2 + 4 + 6 + 8) / 36, 15);
+    expect(out[1]).toBeCloseTo((3 + 4 + 7 + 8) / 36, 15);
+    expect(out[2]).toBe(7);
+  });
+
+  it('3 hypotheses, 2 bits: bit 0 is set in 1 and 3 only (there is no 3)', () => {
+    const b = new Belief(3);
+    b.setPrior([0.5, 0.25, 0.25]);
+    const out = new Float64Array(2);
+    b.marginals(2, out);
+    expect(out[0]).toBeCloseTo(0.25, 15);
+    expect(out[1]).toBeCloseTo(0.25, 15);
+  });
+});
+
 describe('Belief snapshot and restore', () => {
   it('restore gives back every field, and the next update is bit-identical', () => {
     const a = new Belief(8);
