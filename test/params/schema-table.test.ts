@@ -39,6 +39,11 @@ describe('the parameter table', () => {
     expect(new Set(keys).size).toBe(keys.length);
     for (const k of keys) expect(k, k).toMatch(/^([a-z][a-z0-9_]*|\*)(\.([a-z][a-z0-9_]*|\*))*$/);
     expect(SPEC_BY_KEY.size).toBe(SCHEMA.length);
+    // ROS 2 parameter types (rcl_interfaces/ParameterType names, src/params/spec.ts).
+    for (const s of SCHEMA) expect(['double', 'integer', 'bool', 'string', 'double_array', 'string_array'], s.key).toContain(s.type);
+    expect(SPEC_BY_KEY.get('wrench_filter.order')!.type).toBe('integer');
+    expect(SPEC_BY_KEY.get('task.start_m')!.type).toBe('double_array');
+    expect(SPEC_BY_KEY.get('ros.frames.sensor')!.type).toBe('string');
   });
 
   it('gives every number its SI unit, the one its name ends in; switches and choices have none', () => {
@@ -139,6 +144,7 @@ describe('the parameter table', () => {
     expect(specFor('task.zones.clamp_post.radius_m')?.key).toBe('task.zones.*.radius_m');
     expect(specFor('task.zones.shape')).toBeUndefined();
     expect(specFor('task.zones.a.b.shape')).toBeUndefined();
+    expect(specFor('task.zones.a.shape.extra')).toBeUndefined();
     expect(specFor('task.zonez.a.shape')).toBeUndefined();
     expect(specFor('watchdog.force_limit')).toBeUndefined();
     expect(specFor('')).toBeUndefined();
