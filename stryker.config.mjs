@@ -7,10 +7,12 @@ export default {
   testRunner: 'vitest',
   plugins: ['@stryker-mutator/vitest-runner'],
   // Only the fast in-process suites (core, params, review, hardening, expectations).
-  vitest: { configFile: 'vitest.mutate.config.ts' },
+  // `related`: a run for some files loads only the test files that import them.
+  vitest: { configFile: 'vitest.mutate.config.ts', related: true },
   mutate: ['src/core/**/*.ts', 'src/params/**/*.ts', 'src/replay/expect.ts'],
   coverageAnalysis: 'perTest',
-  concurrency: 2,
+  // The development machine is shared: one test process. Raise it on a machine of your own.
+  concurrency: 1,
   // A mutant that loops for ever times out (counted as detected); keep the wait short.
   timeoutMS: 5_000,
   reporters: ['clear-text', 'progress', 'html', 'json'],
