@@ -8,7 +8,8 @@ import { register as compare } from './compare.js';
 import { register as node } from './node.js';
 import { register as replay } from './replay.js';
 import { register as simulate } from './simulate.js';
+import { register as sweep } from './sweep.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node, sweep];
