@@ -5,6 +5,7 @@ import { register as bag } from './bag.js';
 import { register as checkConfig } from './check-config.js';
 import { register as classify } from './classify.js';
 import { register as compare } from './compare.js';
+import { register as merge } from './merge.js';
 import { register as node } from './node.js';
 import { register as replay } from './replay.js';
 import { register as simulate } from './simulate.js';
@@ -12,4 +13,4 @@ import { register as sweep } from './sweep.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node, sweep];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node, sweep, merge];

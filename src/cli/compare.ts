@@ -4,6 +4,7 @@ import cliProgress from 'cli-progress';
 import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
 import { parseStrategyList } from '../sim/strategies.js';
+import { compareShardCommand } from '../sweep/compare-shard-cli.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions } from './simulate.js';
 
@@ -75,7 +76,10 @@ export function register(program: Command): void {
     .option('--disturbance-n <N>', 'correction-band force disturbance on each wrist sensor: stationary std, N (Ornstein-Uhlenbeck, 0.2 s), after the start-up tare', '0')
     .option('--inject-hold <arm:t>', 'one NaN wrench sample on that arm at that time in every run, s (e.g. left:3.0); also turns off the hold timeout')
     .option('--json', 'print the result as JSON (no progress bar)')
-    .action(async (opts: { worlds: string; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean }) =>
+    .option('--shard <i/n>', 'run worlds slice i of n (i from 0, or auto/n) into --out; join the shards with antiphon merge')
+    .option('--out <dir>', 'with --shard: the shard\'s output folder (compare-shard.json)')
+    .option('--overwrite', 'with --shard: replace an output folder antiphon wrote before')
+    .action(async (opts: { worlds: string; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean; shard?: string; out?: string; overwrite?: boolean }) =>
       runCommand(!!opts.json, async () => {
         const worlds = integerOption('--worlds', opts.worlds, 1, 1_000_000)!;
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
@@ -88,6 +92,7 @@ export function register(program: Command): void {
         const cell = loadCell(opts.params);
         const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options: { arm_model: armModel, ...measureOptions(disturbance, inject) }, ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
+        if (opts.shard !== undefined || opts.out !== undefined) return compareShardCommand(input, opts);
         const showBar = !opts.json && process.stderr.isTTY === true;
         const bar = showBar ? new cliProgress.SingleBar({ stream: process.stderr, hideCursor: true }, cliProgress.Presets.shades_classic) : null;
         bar?.start(worlds * strategies.length, 0);
