@@ -1,6 +1,7 @@
 /** The list of subcommands. Add a command: write src/cli/<name>.ts exporting `register`, list it here. */
 import type { Command } from 'commander';
 import { register as analyze } from './analyze.js';
+import { register as calibrate } from './calibrate.js';
 import { register as bag } from './bag.js';
 import { register as checkConfig } from './check-config.js';
 import { register as classify } from './classify.js';
@@ -13,4 +14,4 @@ import { register as sweep } from './sweep.js';
 
 export type Register = (program: Command) => void;
 
-export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node, sweep, merge];
+export const COMMANDS: Register[] = [checkConfig, classify, analyze, bag, replay, simulate, compare, node, sweep, merge, calibrate];
