@@ -33,6 +33,7 @@ await optional('replay', './replay.js', 'benchReplay');
 await optional('sim', './sim.js', 'benchSim');
 await optional('issue8', './issue8-measure.js', 'benchIssue8');
 await optional('adapter', './adapter.js', 'benchAdapter');
+await optional('sweep', './sweep.js', 'benchSweep');
 
 const wanted = process.argv.slice(2);
 for (const name of wanted.length ? wanted : Object.keys(BENCHES)) {
