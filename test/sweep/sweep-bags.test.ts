@@ -151,11 +151,15 @@ describe('sweep over bags with knocks at known times', () => {
       const rec = await replayPath(path, { arms: ['left', 'right'], configs: { left: cell.left.config, right: cell.right.config } });
       const d = await decodeBag(path, cell.left.config.task.zones.map((z) => z.name));
       const c = evaluateBag(d, cell.left.config, cell.right.config, [], 0.3);
-      const firstOf = (kind: string) => rec.arms.map((a) => a.events.find((e) => e.kind === kind)?.t_s).filter((t) => t !== undefined).sort();
-      expect(c.impacts_flagged).toBeGreaterThanOrEqual(1);
-      // Without labels every hold is false; the first holds happen where replay has them.
-      expect(c.false_holds).toBeGreaterThanOrEqual(firstOf('hold').length);
-      expect(firstOf('impact_start').length).toBe(1);
+      // Replay never resets a hold, so its first hold and first impact per arm are the ones to compare.
+      for (const a of rec.arms) {
+        const mine = c.events!.find((e) => e.arm === a.arm)!;
+        const hold = a.events.find((e) => e.kind === 'hold')?.t_s;
+        const impact = a.events.find((e) => e.kind === 'impact_start')?.t_s;
+        expect(mine.holds[0]).toBe(hold);
+        expect(mine.impacts[0]).toBe(impact);
+      }
+      expect(c.events!.some((e) => e.impacts.length > 0)).toBe(true);
     }
     expect(existsSync(bags[0]!)).toBe(true);
   }, 120_000);
