@@ -1,6 +1,7 @@
 /** `antiphon compare`: every strategy on N randomized worlds; success rate with Wilson 95 % intervals. */
 import type { Command } from 'commander';
 import { progressBar } from './progress.js';
+import { InputError } from '../util/errors.js';
 import { loadCell } from '../params/config.js';
 import { runCompare, validateCompare, type CompareResult } from '../sim/compare.js';
 import { join } from 'node:path';
@@ -9,6 +10,7 @@ import { loadFamily, type Family } from '../sim/family.js';
 import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
 import { parseStrategyList } from '../sim/strategies.js';
 import { interruptExitCode, interrupted, interruptedFields, watchInterrupts } from '../util/interrupt.js';
+import { compareShardCommand } from '../sweep/compare-shard-cli.js';
 import { integerOption, numberOption, printJson, printText, runCommand } from './common.js';
 import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions, resolveParams } from './simulate.js';
 
@@ -106,7 +108,8 @@ export function register(program: Command): void {
     .option('--disturbance-n <N>', 'correction-band force disturbance on each wrist sensor: stationary std, N (Ornstein-Uhlenbeck, 0.2 s), after the start-up tare', '0')
     .option('--inject-hold <arm:t>', 'one NaN wrench sample on that arm at that time in every run, s (e.g. left:3.0); also turns off the hold timeout')
     .option('--json', 'print the result as JSON (no progress bar)')
-    .action(async (opts: { worlds: string; family?: string[]; out?: string; overwrite?: boolean; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean }) =>
+    .option('--shard <i/n>', 'run worlds slice i of n (i from 0, or auto/n) into --out (compare-shard.json); join the shards with antiphon merge')
+    .action(async (opts: { worlds: string; family?: string[]; out?: string; overwrite?: boolean; seed: string; jobs: string; strategies?: string; params?: string; duration?: string; armModel: string; disturbanceN: string; injectHold?: string; json?: boolean; shard?: string }) =>
       runCommand(!!opts.json, async () => {
         const worlds = integerOption('--worlds', opts.worlds, 1, 1_000_000)!;
         const seed = integerOption('--seed', opts.seed, 0, 4294967295)!;
@@ -122,6 +125,10 @@ export function register(program: Command): void {
         const families: (Family | undefined)[] = opts.family?.length ? opts.family.map((f) => loadFamily(f, cell.left.config, options)) : [undefined];
         const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options, ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
+        if (opts.shard !== undefined) {
+          if (opts.family?.length) throw new InputError({ code: 'cli.shard_family', message: '--shard does not take --family yet: a shard runs the worlds of the parameters file', where: { option: '--shard' }, hint: 'leave out --family, or run the family unsharded' });
+          return compareShardCommand(input, opts);
+        }
         const outInputs = [paramsPath, ...(opts.family ?? [])];
         if (opts.out !== undefined) checkOutputDir(opts.out, { overwrite: !!opts.overwrite, inputs: outInputs });
         const bar = progressBar('compare', !!opts.json);

@@ -140,7 +140,11 @@ export function buildArmConfig(file: ParamsFile | undefined, arm: ArmName): Load
 
 /** Load a parameters file (or none) and build both arms. */
 export function loadCell(path: string | undefined): { file: ParamsFile | undefined; left: LoadedArm; right: LoadedArm } {
-  const file = path === undefined ? undefined : loadParamsFile(path);
+  return cellFromFile(path === undefined ? undefined : loadParamsFile(path), path);
+}
+
+/** Build and cross-check both arms from a parsed parameters file (or none: defaults); `path` names it in problems. */
+export function cellFromFile(file: ParamsFile | undefined, path: string | undefined): { file: ParamsFile | undefined; left: LoadedArm; right: LoadedArm } {
   const problems: Problem[] = [];
   const build = (arm: ArmName): LoadedArm | undefined => {
     try {

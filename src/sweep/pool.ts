@@ -1,0 +1,90 @@
+/**
+ * The worker-thread pool of a sweep over bags. Each worker decodes every bag once at start and
+ * then runs the candidates it is fed, one at a time; results are stored by candidate index, so
+ * they are the same whatever the number of workers and the order they finish in.
+ */
+import { existsSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import { Worker } from 'node:worker_threads';
+import type { ArmConfig } from '../params/config.js';
+import type { CandidateMetrics } from './evaluate.js';
+import type { Label } from './labels.js';
+
+export interface BagWorkerInit {
+  readonly bags: readonly string[];
+  readonly zoneNames: readonly string[];
+  readonly labels: readonly (readonly Label[])[];
+  readonly tolerance_s: number;
+}
+
+export interface BagJob {
+  readonly id: number;
+  readonly left: ArmConfig;
+  readonly right: ArmConfig;
+}
+
+/** The built worker script (worker threads need JavaScript: `npm run build`). */
+export function sweepWorkerScript(): string {
+  const here = fileURLToPath(import.meta.url);
+  const c = here.endsWith('.ts') ? fileURLToPath(new URL('../../dist/src/sweep/worker.js', import.meta.url)) : fileURLToPath(new URL('./worker.js', import.meta.url));
+  if (!existsSync(c)) throw new Error(`the worker script ${c} is missing: build with 'npm run build'`);
+  return c;
+}
+
+type FromWorker = { type: 'ready' } | { type: 'result'; id: number; metrics: CandidateMetrics } | { type: 'error'; id: number; message: string };
+
+export interface PoolHandle {
+  readonly done: Promise<void>;
+  /** Stop feeding and terminate the workers; `done` resolves once they are gone. */
+  stop(): void;
+}
+
+export function startPool(n: number, init: BagWorkerInit, jobs: readonly BagJob[], onResult: (id: number, m: CandidateMetrics) => void): PoolHandle {
+  const workers: Worker[] = [];
+  let stopped = false;
+  let stopAll = (): void => {};
+  const done = new Promise<void>((resolve, reject) => {
+    let next = 0;
+    let finished = 0;
+    let failed = false;
+    stopAll = () => {
+      stopped = true;
+      void Promise.all(workers.map((w) => w.terminate())).then(() => resolve());
+    };
+    if (jobs.length === 0) {
+      resolve();
+      return;
+    }
+    const feed = (w: Worker) => {
+      if (!stopped && next < jobs.length) w.postMessage({ type: 'job', job: jobs[next++] });
+    };
+    const script = sweepWorkerScript();
+    for (let i = 0; i < Math.max(1, Math.min(n, jobs.length)); i++) {
+      const w = new Worker(script, { workerData: init });
+      workers.push(w);
+      w.on('message', (m: FromWorker) => {
+        if (failed || stopped) return;
+        if (m.type === 'ready') feed(w);
+        else if (m.type === 'result') {
+          onResult(m.id, m.metrics);
+          finished++;
+          if (finished === jobs.length) stopAll();
+          else feed(w);
+        } else {
+          failed = true;
+          stopped = true;
+          for (const x of workers) void x.terminate();
+          reject(new Error(`candidate ${m.id} failed in a worker: ${m.message}`));
+        }
+      });
+      w.on('error', (err) => {
+        if (failed || stopped) return;
+        failed = true;
+        stopped = true;
+        for (const x of workers) void x.terminate();
+        reject(err);
+      });
+    }
+  });
+  return { done, stop: () => stopAll() };
+}
