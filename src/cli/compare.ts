@@ -15,10 +15,10 @@ import { integerOption, numberOption, printJson, printText, runCommand } from '.
 import { armModelOption, calibrationText, commitmentText, injectHoldOption, measureOptions, resolveParams } from './simulate.js';
 
 export function compareTable(r: CompareResult): string {
-  const head = ['strategy', 'k', 'success', 'ci95', 'collisions', 'peak F_int N', 'mean F_int N', 'mean time s'];
+  const head = ['strategy', 'period s', 'success', 'ci95', 'collisions', 'peak F_int N', 'mean F_int N', 'mean time s'];
   const rows = r.strategies.map((s) => [
     s.name,
-    s.k === null ? '-' : String(s.k),
+    s.label.includes(':') ? s.label.slice(s.label.indexOf(':') + 1, -1) : '-',
     `${s.successes}/${s.runs} ${(100 * s.success_rate).toFixed(1)}%`,
     `[${(100 * s.ci95[0]).toFixed(1)}, ${(100 * s.ci95[1]).toFixed(1)}]%`,
     `${(100 * s.collision_rate).toFixed(1)}%`,
@@ -67,7 +67,9 @@ export function compareJson(r: CompareResult): Record<string, unknown> {
     arm_model: r.arm_model,
     strategies: r.strategies.map((s) => ({
       name: s.name,
-      k: s.k,
+      label: s.label,
+      /** The period in wrench samples (the label gives it in seconds). */
+      period_samples: s.k,
       success_rate: s.success_rate,
       ci95: s.ci95,
       collision_rate: s.collision_rate,
@@ -101,7 +103,7 @@ export function register(program: Command): void {
     .option('--overwrite', 'replace an existing output folder')
     .option('--seed <s>', 'seed of the batch (world i uses a seed derived from it)', '1')
     .option('--jobs <k>', 'worker threads', '1')
-    .option('--strategies <list>', 'comma-separated: centralized, explicit[:k], alternating[:k], fixed, independent, adaptive (alternating alone: k = 50, 200, 500, 1000)')
+    .option('--strategies <list>', 'comma-separated: centralized, explicit[:0.5s], alternating[:0.5s], fixed, independent, adaptive[:0.5s] (a period in seconds, or in wrench samples without the s; alternating alone: 0.05s, 0.2s, 0.5s, 1s)')
     .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--duration <s>', 'simulated time limit per episode, s (default task.time_limit_s)')
     .option('--arm-model <m>', 'tool_point or six_joint', 'tool_point')

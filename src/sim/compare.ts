@@ -303,7 +303,7 @@ export async function runCompare(input: CompareInput): Promise<CompareResult> {
   while (worldsDone < input.worlds && input.strategies.every((_, si) => results[si * input.worlds + worldsDone] !== undefined)) worldsDone++;
   const runs = (worldsDone === input.worlds ? results : input.strategies.flatMap((_, si) => results.slice(si * input.worlds, si * input.worlds + worldsDone))) as RunOutcome[];
   const per = input.strategies.map((_, si) => runs.slice(si * worldsDone, (si + 1) * worldsDone));
-  const rows = input.strategies.map((s, si) => aggregate(s, per[si]!, input.seed));
+  const rows = input.strategies.map((s, si) => aggregate(s, per[si]!, input.seed, input.left.wrench_filter.sample_rate_hz));
   const first = runs.slice(0, worldsDone);
   const family = input.family ? { name: input.family.spec.family, file: input.family.file, redraws: first.reduce((a, r) => a + r.redraws, 0), worlds_redrawn: first.filter((r) => r.redraws > 0).length } : null;
   return { worlds: input.worlds, worlds_done: worldsDone, seed: input.seed, arm_model: simOptions(options).arm_model, strategies: rows, runs, family, paired: pairedComparisons(rows.map((r) => r.label), per) };
@@ -352,7 +352,7 @@ export async function runJobs(init: WorkerInit, list: readonly CompareJob[], job
   return results as RunOutcome[];
 }
 
-export function aggregate(s: StrategySpec, runs: readonly RunOutcome[], seed = 1): StrategyRow {
+export function aggregate(s: StrategySpec, runs: readonly RunOutcome[], seed = 1, rateHz = 1000): StrategyRow {
   const n = runs.length;
   const successes = runs.filter((r) => r.success).length;
   const end: Record<string, number> = {};
@@ -360,7 +360,7 @@ export function aggregate(s: StrategySpec, runs: readonly RunOutcome[], seed = 1
   return {
     name: s.name,
     k: s.k,
-    label: strategyLabel(s),
+    label: strategyLabel(s, rateHz),
     runs: n,
     successes,
     success_rate: n ? successes / n : 0,

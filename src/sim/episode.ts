@@ -504,7 +504,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     }));
     const summary: EpisodeSummary = {
       seed: input.seed,
-      strategy: strategyLabel(input.strategy),
+      strategy: strategyLabel(input.strategy, input.left.wrench_filter.sample_rate_hz),
       k: input.strategy.k,
       arm_model: o.arm_model,
       world: { occupied: occupiedRec, start_m: [world.start_m[0], world.start_m[1]], goal_m: [world.goal_m[0], world.goal_m[1]], zones: zoneSummaries, knocks: knocks.map((k) => ({ ...k, direction: [k.direction[0], k.direction[1], k.direction[2]] })) },

@@ -48,8 +48,17 @@ export interface AppliedStrategy {
   readonly messageEvery: number;
 }
 
-export function strategyLabel(s: StrategySpec): string {
-  return s.k === null ? s.name : `${s.name}:${s.k}`;
+/** Seconds as a user writes them: 0.5, 0.05, 1 (no trailing zeros). */
+export function secondsText(v: number): string {
+  return String(Number(v.toPrecision(6)));
+}
+
+/**
+ * The strategy as users read and write it: the period in seconds (`alternating:0.5s`), at the
+ * wrench sample rate `rateHz` (every shipped cell: 1000 Hz).
+ */
+export function strategyLabel(s: StrategySpec, rateHz = 1000): string {
+  return s.k === null ? s.name : `${s.name}:${secondsText(s.k / rateHz)}s`;
 }
 
 function allShared(zones: readonly ZoneConfig[]): ZoneConfig[] {
@@ -105,24 +114,29 @@ export function applyStrategy(spec: StrategySpec, left: ArmConfig, right: ArmCon
  * Parse `name` or `name:k` (comma-separated lists go through `parseStrategyList`). Unknown
  * names and bad periods are refused with the option and the allowed values.
  */
-export function parseStrategy(raw: string, option = '--strategy', defaultK = DEFAULT_PERIOD_STEPS): StrategySpec {
+export function parseStrategy(raw: string, option = '--strategy', defaultK = DEFAULT_PERIOD_STEPS, rateHz = 1000): StrategySpec {
   const [name, kRaw, ...rest] = raw.trim().split(':');
   if (!(STRATEGY_NAMES as readonly string[]).includes(name ?? '') || rest.length > 0) {
-    throw new InputError({ code: 'cli.unknown_strategy', message: `unknown strategy '${raw}'`, where: { option }, hint: `one of ${STRATEGY_NAMES.join(', ')} (alternating and explicit take :k, a period in steps)` });
+    throw new InputError({ code: 'cli.unknown_strategy', message: `unknown strategy '${raw}'`, where: { option }, hint: `one of ${STRATEGY_NAMES.join(', ')} (${[...PERIODIC, ...OPTIONAL_PERIOD].join(', ')} take a period: name:0.5s in seconds, or name:500 in wrench samples)` });
   }
   const n = name as StrategyName;
-  if (!PERIODIC.has(n)) {
-    if (OPTIONAL_PERIOD.has(n) && kRaw !== undefined) {
-      const k = Number(kRaw);
-      if (!Number.isInteger(k) || k < 1 || k > MAX_PERIOD_STEPS) throw new InputError({ code: 'cli.bad_period', message: `the period of '${raw}' must be a whole number of steps`, where: { option }, hint: `from 1 to ${MAX_PERIOD_STEPS}` });
-      return { name: n, k };
-    }
-    if (kRaw !== undefined) throw new InputError({ code: 'cli.period_not_allowed', message: `strategy '${n}' takes no period, got '${raw}'`, where: { option }, hint: 'only alternating, explicit and adaptive take :k' });
+  if (!PERIODIC.has(n) && !(OPTIONAL_PERIOD.has(n) && kRaw !== undefined)) {
+    if (kRaw !== undefined) throw new InputError({ code: 'cli.period_not_allowed', message: `strategy '${n}' takes no period, got '${raw}'`, where: { option }, hint: `only ${[...PERIODIC, ...OPTIONAL_PERIOD].join(', ')} take a period` });
     return { name: n, k: null };
   }
-  const k = kRaw === undefined ? defaultK : Number(kRaw);
+  let k: number;
+  if (kRaw === undefined) k = defaultK;
+  else if (/s$/.test(kRaw.trim())) {
+    // Seconds, the unit users read everywhere: a whole number of wrench samples at rateHz.
+    const sec = Number(kRaw.trim().slice(0, -1));
+    const steps = sec * rateHz;
+    k = Math.round(steps);
+    if (!Number.isFinite(sec) || kRaw.trim().length < 2 || Math.abs(steps - k) > 1e-6 * Math.max(1, steps)) {
+      throw new InputError({ code: 'cli.bad_period', message: `the period of '${raw}' must be a whole number of wrench samples at ${rateHz} Hz`, where: { option }, hint: `seconds from ${secondsText(1 / rateHz)} to ${secondsText(MAX_PERIOD_STEPS / rateHz)}, e.g. ${n}:0.5s` });
+    }
+  } else k = Number(kRaw);
   if (!Number.isInteger(k) || k < 1 || k > MAX_PERIOD_STEPS) {
-    throw new InputError({ code: 'cli.bad_period', message: `the period of '${raw}' must be a whole number of steps`, where: { option }, hint: `from 1 to ${MAX_PERIOD_STEPS}` });
+    throw new InputError({ code: 'cli.bad_period', message: `the period of '${raw}' must be seconds (e.g. ${n}:0.5s) or a whole number of wrench samples`, where: { option }, hint: `from ${secondsText(1 / rateHz)} s to ${secondsText(MAX_PERIOD_STEPS / rateHz)} s (1 to ${MAX_PERIOD_STEPS} samples)` });
   }
   return { name: n, k };
 }

@@ -16,6 +16,6 @@ describe('adaptive with a period', () => {
     const b = applyStrategy({ name: 'adaptive', k: null }, cell.left.config, cell.right.config);
     expect(b.left.roles.period_s).toBe(cell.left.config.roles.period_s);
     expect(parseStrategyList('adaptive:200,adaptive').map((s) => s.k)).toEqual([200, null]);
-    expect(() => parseStrategy('adaptive:0')).toThrow(/whole number of steps/);
+    expect(() => parseStrategy('adaptive:0')).toThrow(/whole number of wrench samples/);
   });
 });

@@ -18,7 +18,7 @@ describe('compare', () => {
     const one = await runCompare({ ...input, jobs: 1 });
     const two = await runCompare({ ...input, jobs: 2 });
     expect(JSON.stringify(two)).toBe(JSON.stringify(one));
-    expect(one.strategies.map((s) => s.label)).toEqual(['alternating:200', 'independent']);
+    expect(one.strategies.map((s) => s.label)).toEqual(['alternating:0.2s', 'independent']);
     expect(one.strategies[0]!.runs).toBe(3);
   });
 });
@@ -42,7 +42,7 @@ describe.skipIf(!built)('CLI', () => {
     const j = JSON.parse(r.stdout) as { worlds: number; seed: number; strategies: Array<Record<string, unknown>> };
     expect(j.worlds).toBe(1);
     expect(j.seed).toBe(4);
-    for (const key of ['name', 'k', 'success_rate', 'ci95', 'collision_rate', 'mean_peak_internal_force_n', 'mean_time_s']) expect(j.strategies[0]).toHaveProperty(key);
+    for (const key of ['name', 'label', 'period_samples', 'success_rate', 'ci95', 'collision_rate', 'mean_peak_internal_force_n', 'mean_time_s']) expect(j.strategies[0]).toHaveProperty(key);
   });
 
   it('simulate writes bag/, summary.json and report.html (renamed into place) and prints the same summary', () => {
@@ -50,7 +50,7 @@ describe.skipIf(!built)('CLI', () => {
     const r = cli('simulate', '--seed', '2', '--strategy', 'alternating', '--period-steps', '200', '--duration', '1', '--params', 'config/demo_cell.yaml', '--out', dir, '--json');
     expect(r.status).toBe(0);
     const printed = JSON.parse(r.stdout) as { seed: number; strategy: string; files: string[] };
-    expect(printed.strategy).toBe('alternating:200');
+    expect(printed.strategy).toBe('alternating:0.2s');
     expect(readdirSync(dir).sort()).toEqual(['.antiphon-output', 'bag', 'report.html', 'summary.json']); // the marker: --overwrite replaces only folders antiphon wrote
     const written = JSON.parse(readFileSync(join(dir, 'summary.json'), 'utf8')) as Record<string, unknown>;
     const { files, ...summary } = printed;

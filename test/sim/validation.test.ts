@@ -36,7 +36,7 @@ describe('strategy names', () => {
   });
   it('refuses a period on a strategy without one, and periods out of range', () => {
     expect(problemsOf(() => parseStrategy('fixed:10')).problems[0]!.code).toBe('cli.period_not_allowed');
-    expect(problemsOf(() => parseStrategy('alternating:0')).problems[0]!.hint).toContain('from 1');
+    expect(problemsOf(() => parseStrategy('alternating:0')).problems[0]!.hint).toContain('1 to 600000 samples');
     expect(problemsOf(() => parseStrategy('alternating:2.5')).problems[0]!.code).toBe('cli.bad_period');
   });
   it('expands a bare alternating into the default periods', () => {
@@ -94,5 +94,18 @@ describe('task against the cell', () => {
   it('the demo cell passes', () => {
     expect(checkEpisodeSetup(left, o)).toEqual([]);
     expect(checkEpisodeSetup(right, o)).toEqual([]);
+  });
+});
+
+describe('strategy periods in seconds (one vocabulary with roles.period_s)', () => {
+  it('reads name:0.5s as seconds and name:500 as wrench samples, and labels both in seconds', async () => {
+    const { parseStrategy, strategyLabel } = await import('../../src/sim/strategies.js');
+    expect(parseStrategy('alternating:0.5s')).toEqual({ name: 'alternating', k: 500 });
+    expect(parseStrategy('alternating:500')).toEqual({ name: 'alternating', k: 500 });
+    expect(parseStrategy('explicit:0.05s')).toEqual({ name: 'explicit', k: 50 });
+    expect(strategyLabel({ name: 'alternating', k: 500 })).toBe('alternating:0.5s');
+    expect(strategyLabel({ name: 'alternating', k: 1000 }, 500)).toBe('alternating:2s');
+    expect(() => parseStrategy('alternating:0.0005s')).toThrow(/whole number of wrench samples at 1000 Hz/);
+    expect(() => parseStrategy('alternating:s')).toThrow(/whole number of wrench samples/);
   });
 });
