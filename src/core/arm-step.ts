@@ -15,6 +15,7 @@ import { TARE_REFUSAL_TEXT, TARE_REFUSED, TARE_REFUSED_MOVING, TARE_TAKEN, Wrenc
 import { Belief } from './belief.js';
 import { PartnerStopDetector } from './partner-stop.js';
 import { LISTENER, RoleScheduler, SPEAKER, type Role } from './roles.js';
+import { Policy } from './policy.js';
 import { SubsetTable, TaskModel } from './task-model.js';
 import { INPUT, INPUTS, Watchdog, type InputName, type WatchdogInputs, type WatchdogSnapshot } from './watchdog.js';
 
@@ -113,6 +114,8 @@ export class ArmStep {
   readonly watchdog: Watchdog;
   readonly roles: RoleScheduler;
   readonly belief: Belief;
+  /** The policy stage (speaker, listener, legibility): src/core/policy.ts. */
+  readonly policy: Policy;
   /**
    * Replica of the partner's belief about this arm's own zones, reproduced from this arm's
    * own speaking actions (what the partner's listener update would conclude from them).
@@ -178,7 +181,8 @@ export class ArmStep {
 
   // Scratch, preallocated.
   private readonly loglik: Float64Array;
-  private readonly v2 = new Float64Array(2);
+  /** The policy's scratch velocity (what legible / legMean write). */
+  private readonly v2: Float64Array;
   private readonly f3 = new Float64Array(3);
   private readonly obj = new Float64Array(2);
   private readonly rawFinite = new Float64Array(6);
@@ -195,6 +199,8 @@ export class ArmStep {
     this.watchdog = new Watchdog(config.watchdog, config.wrench_filter.tare);
     this.roles = new RoleScheduler(config.roles, config.arm, this.task);
     this.hypotheses = 1 << this.task.hidden.length;
+    this.policy = new Policy(this.task, config.policy);
+    this.v2 = this.policy.v;
     this.belief = new Belief(this.hypotheses);
     this.replica = new Belief(1 << this.task.own.length);
     this.loglik = new Float64Array(Math.max(this.hypotheses, this.replica.n));
@@ -579,71 +585,18 @@ export class ArmStep {
   }
 
   /**
-   * The speaker's legible velocity for private hypothesis `hyp` of a table tabulated over
-   * the speaker's private zones (with what it knows as the base); (meanX, meanY) is its mean
-   * over the alternatives the listener still holds (legMean). Writes v2.
-   */
-  private legible(table: SubsetTable, hyp: number, meanX: number, meanY: number): void {
-    this.task.velocityOf(table, hyp, this.v2);
-    const lam = this.config.policy.legibility_gain;
-    let vx = this.v2[0]! + lam * (this.v2[0]! - meanX);
-    let vy = this.v2[1]! + lam * (this.v2[1]! - meanY);
-    const s = Math.sqrt(vx * vx + vy * vy);
-    const vmax = this.config.policy.speed_m_s;
-    if (s > vmax) {
-      vx *= vmax / s;
-      vy *= vmax / s;
-    }
-    this.v2[0] = vx;
-    this.v2[1] = vy;
-  }
-
-  /** Uniform mean velocity over the hypotheses of a table whose bits include `need` (table bit space). Writes v2. */
-  private consistentMean(table: SubsetTable, need: number): void {
-    const n = table.size;
-    let sx = 0, sy = 0, k = 0;
-    for (let h = 0; h < n; h++) {
-      if ((h & need) !== need) continue;
-      this.task.velocityOf(table, h, this.v2);
-      sx += this.v2[0]!;
-      sy += this.v2[1]!;
-      k++;
-    }
-    this.v2[0] = sx / k;
-    this.v2[1] = sy / k;
-  }
-
-  /** Map a zone-index mask onto the bit space of a zone list (bit b: list[b]). */
-  private static toListBits(list: Int32Array, zoneMask: number): number {
-    let m = 0;
-    for (let b = 0; b < list.length; b++) if ((zoneMask >>> list[b]!) & 1) m |= 1 << b;
-    return m;
-  }
-
-  /**
-   * The mean the speaker exaggerates away from: its velocity averaged uniformly over the
-   * hypotheses the listener still holds, i.e. those in which every zone of `list` already
-   * committed (`committed`, a zone-index mask) is occupied. Both arms compute it from common
-   * knowledge only. (A mean weighted by the replica of the listener's belief was measured
-   * worse: replica and belief differ by the noise, which biases every prediction.) Writes v2.
-   */
-  private legMean(table: SubsetTable, list: Int32Array, committed: number): void {
-    this.consistentMean(table, ArmStep.toListBits(list, committed));
-  }
-
-  /**
    * Log-likelihood of each hidden hypothesis for the window's mean correction force (fx, fy)
    * and own velocity (vx, vy), with the speaker acting on `known`. Writes `into`.
    */
   private scoreSpeaker(table: SubsetTable, known: number, fx: number, fy: number, vx: number, vy: number, into: Float64Array): void {
     const task = this.task;
     task.tabulate(task.hidden, known, table);
-    this.legMean(table, task.hidden, this.committedHidden);
+    this.policy.legMean(table, task.hidden, this.committedHidden);
     const mx = this.v2[0]!, my = this.v2[1]!;
     const c = this.config.coupling.damping_n_s_m;
     const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
     for (let h = 0; h < this.hypotheses; h++) {
-      this.legible(table, h, mx, my);
+      this.policy.legible(table, h, mx, my);
       const rx = fx - c * (this.v2[0]! - vx);
       const ry = fy - c * (this.v2[1]! - vy);
       into[h] = -(rx * rx + ry * ry) * k;
@@ -724,10 +677,10 @@ export class ArmStep {
     const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
     const known = this.observedMask(task.shared) | this.committedHidden;
     task.tabulate(task.own, known, this.ownTable);
-    this.legMean(this.ownTable, task.own, this.committedOwn);
+    this.policy.legMean(this.ownTable, task.own, this.committedOwn);
     const mx = this.v2[0]!, my = this.v2[1]!;
     for (let h = 0; h < this.replica.n; h++) {
-      this.legible(this.ownTable, h, mx, my);
+      this.policy.legible(this.ownTable, h, mx, my);
       const rx = c * (vx - this.v2[0]!);
       const ry = c * (vy - this.v2[1]!);
       this.loglik[h] = -(rx * rx + ry * ry) * k;
@@ -777,41 +730,9 @@ export class ArmStep {
 
   private updateTarget(role: Role, px: number, py: number): void {
     const task = this.task;
-    task.prepare(px, py);
-    const shared = this.observedMask(task.shared);
-    const own = this.observedMask(task.own);
-    if (role === SPEAKER) {
-      // Act on my own view and common knowledge only; exaggerate what tells my view from
-      // the alternatives the partner still holds (uniform over what is not yet committed).
-      const known = shared | this.committedHidden;
-      task.tabulate(task.own, known, this.ownTable);
-      this.legMean(this.ownTable, task.own, this.committedOwn);
-      const mx = this.v2[0]!, my = this.v2[1]!;
-      let hyp = 0;
-      for (let b = 0; b < task.own.length; b++) if ((own >>> task.own[b]!) & 1) hyp |= 1 << b;
-      this.legible(this.ownTable, hyp, mx, my);
-      this.targetVx = this.v2[0]!;
-      this.targetVy = this.v2[1]!;
-      return;
-    }
-    // Listener: the centralized policy in expectation over the belief, slowed while the
-    // hypotheses it still holds disagree about what to do (uncertainty that matters here).
-    let sx = 0, sy = 0, sxx = 0;
-    const p = this.belief.p;
-    task.tabulate(task.hidden, shared | own, this.hiddenTable);
-    for (let h = 0; h < this.hypotheses; h++) {
-      task.velocityOf(this.hiddenTable, h, this.v2);
-      const ph = p[h]!;
-      sx += ph * this.v2[0]!;
-      sy += ph * this.v2[1]!;
-      sxx += ph * (this.v2[0]! * this.v2[0]! + this.v2[1]! * this.v2[1]!);
-    }
-    const spread = Math.sqrt(Math.max(0, sxx - sx * sx - sy * sy));
-    const floor = this.config.policy.confidence_floor;
-    const conf = Math.max(0, 1 - spread / this.config.policy.speed_m_s);
-    const scale = floor + (1 - floor) * conf;
-    this.targetVx = sx * scale;
-    this.targetVy = sy * scale;
+    this.policy.updateTarget(role, px, py, this.observedMask(task.shared), this.observedMask(task.own), this.committedHidden, this.committedOwn, this.belief.p);
+    this.targetVx = this.policy.target[0]!;
+    this.targetVy = this.policy.target[1]!;
   }
 
   snapshot(): ArmStepSnapshot {
