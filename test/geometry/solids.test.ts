@@ -2,7 +2,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
   boxSolid, capsuleClearance, cylinderSolid, pointSegmentDistance, pointSolidDistance, segmentSolidDistance, segmentTouches, sphereSolid, type Solid,
-} from '../../../src/core/geometry/solids.js';
+} from '../../src/geometry/solids.js';
 
 /** Brute force: the minimum point-solid distance over a dense sampling of the segment. */
 function sampled(a: number[], b: number[], q: Solid, n = 20000): number {

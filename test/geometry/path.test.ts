@@ -1,8 +1,8 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { NominalPath, rotateByQuat } from '../../../src/core/geometry/path.js';
-import { cylinderSolid, sphereSolid, boxSolid } from '../../../src/core/geometry/solids.js';
-import { clearanceAt, sweptClearance } from '../../../src/core/geometry/sweep.js';
+import { NominalPath, rotateByQuat } from '../../src/geometry/path.js';
+import { cylinderSolid, sphereSolid, boxSolid } from '../../src/geometry/solids.js';
+import { clearanceAt, sweptClearance } from '../../src/geometry/sweep.js';
 
 const straight = new NominalPath({ waypoints: [0, 0, 0.9, 1.6, 0, 0.9] });
 // An L: 1 m along x, then 1 m along y (a left turn of 90 degrees), at 0.9 m.
