@@ -149,6 +149,8 @@ export class ArmStep {
   private accFy = 0;
   private accVx = 0;
   private accVy = 0;
+  private accFz = 0;
+  private accVz = 0;
   private windowClean = true;
   private windowRole = -1;
   /** Window usable for the partner-stop detector (no impact, hold, tare or NaN; any role). */
@@ -159,8 +161,10 @@ export class ArmStep {
   // Policy state.
   private targetVx = 0;
   private targetVy = 0;
+  private targetVz = 0;
   private cmdVx = 0;
   private cmdVy = 0;
+  private cmdVz = 0;
   private lastT = Number.NaN;
   private lastRole = -1;
   /**
@@ -184,7 +188,9 @@ export class ArmStep {
   /** The policy's scratch velocity (what legible / legMean write). */
   private readonly v2: Float64Array;
   private readonly f3 = new Float64Array(3);
-  private readonly obj = new Float64Array(2);
+  private readonly obj = new Float64Array(3);
+  /** The belief window in the moving frame: force (t, l, v), own velocity (t, l, v). */
+  private readonly wf = new Float64Array(6);
   private readonly rawFinite = new Float64Array(6);
   private readonly marg: Float64Array;
   private readonly hiddenTable: SubsetTable;
@@ -377,7 +383,7 @@ export class ArmStep {
   private moving(): string {
     if (this.watchdog.held || this.watchdog.waitingForInputs || !this.filter.tared) return '';
     {
-      const lin = Math.sqrt(this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy);
+      const lin = Math.sqrt(this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy + this.cmdVz * this.cmdVz);
       const tp = this.config.wrench_filter.tare;
       if (lin > tp.still_twist_m_s) {
         return `the arm is moving: recommended speed ${lin.toPrecision(3)} m/s exceeds wrench_filter.tare.still_twist_m_s = ${tp.still_twist_m_s} m/s; hold the arm first`;
@@ -399,7 +405,7 @@ export class ArmStep {
   private movingNow(): boolean {
     if (this.watchdog.held || this.watchdog.waitingForInputs || !this.filter.tared) return false;
     const tp = this.config.wrench_filter.tare;
-    if (this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy > tp.still_twist_m_s * tp.still_twist_m_s) return true;
+    if (this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy + this.cmdVz * this.cmdVz > tp.still_twist_m_s * tp.still_twist_m_s) return true;
     if (this.required[INPUT.joint_states] === 1 && !this.jointVelAvailable) return true;
     for (let j = 0; j < this.jointCount; j++) if (Math.abs(this.jointVel[j]!) > tp.still_joint_rad_s) return true;
     return false;
@@ -466,12 +472,15 @@ export class ArmStep {
     if (t >= this.lastT || Number.isNaN(this.lastT)) this.lastT = t;
 
     // Object position from this arm's own tool pose.
-    this.task.objectFromTool(this.config.arm, this.pose[0]!, this.pose[1]!, this.obj);
+    this.task.objectFromTool(this.config.arm, this.pose[0]!, this.pose[1]!, this.obj, this.pose[2]!);
     const px = this.obj[0]!;
     const py = this.obj[1]!;
+    const pz = this.obj[2]!;
+    this.task.objectZ = pz;
     const role = this.roles.update(t, this.watchdog.held);
     if (role !== this.lastRole) {
-      this.commitAtSwitch(role, px);
+      this.task.locate(px, py, pz);
+      this.commitAtSwitch(role);
       this.lastRole = role;
     }
 
@@ -496,7 +505,7 @@ export class ArmStep {
         }
       }
       this.beliefCount = 0;
-      this.accFx = this.accFy = this.accVx = this.accVy = 0;
+      this.accFx = this.accFy = this.accVx = this.accVy = this.accFz = this.accVz = 0;
       this.windowClean = true;
     }
 
@@ -508,18 +517,32 @@ export class ArmStep {
     const dv = this.config.policy.accel_limit_m_s2 * dt;
     const ex = this.targetVx - this.cmdVx;
     const ey = this.targetVy - this.cmdVy;
-    const e = Math.sqrt(ex * ex + ey * ey);
+    const ez = this.targetVz - this.cmdVz;
+    const e = Math.sqrt(ex * ex + ey * ey + ez * ez);
     if (e <= dv) {
       this.cmdVx = this.targetVx;
       this.cmdVy = this.targetVy;
+      this.cmdVz = this.targetVz;
     } else if (e > 0) {
       this.cmdVx += (ex * dv) / e;
       this.cmdVy += (ey * dv) / e;
+      this.cmdVz += (ez * dv) / e;
     }
     const tw = out.twist;
     tw[0] = this.cmdVx;
     tw[1] = this.cmdVy;
-    tw[2] = tw[3] = tw[4] = tw[5] = 0;
+    tw[2] = this.cmdVz;
+    // The angular part follows the path's orientation: its turn rate per metre times the
+    // commanded progress along the tangent (zero on a path without orientations).
+    const task = this.task;
+    const T = task.T;
+    const progress = this.cmdVx * T[0]! + this.cmdVy * T[1]! + this.cmdVz * T[2]!;
+    if (task.turns) {
+      const w = task.angularRate;
+      tw[3] = w[0]! * progress;
+      tw[4] = w[1]! * progress;
+      tw[5] = w[2]! * progress;
+    } else tw[3] = tw[4] = tw[5] = 0;
     this.watchdog.checkOutput(t, tw);
     if (stop || this.watchdog.held) this.stopTwist();
 
@@ -547,7 +570,7 @@ export class ArmStep {
 
   private stopTwist(): void {
     this.out.twist.fill(0);
-    this.cmdVx = this.cmdVy = 0;
+    this.cmdVx = this.cmdVy = this.cmdVz = 0;
   }
 
   /**
@@ -569,9 +592,11 @@ export class ArmStep {
     this.cellCorrection(f);
     this.accFx += f[0]!;
     this.accFy += f[1]!;
+    this.accFz += f[2]!;
     // This arm's own command of the previous sample (equal to the published twist).
     this.accVx += this.cmdVx;
     this.accVy += this.cmdVy;
+    this.accVz += this.cmdVz;
   }
 
   /** Mask of observed zones currently occupied (unknown counts as occupied: the cautious reading). */
@@ -585,29 +610,47 @@ export class ArmStep {
   }
 
   /**
-   * Log-likelihood of each hidden hypothesis for the window's mean correction force (fx, fy)
-   * and own velocity (vx, vy), with the speaker acting on `known`. Writes `into`.
+   * Log-likelihood of each hidden hypothesis for the window's mean correction force and own
+   * velocity, both rotated into the path's moving frame (`windowInFrame`: this.wf), against the
+   * speaker's predicted velocity (tangent, lateral, vertical) with the speaker acting on
+   * `known`. Writes `into`.
    */
-  private scoreSpeaker(table: SubsetTable, known: number, fx: number, fy: number, vx: number, vy: number, into: Float64Array): void {
+  private scoreSpeaker(table: SubsetTable, known: number, into: Float64Array): void {
     const task = this.task;
     task.tabulate(task.hidden, known, table);
     this.policy.legMean(table, task.hidden, this.committedHidden);
-    const mx = this.v2[0]!, my = this.v2[1]!;
+    const mx = this.v2[0]!, my = this.v2[1]!, mz = this.v2[2]!;
     const c = this.config.coupling.damping_n_s_m;
     const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
+    const w = this.wf;
+    const ft = w[0]!, fl = w[1]!, fv = w[2]!, vt = w[3]!, vl = w[4]!, vv = w[5]!;
     for (let h = 0; h < this.hypotheses; h++) {
-      this.policy.legible(table, h, mx, my);
-      const rx = fx - c * (this.v2[0]! - vx);
-      const ry = fy - c * (this.v2[1]! - vy);
-      into[h] = -(rx * rx + ry * ry) * k;
+      this.policy.legible(table, h, mx, my, mz);
+      const rx = ft - c * (this.v2[0]! - vt);
+      const ry = fl - c * (this.v2[1]! - vl);
+      const rz = fv - c * (this.v2[2]! - vv);
+      into[h] = -(rx * rx + ry * ry + rz * rz) * k;
     }
+  }
+
+  /**
+   * The window's mean correction force and own velocity in the moving frame of the last
+   * prepare (tangent, lateral, vertical) into this.wf. On a planar task the vertical is not the
+   * policy's: it is left out (0).
+   */
+  private windowInFrame(): void {
+    const n = this.beliefEvery;
+    const w = this.wf;
+    const planar = this.task.planar;
+    this.task.toFrame(this.accFx / n, this.accFy / n, planar ? 0 : this.accFz / n, w, 0);
+    this.task.toFrame(this.accVx / n, this.accVy / n, planar ? 0 : this.accVz / n, w, 3);
+    if (planar) w[2] = w[5] = 0;
   }
 
   private updateBelief(px: number, py: number): void {
     const task = this.task;
     task.prepare(px, py);
-    const n = this.beliefEvery;
-    const fx = this.accFx / n, fy = this.accFy / n, vx = this.accVx / n, vy = this.accVy / n;
+    this.windowInFrame();
     // The partner (speaker) knows the shared zones as this arm sees them, its own (our hidden)
     // zones, and what it learned of ours in its last listening slot (reproduced here).
     const known = this.observedMask(task.shared) | this.committedOwn;
@@ -624,12 +667,12 @@ export class ArmStep {
       }
     }
     if (doubt === -1) {
-      this.scoreSpeaker(this.hiddenTable, known, fx, fy, vx, vy, this.loglik);
+      this.scoreSpeaker(this.hiddenTable, known, this.loglik);
     } else {
       const bit = 1 << task.own[doubt]!;
       const w = this.commitWeight[doubt]!;
-      this.scoreSpeaker(this.hiddenTable, known | bit, fx, fy, vx, vy, this.loglik);
-      this.scoreSpeaker(this.hiddenTable2, known & ~bit, fx, fy, vx, vy, this.loglik2);
+      this.scoreSpeaker(this.hiddenTable, known | bit, this.loglik);
+      this.scoreSpeaker(this.hiddenTable2, known & ~bit, this.loglik2);
       const lw = Math.log(w), lw0 = Math.log(1 - w);
       // The commitment is a hidden variable too: what the speaker does tells whether it
       // committed the zone. Its posterior, P(c | window) ∝ w Σ_h p(h) L1(h) against
@@ -671,19 +714,20 @@ export class ArmStep {
   private updateReplica(px: number, py: number): void {
     const task = this.task;
     task.prepare(px, py);
-    const n = this.beliefEvery;
-    const vx = this.accVx / n, vy = this.accVy / n;
+    this.windowInFrame();
+    const vx = this.wf[3]!, vy = this.wf[4]!, vz = this.wf[5]!;
     const c = this.config.coupling.damping_n_s_m;
     const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
     const known = this.observedMask(task.shared) | this.committedHidden;
     task.tabulate(task.own, known, this.ownTable);
     this.policy.legMean(this.ownTable, task.own, this.committedOwn);
-    const mx = this.v2[0]!, my = this.v2[1]!;
+    const mx = this.v2[0]!, my = this.v2[1]!, mz = this.v2[2]!;
     for (let h = 0; h < this.replica.n; h++) {
-      this.policy.legible(this.ownTable, h, mx, my);
+      this.policy.legible(this.ownTable, h, mx, my, mz);
       const rx = c * (vx - this.v2[0]!);
       const ry = c * (vy - this.v2[1]!);
-      this.loglik[h] = -(rx * rx + ry * ry) * k;
+      const rz = c * (vz - this.v2[2]!);
+      this.loglik[h] = -(rx * rx + ry * ry + rz * rz) * k;
     }
     this.replica.update(this.loglik, this.config.belief.forgetting);
   }
@@ -695,7 +739,7 @@ export class ArmStep {
    * A zone the object has passed is dropped on both arms: no action depends on it any more, so
    * nothing could repair a disagreement about it (and none can matter).
    */
-  private commitAtSwitch(role: Role, px: number): void {
+  private commitAtSwitch(role: Role): void {
     const bp = this.config.belief;
     if (role === SPEAKER) {
       // Turning speaker: what I inferred of the partner's zones while listening.
@@ -704,7 +748,7 @@ export class ArmStep {
       for (let b = 0; b < this.task.hidden.length; b++) {
         const bit = 1 << this.task.hidden[b]!;
         const th = (this.committedHidden & bit) !== 0 ? bp.release_probability : bp.commit_probability;
-        if (this.marg[b]! >= th && !this.task.passed(this.task.hidden[b]!, px)) m |= bit;
+        if (this.marg[b]! >= th && !this.task.passed(this.task.hidden[b]!)) m |= bit;
       }
       this.committedHidden = m;
     } else {
@@ -719,7 +763,7 @@ export class ArmStep {
         const th = (this.committedOwn & bit) !== 0 ? bp.release_probability : bp.commit_probability;
         const lo = logit(this.marg[b]!);
         const spread = Math.sqrt(Math.max(2 * Math.abs(lo), 0.25));
-        const passed = this.task.passed(this.task.own[b]!, px);
+        const passed = this.task.passed(this.task.own[b]!);
         const w = passed ? 0 : normalCdf((lo - logit(th)) / spread);
         this.commitWeight[b] = w;
         if (this.marg[b]! >= th && !passed) m |= bit;
@@ -730,9 +774,10 @@ export class ArmStep {
 
   private updateTarget(role: Role, px: number, py: number): void {
     const task = this.task;
-    this.policy.updateTarget(role, px, py, this.observedMask(task.shared), this.observedMask(task.own), this.committedHidden, this.committedOwn, this.belief.p);
+    this.policy.updateTarget(role, px, py, this.task.objectZ, this.observedMask(task.shared), this.observedMask(task.own), this.committedHidden, this.committedOwn, this.belief.p);
     this.targetVx = this.policy.target[0]!;
     this.targetVy = this.policy.target[1]!;
+    this.targetVz = this.policy.target[2]!;
   }
 
   snapshot(): ArmStepSnapshot {
@@ -745,7 +790,8 @@ export class ArmStep {
       numbers: Float64Array.of(this.beliefCount, this.policyCount, this.accFx, this.accFy, this.accVx, this.accVy, this.windowClean ? 1 : 0,
         this.targetVx, this.targetVy, this.cmdVx, this.cmdVy, this.lastT, this.jointCount, this.jointFinite ? 1 : 0, this.poseFinite ? 1 : 0, this.zoneFinite ? 1 : 0,
         this.lastRole, this.committedHidden, this.committedOwn, this.windowRole,
-        this.dragClean ? 1 : 0, this.quatError, this.jointVelAvailable ? 1 : 0, this.partnerHeldFlag ? 1 : 0),
+        this.dragClean ? 1 : 0, this.quatError, this.jointVelAvailable ? 1 : 0, this.partnerHeldFlag ? 1 : 0,
+        this.accFz, this.accVz, this.targetVz, this.cmdVz),
       lastSeen: Float64Array.from(this.lastSeen),
       joint: Float64Array.from(this.jointVel),
       pose: Float64Array.from(this.pose),
@@ -776,6 +822,7 @@ export class ArmStep {
     this.quatError = n[21]!;
     this.jointVelAvailable = n[22] === 1;
     this.partnerHeldFlag = n[23] === 1;
+    if (n.length >= 28) [this.accFz, this.accVz, this.targetVz, this.cmdVz] = [n[24]!, n[25]!, n[26]!, n[27]!];
     this.partnerStop.restore(s.partnerStop);
     this.commitWeight.set(s.commitWeight);
     // Outputs a caller may read before the next step: as they were.

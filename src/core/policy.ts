@@ -17,10 +17,10 @@ import { SPEAKER, type Role } from './roles.js';
 import { SubsetTable, type TaskModel } from './task-model.js';
 
 export class Policy {
-  /** Scratch result of `legible`, `consistentMean` and `legMean` (object velocity, cell frame). */
-  readonly v = new Float64Array(2);
-  /** The last target written by `updateTarget` (object velocity, cell frame). */
-  readonly target = new Float64Array(2);
+  /** Scratch result of `legible`, `consistentMean` and `legMean` (object velocity in the path's moving frame: tangent, lateral, vertical). */
+  readonly v = new Float64Array(3);
+  /** The last target written by `updateTarget` (object velocity, cell frame x, y, z). */
+  readonly target = new Float64Array(3);
   private readonly ownTable: SubsetTable;
   private readonly hiddenTable: SubsetTable;
 
@@ -35,38 +35,44 @@ export class Policy {
   /**
    * The speaker's legible velocity for private hypothesis `hyp` of a table tabulated over
    * the speaker's private zones (with what it knows as the base); (meanX, meanY) is its mean
-   * over the alternatives the listener still holds (legMean). Writes v.
+   * over the alternatives the listener still holds (legMean). All in the moving frame of the
+   * prepared position (the exaggeration is a detour's exaggeration). Writes v.
    */
-  legible(table: SubsetTable, hyp: number, meanX: number, meanY: number): void {
+  legible(table: SubsetTable, hyp: number, meanX: number, meanY: number, meanZ: number): void {
     const v = this.v;
     this.task.velocityOf(table, hyp, v);
     const lam = this.params.legibility_gain;
     let vx = v[0]! + lam * (v[0]! - meanX);
     let vy = v[1]! + lam * (v[1]! - meanY);
-    const s = Math.sqrt(vx * vx + vy * vy);
+    let vz = v[2]! + lam * (v[2]! - meanZ);
+    const s = Math.sqrt(vx * vx + vy * vy + vz * vz);
     const vmax = this.params.speed_m_s;
     if (s > vmax) {
       vx *= vmax / s;
       vy *= vmax / s;
+      vz *= vmax / s;
     }
     v[0] = vx;
     v[1] = vy;
+    v[2] = vz;
   }
 
   /** Uniform mean velocity over the hypotheses of a table whose bits include `need` (table bit space). Writes v. */
   consistentMean(table: SubsetTable, need: number): void {
     const v = this.v;
     const n = table.size;
-    let sx = 0, sy = 0, k = 0;
+    let sx = 0, sy = 0, sz = 0, k = 0;
     for (let h = 0; h < n; h++) {
       if ((h & need) !== need) continue;
       this.task.velocityOf(table, h, v);
       sx += v[0]!;
       sy += v[1]!;
+      sz += v[2]!;
       k++;
     }
     v[0] = sx / k;
     v[1] = sy / k;
+    v[2] = sz / k;
   }
 
   /** Map a zone-index mask onto the bit space of a zone list (bit b: list[b]). */
@@ -88,32 +94,32 @@ export class Policy {
   }
 
   /**
-   * The recommended object velocity at object position (px, py), written into `target`.
+   * The recommended object velocity at object position (px, py, pz), written into `target`
+   * (cell frame); computed in the path's moving frame there.
    * `shared` and `own`: zone-index masks of the observed zones this arm sees occupied (shared
    * and private); `committedHidden` / `committedOwn`: the common knowledge of the last switches;
    * `belief`: the probability of each hidden hypothesis (listener).
    */
-  updateTarget(role: Role, px: number, py: number, shared: number, own: number, committedHidden: number, committedOwn: number, belief: Float64Array): void {
+  updateTarget(role: Role, px: number, py: number, pz: number, shared: number, own: number, committedHidden: number, committedOwn: number, belief: Float64Array): void {
     const task = this.task;
     const v = this.v;
-    task.prepare(px, py);
+    task.prepare(px, py, pz);
     if (role === SPEAKER) {
       // Act on my own view and common knowledge only; exaggerate what tells my view from
       // the alternatives the partner still holds (uniform over what is not yet committed).
       const known = shared | committedHidden;
       task.tabulate(task.own, known, this.ownTable);
       this.legMean(this.ownTable, task.own, committedOwn);
-      const mx = v[0]!, my = v[1]!;
+      const mx = v[0]!, my = v[1]!, mz = v[2]!;
       let hyp = 0;
       for (let b = 0; b < task.own.length; b++) if ((own >>> task.own[b]!) & 1) hyp |= 1 << b;
-      this.legible(this.ownTable, hyp, mx, my);
-      this.target[0] = v[0]!;
-      this.target[1] = v[1]!;
+      this.legible(this.ownTable, hyp, mx, my, mz);
+      task.toCell(v[0]!, v[1]!, v[2]!, this.target);
       return;
     }
     // Listener: the centralized policy in expectation over the belief, slowed while the
     // hypotheses it still holds disagree about what to do (uncertainty that matters here).
-    let sx = 0, sy = 0, sxx = 0;
+    let sx = 0, sy = 0, sz = 0, sxx = 0;
     const hypotheses = 1 << task.hidden.length;
     task.tabulate(task.hidden, shared | own, this.hiddenTable);
     for (let h = 0; h < hypotheses; h++) {
@@ -121,13 +127,13 @@ export class Policy {
       const ph = belief[h]!;
       sx += ph * v[0]!;
       sy += ph * v[1]!;
-      sxx += ph * (v[0]! * v[0]! + v[1]! * v[1]!);
+      sz += ph * v[2]!;
+      sxx += ph * (v[0]! * v[0]! + v[1]! * v[1]! + v[2]! * v[2]!);
     }
-    const spread = Math.sqrt(Math.max(0, sxx - sx * sx - sy * sy));
+    const spread = Math.sqrt(Math.max(0, sxx - sx * sx - sy * sy - sz * sz));
     const floor = this.params.confidence_floor;
     const conf = Math.max(0, 1 - spread / this.params.speed_m_s);
     const scale = floor + (1 - floor) * conf;
-    this.target[0] = sx * scale;
-    this.target[1] = sy * scale;
+    task.toCell(sx * scale, sy * scale, sz * scale, this.target);
   }
 }
