@@ -2,10 +2,10 @@
  * `npm run bench`: every benchmark, figures printed and written to bench/results/*.json.
  * Run one with `node --expose-gc dist/bench/run.js <name> [...]`.
  */
-import { benchArmStep, benchFilterWatchdog } from './pipeline.js';
+import { benchArmStep, benchArmStepPath, benchFilterWatchdog } from './pipeline.js';
 import { report } from './harness.js';
 
-const GOALS = { filter_watchdog_median_ns: 300, arm_step_median_ns: 10_000 };
+const GOALS = { filter_watchdog_median_ns: 300, arm_step_median_ns: 10_000, path_median_ns: 1_000, path_p999_ns: 25_000 };
 
 type Bench = () => Promise<void> | void;
 const BENCHES: Record<string, Bench> = {
@@ -16,6 +16,10 @@ const BENCHES: Record<string, Bench> = {
   'arm-step': () => {
     const r = benchArmStep();
     report('arm-step', { ...r, goal_median_ns: GOALS.arm_step_median_ns, meets_goal: r.median_ns <= GOALS.arm_step_median_ns });
+  },
+  'arm-step-path': () => {
+    const r = benchArmStepPath();
+    report('arm-step-path', { ...r, goal_median_ns: GOALS.path_median_ns, goal_p999_ns: GOALS.path_p999_ns, meets_goal: r.median_ns <= GOALS.path_median_ns && r.p999_ns <= GOALS.path_p999_ns });
   },
 };
 
