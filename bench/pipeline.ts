@@ -147,3 +147,71 @@ export function benchArmStep(n = 1_000_000): ArmStepStats {
     config: '16 zones (8 hidden per arm), belief and policy at 100 Hz, alternating roles every 0.5 s',
   };
 }
+
+/**
+ * Task on a 3-D path: 50 waypoints (a rising and falling wave with the object turning about
+ * the vertical), 16 zones of every 3-D shape, 8 hidden from each arm (256 hypotheses), some
+ * passed over, some sideways.
+ */
+export function configPath(): { left: ArmConfig; right: ArmConfig } {
+  const cell = loadCell(undefined);
+  const waypoints: number[] = [];
+  const orientations: number[] = [];
+  for (let k = 0; k < 50; k++) {
+    waypoints.push(0.12 * k, 0.25 * Math.sin(0.15 * k), 0.9 + 0.1 * Math.sin(0.1 * k));
+    const yaw = 0.2 * Math.sin(0.05 * k);
+    orientations.push(0, 0, Math.sin(yaw / 2), Math.cos(yaw / 2));
+  }
+  const zones: ZoneConfig[] = [];
+  const shapes = ['box', 'cylinder', 'sphere'] as const;
+  for (let k = 0; k < 16; k++) {
+    const side = k % 2 === 0 ? 'left' : 'right';
+    const x = 0.6 + 0.32 * k;
+    const yPath = 0.25 * Math.sin(0.15 * (x / 0.12));
+    zones.push({
+      name: `zone_${String(k).padStart(2, '0')}`,
+      shape: shapes[k % 3]!,
+      center_m: [x, yPath + (side === 'left' ? 0.45 : -0.45)],
+      size_m: [0.1, 0.1],
+      radius_m: 0.06,
+      height_m: [0, 1.0],
+      center_z_m: 0.95,
+      yaw_rad: 0.3,
+      detours: k % 4 < 2 ? 'both' : 'sideways',
+      observed_by: side,
+      kind: k % 2 === 0 ? 'clamp_post' : 'cable_tray',
+    });
+  }
+  const mk = (c: ArmConfig): ArmConfig => ({ ...c, task: { ...c.task, path: { waypoints_m: waypoints, orientations_xyzw: orientations }, start_m: [0, 0], goal_m: [waypoints[147]!, waypoints[148]!], zones } });
+  return { left: mk(cell.left.config), right: { ...mk(cell.right.config), roles: { ...cell.right.config.roles, phase: 1 } } };
+}
+
+export function benchArmStepPath(n = 1_000_000): SampleStats & { hypotheses: number; waypoints: number; config: string } {
+  const { left } = configPath();
+  const step = new ArmStep(left, { jointCount: 6 });
+  const stream = wrenchStream(STREAM, 3);
+  const views: Float64Array[] = Array.from({ length: STREAM }, (_, k) => stream.subarray(6 * k, 6 * k + 6));
+  const zoneView = new Uint8Array(left.task.zones.length);
+  left.task.zones.forEach((z, k) => (zoneView[k] = z.observed_by === 'left' ? (k % 4 === 0 ? ZONE_OCCUPIED : ZONE_FREE) : ZONE_UNKNOWN));
+  const qd = new Float64Array(6);
+  // The tool pose moves along the path at 0.1 m/s (positions precomputed, so the path is not timed here).
+  const path = step.task.path;
+  const poses = new Float64Array(7 * STREAM);
+  for (let k = 0; k < STREAM; k++) {
+    const s = (0.1 * (k / 1000)) % path.length;
+    path.locate(s);
+    path.orientationAt(s);
+    poses.set(path.pos, 7 * k);
+    poses.set(path.q, 7 * k + 3);
+    poses[7 * k + 1] = poses[7 * k + 1]! + 0.55;
+  }
+  const stats = timeSamples(n, 20_000, (k) => {
+    const t = k / 1000;
+    const j = 7 * (k & (STREAM - 1));
+    step.setToolPose(t, poses[j]!, poses[j + 1]!, poses[j + 2]!, poses[j + 3]!, poses[j + 4]!, poses[j + 5]!, poses[j + 6]!);
+    if ((k & 1) === 0) step.setJointState(t, qd, 6);
+    if (k % 100 === 0) step.setZoneView(t, zoneView);
+    step.step(t, views[k & (STREAM - 1)]!);
+  });
+  return { ...stats, hypotheses: step.hypotheses, waypoints: path.n, config: '50-waypoint 3-D path with orientations, 16 zones of every 3-D shape (8 hidden per arm), belief and policy at 100 Hz, alternating roles every 0.5 s' };
+}

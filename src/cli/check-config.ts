@@ -2,6 +2,7 @@
 import type { Command } from 'commander';
 import { loadCell, type LoadedArm } from '../params/config.js';
 import { describeAllowed } from '../params/load.js';
+import { taskFigures, type TaskFigures } from '../params/task-geometry.js';
 import { SCHEMA } from '../params/schema.js';
 import type { ResolvedValue } from '../params/spec.js';
 import { InputError } from '../util/errors.js';
@@ -19,6 +20,24 @@ function armJson(a: LoadedArm): Record<string, unknown> {
     out[v.key] = { value: v.value, unit: v.spec.unit, source: v.source.kind === 'default' ? 'default' : { file: v.source.file, section: v.source.section, line: v.source.line, column: v.source.column } };
   }
   return out;
+}
+
+/** The task's geometry in words: path length, tightest turn, each zone's clearance and detours. */
+export function taskText(t: TaskFigures): string[] {
+  const mm = (x: number) => (Number.isFinite(x) ? `${x.toFixed(3)} m` : 'none');
+  const lines = [
+    `task: ${t.planar ? 'planar straight path (task.start_m -> task.goal_m)' : `path of ${t.waypoints} waypoints`}, length ${mm(t.length_m)}, minimum turn radius ${Number.isFinite(t.min_turn_radius_m) ? mm(t.min_turn_radius_m) : 'none (straight)'}`,
+  ];
+  for (const z of t.zones) {
+    const det = z.detours.map((d) => `${d.detour} ${d.allowed ? mm(d.shift_m) : 'not allowed'}`).join(', ');
+    lines.push(`  zone ${z.name}: ${z.clearance_m > 0 ? `clearance from the nominal path ${mm(z.clearance_m)}` : 'the nominal path enters it'} at s = ${mm(z.at_s_m)}${z.clear_by_margin ? ' (clear by the margin: no detour needed)' : `; detours: ${det}; cheapest: ${z.cheapest}`}`);
+  }
+  return lines;
+}
+
+/** JSON form (an infinite radius or shift as null). */
+function taskJson(t: TaskFigures): unknown {
+  return JSON.parse(JSON.stringify(t, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v)));
 }
 
 export function register(program: Command): void {
@@ -44,10 +63,10 @@ export function register(program: Command): void {
           }
         }
         if (opts.json) {
-          printJson({ ok: true, file: file ?? null, arms: Object.fromEntries(arms.map((a) => [a, armJson(cell[a as 'left' | 'right'])])) });
+          printJson({ ok: true, file: file ?? null, task: taskJson(taskFigures(cell.left.config.task)), arms: Object.fromEntries(arms.map((a) => [a, armJson(cell[a as 'left' | 'right'])])) });
           return 0;
         }
-        const lines: string[] = [`parameters: ${file ?? '(built-in defaults)'} - ok`];
+        const lines: string[] = [`parameters: ${file ?? '(built-in defaults)'} - ok`, ...taskText(taskFigures(cell.left.config.task))];
         for (const a of arms) {
           lines.push('', `[${a}]`);
           for (const v of cell[a as 'left' | 'right'].values.values()) {

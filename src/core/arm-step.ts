@@ -15,6 +15,7 @@ import { TARE_REFUSAL_TEXT, TARE_REFUSED, TARE_REFUSED_MOVING, TARE_TAKEN, Wrenc
 import { Belief } from './belief.js';
 import { PartnerStopDetector } from './partner-stop.js';
 import { LISTENER, RoleScheduler, SPEAKER, type Role } from './roles.js';
+import { Policy } from './policy.js';
 import { SubsetTable, TaskModel } from './task-model.js';
 import { INPUT, INPUTS, Watchdog, type InputName, type WatchdogInputs, type WatchdogSnapshot } from './watchdog.js';
 
@@ -147,6 +148,8 @@ export class ArmStep {
   readonly watchdog: Watchdog;
   readonly roles: RoleScheduler;
   readonly belief: Belief;
+  /** The policy stage (speaker, listener, legibility): src/core/policy.ts. */
+  readonly policy: Policy;
   /**
    * Replica of the partner's belief about this arm's own zones, reproduced from this arm's
    * own speaking actions (what the partner's listener update would conclude from them).
@@ -180,6 +183,8 @@ export class ArmStep {
   private accFy = 0;
   private accVx = 0;
   private accVy = 0;
+  private accFz = 0;
+  private accVz = 0;
   private windowClean = true;
   private windowRole = -1;
   /** Window usable for the partner-stop detector (no impact, hold, tare or NaN; any role). */
@@ -190,8 +195,10 @@ export class ArmStep {
   // Policy state.
   private targetVx = 0;
   private targetVy = 0;
+  private targetVz = 0;
   private cmdVx = 0;
   private cmdVy = 0;
+  private cmdVz = 0;
   private lastT = Number.NaN;
   private lastRole = -1;
   /**
@@ -212,18 +219,16 @@ export class ArmStep {
 
   // Scratch, preallocated.
   private readonly loglik: Float64Array;
-  private readonly v2 = new Float64Array(2);
+  /** The policy's scratch velocity (what legible / legMean write). */
+  private readonly v2: Float64Array;
   private readonly f3 = new Float64Array(3);
-  private readonly obj = new Float64Array(2);
+  private readonly obj = new Float64Array(3);
   private readonly rawFinite = new Float64Array(6);
   private readonly marg: Float64Array;
   private readonly hiddenTable: SubsetTable;
   private readonly ownTable: SubsetTable;
   private readonly hiddenTable2: SubsetTable;
   private readonly loglik2: Float64Array;
-  /** The policy's own tables: the job's tables must survive a policy update mid-job. */
-  private readonly policyHiddenTable: SubsetTable;
-  private readonly policyOwnTable: SubsetTable;
 
   // The 100 Hz job in flight (startJob, runJob).
   private jobKind = JOB_NONE;
@@ -233,19 +238,18 @@ export class ArmStep {
   private jobN = 0;
   private jobPx = 0;
   private jobPy = 0;
-  private jobFx = 0;
-  private jobFy = 0;
-  private jobVx = 0;
-  private jobVy = 0;
+  private jobPz = 0;
+  /** The job's window in the moving frame at its position: force (t, l, v), own velocity (t, l, v). */
+  private readonly jobW = new Float64Array(6);
   private jobKnownA = 0;
   private jobKnownB = 0;
   private jobNeed = 0;
   private jobDoubt = -1;
-  private jobSx = 0;
-  private jobSy = 0;
-  private jobK = 0;
+  /** The mean stage's running sums (t, l, v, count) and its result. */
+  private readonly jobSum = new Float64Array(4);
   private jobMx = 0;
   private jobMy = 0;
+  private jobMz = 0;
   private jobTop = 0;
   private jobE1 = 0;
   private jobE0 = 0;
@@ -257,6 +261,8 @@ export class ArmStep {
     this.watchdog = new Watchdog(config.watchdog, config.wrench_filter.tare);
     this.roles = new RoleScheduler(config.roles, config.arm, this.task);
     this.hypotheses = 1 << this.task.hidden.length;
+    this.policy = new Policy(this.task, config.policy);
+    this.v2 = this.policy.v;
     this.belief = new Belief(this.hypotheses);
     this.replica = new Belief(1 << this.task.own.length);
     this.loglik = new Float64Array(Math.max(this.hypotheses, this.replica.n));
@@ -265,8 +271,6 @@ export class ArmStep {
     this.ownTable = new SubsetTable(this.task.own.length);
     this.hiddenTable2 = new SubsetTable(this.task.hidden.length);
     this.loglik2 = new Float64Array(this.loglik.length);
-    this.policyHiddenTable = new SubsetTable(this.task.hidden.length);
-    this.policyOwnTable = new SubsetTable(this.task.own.length);
     this.commitWeight = new Float64Array(Math.max(1, this.task.own.length));
     this.jointCount = options.jointCount ?? 0;
     this.jointVel = new Float64Array(Math.max(64, this.jointCount));
@@ -436,7 +440,7 @@ export class ArmStep {
   private moving(): string {
     if (this.watchdog.held || this.watchdog.waitingForInputs || !this.filter.tared) return '';
     {
-      const lin = Math.sqrt(this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy);
+      const lin = Math.sqrt(this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy + this.cmdVz * this.cmdVz);
       const tp = this.config.wrench_filter.tare;
       if (lin > tp.still_twist_m_s) {
         return `the arm is moving: recommended speed ${lin.toPrecision(3)} m/s exceeds wrench_filter.tare.still_twist_m_s = ${tp.still_twist_m_s} m/s; hold the arm first`;
@@ -458,7 +462,7 @@ export class ArmStep {
   private movingNow(): boolean {
     if (this.watchdog.held || this.watchdog.waitingForInputs || !this.filter.tared) return false;
     const tp = this.config.wrench_filter.tare;
-    if (this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy > tp.still_twist_m_s * tp.still_twist_m_s) return true;
+    if (this.cmdVx * this.cmdVx + this.cmdVy * this.cmdVy + this.cmdVz * this.cmdVz > tp.still_twist_m_s * tp.still_twist_m_s) return true;
     if (this.required[INPUT.joint_states] === 1 && !this.jointVelAvailable) return true;
     for (let j = 0; j < this.jointCount; j++) if (Math.abs(this.jointVel[j]!) > tp.still_joint_rad_s) return true;
     return false;
@@ -527,12 +531,15 @@ export class ArmStep {
     if (t >= this.lastT || Number.isNaN(this.lastT)) this.lastT = t;
 
     // Object position from this arm's own tool pose.
-    this.task.objectFromTool(this.config.arm, this.pose[0]!, this.pose[1]!, this.obj);
+    this.task.objectFromTool(this.config.arm, this.pose[0]!, this.pose[1]!, this.obj, this.pose[2]!);
     const px = this.obj[0]!;
     const py = this.obj[1]!;
+    const pz = this.obj[2]!;
+    this.task.objectZ = pz;
     const role = this.roles.update(t, this.watchdog.held);
     if (role !== this.lastRole) {
-      this.commitAtSwitch(role, px);
+      this.task.locate(px, py, pz);
+      this.commitAtSwitch(role);
       this.lastRole = role;
     }
     // A window's evidence lands only in the role it was gathered in.
@@ -554,11 +561,11 @@ export class ArmStep {
       // The previous window's job lands within this window whatever: finish it if it has not.
       if (this.jobKind !== JOB_NONE) this.runJob(Number.POSITIVE_INFINITY);
       if (this.windowClean) {
-        if (role === LISTENER && this.task.hidden.length > 0) this.startJob(role, px, py);
-        else if (role === SPEAKER && this.task.own.length > 0) this.startJob(role, px, py);
+        if (role === LISTENER && this.task.hidden.length > 0) this.startJob(role, px, py, pz);
+        else if (role === SPEAKER && this.task.own.length > 0) this.startJob(role, px, py, pz);
       }
       this.beliefCount = 0;
-      this.accFx = this.accFy = this.accVx = this.accVy = 0;
+      this.accFx = this.accFy = this.accVx = this.accVy = this.accFz = this.accVz = 0;
       this.windowClean = true;
     }
     // The job's part of this sample; a sample of a policy update carries none.
@@ -572,18 +579,32 @@ export class ArmStep {
     const dv = this.config.policy.accel_limit_m_s2 * dt;
     const ex = this.targetVx - this.cmdVx;
     const ey = this.targetVy - this.cmdVy;
-    const e = Math.sqrt(ex * ex + ey * ey);
+    const ez = this.targetVz - this.cmdVz;
+    const e = Math.sqrt(ex * ex + ey * ey + ez * ez);
     if (e <= dv) {
       this.cmdVx = this.targetVx;
       this.cmdVy = this.targetVy;
+      this.cmdVz = this.targetVz;
     } else if (e > 0) {
       this.cmdVx += (ex * dv) / e;
       this.cmdVy += (ey * dv) / e;
+      this.cmdVz += (ez * dv) / e;
     }
     const tw = out.twist;
     tw[0] = this.cmdVx;
     tw[1] = this.cmdVy;
-    tw[2] = tw[3] = tw[4] = tw[5] = 0;
+    tw[2] = this.cmdVz;
+    // The angular part follows the path's orientation: its turn rate per metre times the
+    // commanded progress along the tangent (zero on a path without orientations).
+    const task = this.task;
+    const T = task.T;
+    const progress = this.cmdVx * T[0]! + this.cmdVy * T[1]! + this.cmdVz * T[2]!;
+    if (task.turns) {
+      const w = task.angularRate;
+      tw[3] = w[0]! * progress;
+      tw[4] = w[1]! * progress;
+      tw[5] = w[2]! * progress;
+    } else tw[3] = tw[4] = tw[5] = 0;
     this.watchdog.checkOutput(t, tw);
     if (stop || this.watchdog.held) this.stopTwist();
 
@@ -611,7 +632,7 @@ export class ArmStep {
 
   private stopTwist(): void {
     this.out.twist.fill(0);
-    this.cmdVx = this.cmdVy = 0;
+    this.cmdVx = this.cmdVy = this.cmdVz = 0;
   }
 
   /**
@@ -633,9 +654,11 @@ export class ArmStep {
     this.cellCorrection(f);
     this.accFx += f[0]!;
     this.accFy += f[1]!;
+    this.accFz += f[2]!;
     // This arm's own command of the previous sample (equal to the published twist).
     this.accVx += this.cmdVx;
     this.accVy += this.cmdVy;
+    this.accVz += this.cmdVz;
   }
 
   /** Mask of observed zones currently occupied (unknown counts as occupied: the cautious reading). */
@@ -649,77 +672,39 @@ export class ArmStep {
   }
 
   /**
-   * The speaker's legible velocity for private hypothesis `hyp` of a table tabulated over
-   * the speaker's private zones (with what it knows as the base); (meanX, meanY) is its mean
-   * over the alternatives the listener still holds (legMean). Writes v2.
+   * The window's mean correction force and own velocity in the moving frame of the last
+   * locate (tangent, lateral, vertical) into the job's snapshot (jobW). On a planar task the
+   * vertical is not the policy's: it is left out (0).
    */
-  private legible(table: SubsetTable, hyp: number, meanX: number, meanY: number): void {
-    this.task.velocityOf(table, hyp, this.v2);
-    const lam = this.config.policy.legibility_gain;
-    let vx = this.v2[0]! + lam * (this.v2[0]! - meanX);
-    let vy = this.v2[1]! + lam * (this.v2[1]! - meanY);
-    const s = Math.sqrt(vx * vx + vy * vy);
-    const vmax = this.config.policy.speed_m_s;
-    if (s > vmax) {
-      vx *= vmax / s;
-      vy *= vmax / s;
-    }
-    this.v2[0] = vx;
-    this.v2[1] = vy;
-  }
-
-  /** Uniform mean velocity over the hypotheses of a table whose bits include `need` (table bit space). Writes v2. */
-  private consistentMean(table: SubsetTable, need: number): void {
-    const n = table.size;
-    let sx = 0, sy = 0, k = 0;
-    for (let h = 0; h < n; h++) {
-      if ((h & need) !== need) continue;
-      this.task.velocityOf(table, h, this.v2);
-      sx += this.v2[0]!;
-      sy += this.v2[1]!;
-      k++;
-    }
-    this.v2[0] = sx / k;
-    this.v2[1] = sy / k;
-  }
-
-  /** Map a zone-index mask onto the bit space of a zone list (bit b: list[b]). */
-  private static toListBits(list: Int32Array, zoneMask: number): number {
-    let m = 0;
-    for (let b = 0; b < list.length; b++) if ((zoneMask >>> list[b]!) & 1) m |= 1 << b;
-    return m;
-  }
-
-  /**
-   * The mean the speaker exaggerates away from: its velocity averaged uniformly over the
-   * hypotheses the listener still holds, i.e. those in which every zone of `list` already
-   * committed (`committed`, a zone-index mask) is occupied. Both arms compute it from common
-   * knowledge only. (A mean weighted by the replica of the listener's belief was measured
-   * worse: replica and belief differ by the noise, which biases every prediction.) Writes v2.
-   */
-  private legMean(table: SubsetTable, list: Int32Array, committed: number): void {
-    this.consistentMean(table, ArmStep.toListBits(list, committed));
+  private windowInFrame(): void {
+    const n = this.beliefEvery;
+    const w = this.jobW;
+    const planar = this.task.planar;
+    this.task.toFrame(this.accFx / n, this.accFy / n, planar ? 0 : this.accFz / n, w, 0);
+    this.task.toFrame(this.accVx / n, this.accVy / n, planar ? 0 : this.accVz / n, w, 3);
+    if (planar) w[2] = w[5] = 0;
   }
 
   /**
    * Start the 100 Hz job for the window that just ended, on a snapshot of its inputs: the
-   * window's means, this arm's object position at its last sample, and the common knowledge
-   * and zone view of that moment. The listener's job is the Bayes update of the belief (hedged
+   * window's means taken into the path's moving frame at this arm's object position at its last
+   * sample (`windowInFrame`), that position, and the common knowledge and zone view of that
+   * moment. The listener's job is the Bayes update of the belief (hedged
    * over the most doubtful commitment of the partner), the speaker's the replica's update. The
    * job runs over the next samples (runJob) and lands within the next window; a role switch
    * before it lands discards it (on both arms alike: the belief and the replica each lose the
    * last window of a slot). Its result equals the one-shot computation bit for bit.
    */
-  private startJob(role: Role, px: number, py: number): void {
+  private startJob(role: Role, px: number, py: number, pz: number): void {
     const task = this.task;
-    const n = this.beliefEvery;
     this.jobRole = role;
     this.jobPx = px;
     this.jobPy = py;
-    this.jobFx = this.accFx / n;
-    this.jobFy = this.accFy / n;
-    this.jobVx = this.accVx / n;
-    this.jobVy = this.accVy / n;
+    this.jobPz = pz;
+    // The window in the moving frame at the job's position, kept in the job (a later prepare by
+    // the policy moves the task's frame; the job's stages read only the snapshot and its tables).
+    task.locate(px, py, pz);
+    this.windowInFrame();
     this.jobStage = JOB_TAB_A;
     this.jobH = 0;
     this.jobDoubt = -1;
@@ -728,7 +713,7 @@ export class ArmStep {
       this.jobKind = JOB_REPLICA;
       this.jobN = this.replica.n;
       this.jobKnownA = this.observedMask(task.shared) | this.committedHidden;
-      this.jobNeed = ArmStep.toListBits(task.own, this.committedOwn);
+      this.jobNeed = Policy.toListBits(task.own, this.committedOwn);
       this.replica.stageBegin(this.config.belief.forgetting);
       return;
     }
@@ -737,7 +722,7 @@ export class ArmStep {
     // The partner (speaker) knows the shared zones as this arm sees them, its own (our hidden)
     // zones, and what it learned of ours in its last listening slot (reproduced here).
     const known = this.observedMask(task.shared) | this.committedOwn;
-    this.jobNeed = ArmStep.toListBits(task.hidden, this.committedHidden);
+    this.jobNeed = Policy.toListBits(task.hidden, this.committedHidden);
     // Whether the partner really committed an own zone is not common knowledge: hedge over the
     // most doubtful one, scoring the speaker both with and without it.
     let doubt = -1;
@@ -795,11 +780,11 @@ export class ArmStep {
         this.commitJob();
         return units;
       }
-      task.prepare(this.jobPx, this.jobPy);
+      task.prepare(this.jobPx, this.jobPy, this.jobPz);
       const list = replicaJob ? task.own : task.hidden;
       const table = replicaJob ? this.ownTable : stage === JOB_TAB_A ? this.hiddenTable : this.hiddenTable2;
       task.tabulate(list, stage === JOB_TAB_A ? this.jobKnownA : this.jobKnownB, table);
-      this.jobSx = this.jobSy = this.jobK = 0;
+      this.jobSum.fill(0);
       this.jobStage = stage + 1;
       this.jobH = 0;
       return units;
@@ -816,21 +801,12 @@ export class ArmStep {
       case JOB_MEAN_A:
       case JOB_MEAN_B: {
         // consistentMean, over a range.
-        const need = this.jobNeed;
-        let sx = this.jobSx, sy = this.jobSy, k = this.jobK;
-        for (let h = from; h < to; h++) {
-          if ((h & need) !== need) continue;
-          task.velocityOf(table, h, this.v2);
-          sx += this.v2[0]!;
-          sy += this.v2[1]!;
-          k++;
-        }
-        this.jobSx = sx;
-        this.jobSy = sy;
-        this.jobK = k;
+        const sum = this.jobSum;
+        this.policy.meanPart(table, this.jobNeed, from, to, sum);
         if (to === nH) {
-          this.jobMx = sx / k;
-          this.jobMy = sy / k;
+          this.jobMx = sum[0]! / sum[3]!;
+          this.jobMy = sum[1]! / sum[3]!;
+          this.jobMz = sum[2]! / sum[3]!;
         }
         break;
       }
@@ -838,29 +814,34 @@ export class ArmStep {
       case JOB_SCORE_B: {
         const c = this.config.coupling.damping_n_s_m;
         const k = this.likelihoodScale / (2 * this.config.belief.noise_force_n ** 2);
-        const mx = this.jobMx, my = this.jobMy;
-        const vx = this.jobVx, vy = this.jobVy;
+        const mx = this.jobMx, my = this.jobMy, mz = this.jobMz;
+        const w = this.jobW;
+        const vt = w[3]!, vl = w[4]!, vv = w[5]!;
+        const v = this.v2;
         if (replicaJob) {
           // It feels f = c (v_own - v_partner) + noise and compares with c (speaker policy(h) -
           // v_partner), so its expected log-likelihood of our private hypothesis h is
           // -c^2 |v_own - policy(h)|^2 / (2 sigma^2), at the same scale.
           const into = this.loglik;
           for (let h = from; h < to; h++) {
-            this.legible(table, h, mx, my);
-            const rx = c * (vx - this.v2[0]!);
-            const ry = c * (vy - this.v2[1]!);
-            into[h] = -(rx * rx + ry * ry) * k;
+            this.policy.legible(table, h, mx, my, mz);
+            const rx = c * (vt - v[0]!);
+            const ry = c * (vl - v[1]!);
+            const rz = c * (vv - v[2]!);
+            into[h] = -(rx * rx + ry * ry + rz * rz) * k;
           }
         } else {
           // Log-likelihood of each hidden hypothesis for the window's mean correction force and
-          // own velocity, with the speaker acting on the table's known zones.
+          // own velocity (moving frame), against the speaker's predicted velocity (tangent,
+          // lateral, vertical) with the speaker acting on the table's known zones.
           const into = stage === JOB_SCORE_A ? this.loglik : this.loglik2;
-          const fx = this.jobFx, fy = this.jobFy;
+          const ft = w[0]!, fl = w[1]!, fv = w[2]!;
           for (let h = from; h < to; h++) {
-            this.legible(table, h, mx, my);
-            const rx = fx - c * (this.v2[0]! - vx);
-            const ry = fy - c * (this.v2[1]! - vy);
-            into[h] = -(rx * rx + ry * ry) * k;
+            this.policy.legible(table, h, mx, my, mz);
+            const rx = ft - c * (v[0]! - vt);
+            const ry = fl - c * (v[1]! - vl);
+            const rz = fv - c * (v[2]! - vv);
+            into[h] = -(rx * rx + ry * ry + rz * rz) * k;
           }
         }
         break;
@@ -962,16 +943,16 @@ export class ArmStep {
     const st = this.jobStage;
     if (this.jobKind === JOB_REPLICA) {
       if (st === JOB_MEAN_A || st === JOB_SCORE_A) {
-        task.prepare(this.jobPx, this.jobPy);
+        task.prepare(this.jobPx, this.jobPy, this.jobPz);
         task.tabulate(task.own, this.jobKnownA, this.ownTable);
       }
       return;
     }
     if (st === JOB_MEAN_A || st === JOB_SCORE_A) {
-      task.prepare(this.jobPx, this.jobPy);
+      task.prepare(this.jobPx, this.jobPy, this.jobPz);
       task.tabulate(task.hidden, this.jobKnownA, this.hiddenTable);
     } else if (st === JOB_MEAN_B || st === JOB_SCORE_B) {
-      task.prepare(this.jobPx, this.jobPy);
+      task.prepare(this.jobPx, this.jobPy, this.jobPz);
       task.tabulate(task.hidden, this.jobKnownB, this.hiddenTable2);
     }
   }
@@ -983,7 +964,7 @@ export class ArmStep {
    * A zone the object has passed is dropped on both arms: no action depends on it any more, so
    * nothing could repair a disagreement about it (and none can matter).
    */
-  private commitAtSwitch(role: Role, px: number): void {
+  private commitAtSwitch(role: Role): void {
     const bp = this.config.belief;
     if (role === SPEAKER) {
       // Turning speaker: what I inferred of the partner's zones while listening.
@@ -992,7 +973,7 @@ export class ArmStep {
       for (let b = 0; b < this.task.hidden.length; b++) {
         const bit = 1 << this.task.hidden[b]!;
         const th = (this.committedHidden & bit) !== 0 ? bp.release_probability : bp.commit_probability;
-        if (this.marg[b]! >= th && !this.task.passed(this.task.hidden[b]!, px)) m |= bit;
+        if (this.marg[b]! >= th && !this.task.passed(this.task.hidden[b]!)) m |= bit;
       }
       this.committedHidden = m;
     } else {
@@ -1007,7 +988,7 @@ export class ArmStep {
         const th = (this.committedOwn & bit) !== 0 ? bp.release_probability : bp.commit_probability;
         const lo = logit(this.marg[b]!);
         const spread = Math.sqrt(Math.max(2 * Math.abs(lo), 0.25));
-        const passed = this.task.passed(this.task.own[b]!, px);
+        const passed = this.task.passed(this.task.own[b]!);
         const w = passed ? 0 : normalCdf((lo - logit(th)) / spread);
         this.commitWeight[b] = w;
         if (this.marg[b]! >= th && !passed) m |= bit;
@@ -1018,41 +999,10 @@ export class ArmStep {
 
   private updateTarget(role: Role, px: number, py: number): void {
     const task = this.task;
-    task.prepare(px, py);
-    const shared = this.observedMask(task.shared);
-    const own = this.observedMask(task.own);
-    if (role === SPEAKER) {
-      // Act on my own view and common knowledge only; exaggerate what tells my view from
-      // the alternatives the partner still holds (uniform over what is not yet committed).
-      const known = shared | this.committedHidden;
-      task.tabulate(task.own, known, this.policyOwnTable);
-      this.legMean(this.policyOwnTable, task.own, this.committedOwn);
-      const mx = this.v2[0]!, my = this.v2[1]!;
-      let hyp = 0;
-      for (let b = 0; b < task.own.length; b++) if ((own >>> task.own[b]!) & 1) hyp |= 1 << b;
-      this.legible(this.policyOwnTable, hyp, mx, my);
-      this.targetVx = this.v2[0]!;
-      this.targetVy = this.v2[1]!;
-      return;
-    }
-    // Listener: the centralized policy in expectation over the belief, slowed while the
-    // hypotheses it still holds disagree about what to do (uncertainty that matters here).
-    let sx = 0, sy = 0, sxx = 0;
-    const p = this.belief.p;
-    task.tabulate(task.hidden, shared | own, this.policyHiddenTable);
-    for (let h = 0; h < this.hypotheses; h++) {
-      task.velocityOf(this.policyHiddenTable, h, this.v2);
-      const ph = p[h]!;
-      sx += ph * this.v2[0]!;
-      sy += ph * this.v2[1]!;
-      sxx += ph * (this.v2[0]! * this.v2[0]! + this.v2[1]! * this.v2[1]!);
-    }
-    const spread = Math.sqrt(Math.max(0, sxx - sx * sx - sy * sy));
-    const floor = this.config.policy.confidence_floor;
-    const conf = Math.max(0, 1 - spread / this.config.policy.speed_m_s);
-    const scale = floor + (1 - floor) * conf;
-    this.targetVx = sx * scale;
-    this.targetVy = sy * scale;
+    this.policy.updateTarget(role, px, py, this.task.objectZ, this.observedMask(task.shared), this.observedMask(task.own), this.committedHidden, this.committedOwn, this.belief.p);
+    this.targetVx = this.policy.target[0]!;
+    this.targetVy = this.policy.target[1]!;
+    this.targetVz = this.policy.target[2]!;
   }
 
   snapshot(): ArmStepSnapshot {
@@ -1065,7 +1015,8 @@ export class ArmStep {
       numbers: Float64Array.of(this.beliefCount, this.policyCount, this.accFx, this.accFy, this.accVx, this.accVy, this.windowClean ? 1 : 0,
         this.targetVx, this.targetVy, this.cmdVx, this.cmdVy, this.lastT, this.jointCount, this.jointFinite ? 1 : 0, this.poseFinite ? 1 : 0, this.zoneFinite ? 1 : 0,
         this.lastRole, this.committedHidden, this.committedOwn, this.windowRole,
-        this.dragClean ? 1 : 0, this.quatError, this.jointVelAvailable ? 1 : 0, this.partnerHeldFlag ? 1 : 0),
+        this.dragClean ? 1 : 0, this.quatError, this.jointVelAvailable ? 1 : 0, this.partnerHeldFlag ? 1 : 0,
+        this.accFz, this.accVz, this.targetVz, this.cmdVz),
       lastSeen: Float64Array.from(this.lastSeen),
       joint: Float64Array.from(this.jointVel),
       pose: Float64Array.from(this.pose),
@@ -1097,6 +1048,7 @@ export class ArmStep {
     this.quatError = n[21]!;
     this.jointVelAvailable = n[22] === 1;
     this.partnerHeldFlag = n[23] === 1;
+    if (n.length >= 28) [this.accFz, this.accVz, this.targetVz, this.cmdVz] = [n[24]!, n[25]!, n[26]!, n[27]!];
     this.partnerStop.restore(s.partnerStop);
     this.commitWeight.set(s.commitWeight);
     this.jobRestore(s.job);
@@ -1112,10 +1064,18 @@ export class ArmStep {
     this.zoneState.set(s.zones);
   }
 
+  /**
+   * The job's numbers (JOB_HEAD), then its two log-likelihood buffers. The first JOB_HEAD_2D
+   * numbers keep the layout of the planar job (slots 7-10: the window's force and own velocity,
+   * now tangent and lateral in the moving frame; 15-17: the mean's sums and count); the
+   * moving-frame additions follow.
+   */
   private jobSnapshot(): Float64Array {
-    const head = Float64Array.of(this.jobKind, this.jobRole, this.jobStage, this.jobH, this.jobN, this.jobPx, this.jobPy, this.jobFx, this.jobFy,
-      this.jobVx, this.jobVy, this.jobKnownA, this.jobKnownB, this.jobNeed, this.jobDoubt, this.jobSx, this.jobSy, this.jobK, this.jobMx, this.jobMy,
-      this.jobTop, this.jobE1, this.jobE0);
+    const w = this.jobW, sum = this.jobSum;
+    const head = Float64Array.of(this.jobKind, this.jobRole, this.jobStage, this.jobH, this.jobN, this.jobPx, this.jobPy, w[0]!, w[1]!,
+      w[3]!, w[4]!, this.jobKnownA, this.jobKnownB, this.jobNeed, this.jobDoubt, sum[0]!, sum[1]!, sum[3]!, this.jobMx, this.jobMy,
+      this.jobTop, this.jobE1, this.jobE0,
+      this.jobPz, w[2]!, w[5]!, sum[2]!, this.jobMz);
     const s = new Float64Array(JOB_HEAD + 2 * this.loglik.length);
     s.set(head, 0);
     s.set(this.loglik, JOB_HEAD);
@@ -1123,17 +1083,40 @@ export class ArmStep {
     return s;
   }
 
+  /**
+   * Restore a job snapshot; an older one of the planar job (JOB_HEAD_2D numbers, its window and
+   * mean in the cell frame) is taken into the moving frame at the job's position (the identity
+   * on the demo cell, whose frame is the cell's).
+   */
   private jobRestore(s: Float64Array | undefined): void {
-    if (!s || s.length !== JOB_HEAD + 2 * this.loglik.length) {
+    const nl = this.loglik.length;
+    const head = s === undefined ? 0 : s.length === JOB_HEAD + 2 * nl ? JOB_HEAD : s.length === JOB_HEAD_2D + 2 * nl ? JOB_HEAD_2D : 0;
+    if (s === undefined || head === 0) {
       this.jobKind = JOB_NONE;
       return;
     }
-    const j = Array.from(s.subarray(0, JOB_HEAD));
-    [this.jobKind, this.jobRole, this.jobStage, this.jobH, this.jobN, this.jobPx, this.jobPy, this.jobFx] = [j[0]!, j[1]!, j[2]!, j[3]!, j[4]!, j[5]!, j[6]!, j[7]!];
-    [this.jobFy, this.jobVx, this.jobVy, this.jobKnownA, this.jobKnownB, this.jobNeed, this.jobDoubt, this.jobSx] = [j[8]!, j[9]!, j[10]!, j[11]!, j[12]!, j[13]!, j[14]!, j[15]!];
-    [this.jobSy, this.jobK, this.jobMx, this.jobMy, this.jobTop, this.jobE1, this.jobE0] = [j[16]!, j[17]!, j[18]!, j[19]!, j[20]!, j[21]!, j[22]!];
-    this.loglik.set(s.subarray(JOB_HEAD, JOB_HEAD + this.loglik.length));
-    this.loglik2.set(s.subarray(JOB_HEAD + this.loglik.length));
+    const j = Array.from(s.subarray(0, head));
+    const w = this.jobW, sum = this.jobSum;
+    [this.jobKind, this.jobRole, this.jobStage, this.jobH, this.jobN, this.jobPx, this.jobPy] = [j[0]!, j[1]!, j[2]!, j[3]!, j[4]!, j[5]!, j[6]!];
+    [w[0], w[1], w[3], w[4]] = [j[7]!, j[8]!, j[9]!, j[10]!];
+    [this.jobKnownA, this.jobKnownB, this.jobNeed, this.jobDoubt] = [j[11]!, j[12]!, j[13]!, j[14]!];
+    [sum[0], sum[1], sum[3], this.jobMx, this.jobMy, this.jobTop, this.jobE1, this.jobE0] = [j[15]!, j[16]!, j[17]!, j[18]!, j[19]!, j[20]!, j[21]!, j[22]!];
+    if (head === JOB_HEAD) {
+      [this.jobPz, w[2], w[5], sum[2], this.jobMz] = [j[23]!, j[24]!, j[25]!, j[26]!, j[27]!];
+    } else {
+      const task = this.task, f = this.f3;
+      this.jobPz = 0;
+      task.locate(this.jobPx, this.jobPy, 0);
+      task.toFrame(w[0]!, w[1]!, 0, w, 0);
+      task.toFrame(w[3]!, w[4]!, 0, w, 3);
+      if (task.planar) w[2] = w[5] = 0;
+      task.toFrame(sum[0]!, sum[1]!, 0, f);
+      [sum[0], sum[1], sum[2]] = [f[0]!, f[1]!, f[2]!];
+      task.toFrame(this.jobMx, this.jobMy, 0, f);
+      [this.jobMx, this.jobMy, this.jobMz] = [f[0]!, f[1]!, f[2]!];
+    }
+    this.loglik.set(s.subarray(head, head + nl));
+    this.loglik2.set(s.subarray(head + nl, head + 2 * nl));
     this.retabulateJob();
   }
 
@@ -1170,8 +1153,9 @@ export class ArmStep {
   }
 }
 
-/** Numbers at the head of a job snapshot. */
-const JOB_HEAD = 23;
+/** Numbers at the head of a job snapshot; of the planar job's older snapshots. */
+const JOB_HEAD = 28;
+const JOB_HEAD_2D = 23;
 
 function logit(p: number): number {
   const q = Math.min(Math.max(p, 1e-12), 1 - 1e-12);

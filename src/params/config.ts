@@ -4,9 +4,11 @@
  */
 import { InputError, type Problem } from '../util/errors.js';
 import { loadParamsFile, resolveForArm, type ParamsFile } from './load.js';
+import { pathProblems } from './task-geometry.js';
 import type { ArmName, ParamValue, ResolvedValue } from './spec.js';
 
-export type ZoneShape = 'box' | 'circle';
+export type ZoneShape = 'box' | 'circle' | 'cylinder' | 'sphere';
+export type Detours = 'sideways' | 'over' | 'both';
 export type Observer = 'left' | 'right' | 'both';
 
 export interface ZoneConfig {
@@ -15,6 +17,16 @@ export interface ZoneConfig {
   readonly center_m: readonly [number, number];
   readonly size_m: readonly [number, number];
   readonly radius_m: number;
+  // The 3-D fields are optional so that zones built in code (tests, scenario families) keep
+  // working; a parameters file always gives them (schema defaults).
+  /** Box and cylinder: bottom and top height (cell frame). Default [0, 10]: floor to far above. */
+  readonly height_m?: readonly [number, number];
+  /** Sphere: centre height. Default 0. */
+  readonly center_z_m?: number;
+  /** Box: turn about the vertical (rad). Default 0. */
+  readonly yaw_rad?: number;
+  /** Allowed detours. Default sideways. */
+  readonly detours?: Detours;
   readonly observed_by: Observer;
   readonly kind: string;
 }
@@ -88,7 +100,13 @@ export interface PolicyParams {
 }
 
 export interface TaskParams {
-  readonly object: { readonly length_m: number; readonly mass_kg: number; readonly grasp_offset_m: number };
+  readonly object: { readonly length_m: number; readonly mass_kg: number; readonly grasp_offset_m: number; readonly radius_m?: number };
+  /**
+   * The nominal path: waypoints (x, y, z triples) and orientations (x, y, z, w per waypoint;
+   * empty: identity). Empty waypoints: the planar straight line start_m -> goal_m. With
+   * waypoints, start_m and goal_m are the first and last waypoint's x, y.
+   */
+  readonly path?: { readonly waypoints_m: readonly number[]; readonly orientations_xyzw: readonly number[] };
   readonly start_m: readonly [number, number];
   readonly goal_m: readonly [number, number];
   readonly goal_tolerance_m: number;
@@ -133,7 +151,14 @@ export function buildArmConfig(file: ParamsFile | undefined, arm: ArmName): Load
   const zones = Object.keys(zonesRec)
     .sort()
     .map((name) => ({ name, ...zonesRec[name]! }) as ZoneConfig);
-  const config = { arm, ...tree, task: { ...tree['task'], zones } } as unknown as ArmConfig;
+  const taskTree = { ...tree['task'], zones } as Record<string, any>;
+  // With waypoints, the start and the goal are the path's ends (x, y).
+  const wp = (taskTree['path']?.waypoints_m ?? []) as number[];
+  if (wp.length >= 6 && wp.length % 3 === 0) {
+    taskTree['start_m'] = [wp[0], wp[1]];
+    taskTree['goal_m'] = [wp[wp.length - 3], wp[wp.length - 2]];
+  }
+  const config = { arm, ...tree, task: taskTree } as unknown as ArmConfig;
   crossCheck(config, values);
   return { config, values };
 }
@@ -263,8 +288,11 @@ function crossCheck(c: ArmConfig, values: ReadonlyMap<string, ResolvedValue>): v
   if (hidden.length > 0 && c.policy.repulsion_gain_m_s === 0) {
     problems.push({ code: 'param.singular_speaker', message: 'policy.repulsion_gain_m_s = 0: the speaker\'s velocity would not depend on the zones it sees, so a listener could never infer them', where: where('policy.repulsion_gain_m_s'), hint: 'a positive gain' });
   }
+  const explicit = new Set([...values.values()].filter((v) => v.source.kind === 'file').map((v) => v.key));
+  problems.push(...pathProblems(c.task, where, explicit));
   const half = c.task.object.length_m / 2;
-  for (const z of c.task.zones) {
+  const planarTask = !c.task.path || c.task.path.waypoints_m.length === 0;
+  for (const z of planarTask ? c.task.zones : []) {
     for (const [label, p] of [['goal', c.task.goal_m], ['start', c.task.start_m]] as const) {
       if (segmentHitsZone(p[0], p[1] - half, p[1] + half, z)) {
         problems.push({ code: `param.zone_overlaps_${label}`, message: `zone '${z.name}' overlaps the object at the ${label} (${p[0]}, ${p[1]})`, where: where(`task.zones.${z.name}.center_m`), hint: `move the zone or the ${label} so the ${c.task.object.length_m} m object clears it` });

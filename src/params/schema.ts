@@ -18,6 +18,10 @@ const e = (key: string, def: string | undefined, choices: readonly string[], des
 const v = (key: string, unit: string, def: number[] | undefined, length: number, min: number, max: number, description: string): ParamSpec => ({
   key, type: 'double_array', unit, default: def, length, min, max, description,
 });
+/** A double array of any length (flat tuples: ROS 2 parameters have no nested arrays). */
+const va = (key: string, unit: string, def: number[], min: number, max: number, description: string): ParamSpec => ({
+  key, type: 'double_array', unit, default: def, min, max, description,
+});
 
 export const SCHEMA: readonly ParamSpec[] = [
   // ---- wrench filter -------------------------------------------------------------------
@@ -98,17 +102,24 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('policy.update_rate_hz', 'Hz', 100, 1, 8000, 'Rate at which the recommended velocity is recomputed (held between).'),
 
   // ---- task --------------------------------------------------------------------------------
-  d('task.object.length_m', 'm', 1.2, 0.05, 10, 'Length of the carried object (along the cell y axis, between the arms).'),
+  d('task.object.length_m', 'm', 1.2, 0.05, 10, 'Length of the carried object (along its own y axis, between the arms; the cell y axis unless task.path.orientations_xyzw turns it).'),
+  d('task.object.radius_m', 'm', 0, 0, 1, 'Radius of the capsule around the object\'s axis used for clearances (0: the axis alone, as a thin beam).'),
   d('task.object.mass_kg', 'kg', 2.4, 0.001, 500, 'Mass of the carried object.'),
   d('task.object.grasp_offset_m', 'm', 0.55, 0, 5, 'Grasp points at +offset (left) and -offset (right) along the object from its centre.'),
-  v('task.start_m', 'm', [0, 0], 2, -20, 20, 'Object centre at the pick stand (x, y in the cell frame).'),
-  v('task.goal_m', 'm', [1.6, 0], 2, -20, 20, 'Object centre at the fixture (x, y in the cell frame).'),
+  v('task.start_m', 'm', [0, 0], 2, -20, 20, 'Object centre at the pick stand (x, y in the cell frame). With task.path.waypoints_m: leave unset (the first waypoint).'),
+  v('task.goal_m', 'm', [1.6, 0], 2, -20, 20, 'Object centre at the fixture (x, y in the cell frame). Without task.path.waypoints_m the path is the straight line start_m to goal_m in the plane (heights are the cell\'s). With waypoints: leave unset (the last waypoint).'),
+  va('task.path.waypoints_m', 'm', [], -20, 20, 'The object centre\'s nominal path: x, y, z triples in the cell frame, at least two waypoints, no point repeated. Corners are rounded by the largest arc that fits in half the shorter leg. Empty: the straight line start_m to goal_m.'),
+  va('task.path.orientations_xyzw', '1', [], -1, 1, 'The object\'s orientation at each waypoint: x, y, z, w unit quaternions (four numbers per waypoint), slerped along the path; the object lies along its own y axis. Empty: the object along the cell y axis everywhere.'),
   d('task.goal_tolerance_m', 'm', 0.02, 0.0005, 1, 'The object is at the goal within this distance.'),
   d('task.time_limit_s', 's', 60, 1, 3600, 'Time allowed for the transfer (simulation and offline checks).'),
-  e('task.zones.*.shape', undefined, ['box', 'circle'], 'Keep-out zone shape.'),
+  e('task.zones.*.shape', undefined, ['box', 'circle', 'cylinder', 'sphere'], 'Keep-out zone shape: an oriented box, a vertical cylinder (circle is the same), a sphere.'),
   v('task.zones.*.center_m', 'm', undefined, 2, -20, 20, 'Zone centre (x, y in the cell frame).'),
-  v('task.zones.*.size_m', 'm', [0.2, 0.2], 2, 0.001, 20, 'Box zone extent (x, y). Ignored for circles.'),
-  d('task.zones.*.radius_m', 'm', 0.1, 0.001, 20, 'Circle zone radius. Ignored for boxes.'),
+  v('task.zones.*.size_m', 'm', [0.2, 0.2], 2, 0.001, 20, 'Box zone extent (x, y in the box\'s own frame). Ignored for other shapes.'),
+  d('task.zones.*.radius_m', 'm', 0.1, 0.001, 20, 'Cylinder (circle) or sphere radius. Ignored for boxes.'),
+  v('task.zones.*.height_m', 'm', [0, 10], 2, -20, 20, 'Box and cylinder: bottom and top height in the cell frame. Ignored for spheres.'),
+  d('task.zones.*.center_z_m', 'm', 0, -20, 20, 'Sphere: height of the centre in the cell frame. Ignored for other shapes.'),
+  d('task.zones.*.yaw_rad', 'rad', 0, -6.3, 6.3, 'Box: turn about the vertical (its x axis at this angle from the cell x axis). Ignored for other shapes.'),
+  e('task.zones.*.detours', 'sideways', ['sideways', 'over', 'both'], 'How the object may pass the zone when occupied: sideways (normal to the path in the horizontal plane), over (lifted), or either (the cheaper). Over needs a path with heights (task.path.waypoints_m).'),
   e('task.zones.*.observed_by', undefined, ['left', 'right', 'both'], 'Which arm\'s area sensor sees the zone.'),
   e('task.zones.*.kind', 'clamp_post', ['clamp_post', 'cable_tray', 'other'], 'What may stand there (for reports).'),
 

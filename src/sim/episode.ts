@@ -22,6 +22,7 @@ import { applyStrategy, strategyLabel, type StrategySpec } from './strategies.js
 import { BeliefTiming, beliefTimingSummary, countFalseImpactHolds, type BeliefTimingSummary, type BeliefTimingSums } from './belief-timing.js';
 import { segmentHitsZone } from '../params/config.js';
 import { checkTaskForCell, sampleWorld, type ArmSide, type Knock, type World } from './world.js';
+import { isPlanar } from '../params/task-geometry.js';
 
 export type EndReason = 'success' | 'time_limit' | 'stall' | 'hold';
 
@@ -159,6 +160,11 @@ export interface EpisodeResult {
 /** Problems that must stop a run before any simulation starts. */
 export function checkEpisodeSetup(left: ArmConfig, options: SimOptions): Problem[] {
   const out = checkTaskForCell(left.task, options);
+  if (!isPlanar(left.task)) {
+    // The MuJoCo cell drives its carriages in the horizontal plane and holds their height with
+    // springs; it cannot follow a path with heights or turns yet (the kinematic cell can).
+    out.push({ code: 'sim.path_not_planar', message: 'the simulated MuJoCo cell moves the beam in the horizontal plane only, so it cannot run a task with task.path.waypoints_m (heights and turns)', where: { key: 'task.path.waypoints_m' }, hint: 'give the task as task.start_m and task.goal_m for the MuJoCo cell; 3-D paths run in the kinematic cell (src/sim/kinematic-cell.ts, test/sim/path-facts.test.ts)' });
+  }
   const rate = left.wrench_filter.sample_rate_hz;
   const every = 1 / (rate * options.timestep_s);
   if (Math.abs(every - Math.round(every)) > 1e-9 || Math.round(every) < 1) {

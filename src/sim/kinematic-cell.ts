@@ -6,10 +6,18 @@
  * rigid and massless here, so both tools move with it and the forces are internal:
  * f_left = -f_right = D (v_right - v_left) / 2, i.e. the coupling the step assumes with
  * c = D / 2. Gravity on the beam adds a constant -m g / 2 on each wrist z (tared away).
+ *
+ * On a task with a 3-D path (task.path.waypoints_m) the beam also moves vertically and turns
+ * with the arms' angular twist (their mean); each tool's frame is the beam's, so the wrenches
+ * are given in that frame, and a collision is the beam's capsule touching an occupied zone.
+ * On a planar task the beam stays at 0.9 m, unturned, as before.
  */
 import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../core/arm-step.js';
 import { CHECKS } from '../core/watchdog.js';
 import type { ArmConfig } from '../params/config.js';
+import { rotateByQuat } from '../geometry/path.js';
+import { segmentSolidDistance } from '../geometry/solids.js';
+import { isPlanar, taskPath, zoneSolid } from '../params/task-geometry.js';
 import { Rng } from '../util/rng.js';
 import { EpisodeMeasures, type EpisodeMeasureSummary, type InjectHold } from './measures.js';
 
@@ -89,17 +97,37 @@ export function runKinematicCell(
   const viewR = viewOf('right');
   let px = left.task.start_m[0];
   let py = left.task.start_m[1];
+  const planar = isPlanar(left.task);
+  const path = taskPath(left.task);
+  path.locate(0);
+  path.orientationAt(0);
+  let pz = planar ? 0.9 : path.pos[2]!;
+  if (!planar) {
+    px = path.pos[0]!;
+    py = path.pos[1]!;
+  }
+  // Beam orientation (x, y, z, w) and its axis (the beam's y) in the cell frame.
+  const q = Float64Array.from(planar ? [0, 0, 0, 1] : path.q);
+  const ax = Float64Array.of(0, 1, 0);
+  const fc = new Float64Array(3);
+  const fs3 = new Float64Array(3);
+  const qi = new Float64Array(4);
+  path.locate(path.length);
+  const goal3 = [path.pos[0]!, path.pos[1]!, path.pos[2]!];
+  const solids = left.task.zones.map((z) => zoneSolid(z, false));
+  const half = left.task.object.length_m / 2;
+  const radius = left.task.object.radius_m ?? 0;
   const off = left.task.object.grasp_offset_m;
   const halfWeight = (-left.task.object.mass_kg * 9.80665) / 2;
   const jointEvery = opts.jointEvery ?? 2;
   const poseEvery = opts.poseEvery ?? 1;
   const jl = new Float64Array(3), jr = new Float64Array(3), vl = new Float64Array(3);
-  let vx = 0, vy = 0;
+  let vx = 0, vy = 0, vz = 0;
   let reached = false;
   const t0 = opts.t0_s ?? 0;
   const wl = new Float64Array(6);
   const wr = new Float64Array(6);
-  let fL = 0, fLy = 0;
+  let fL = 0, fLy = 0, fLz = 0;
   const trueHypL = hypIndex(L, occupied);
   const trueHypR = hypIndex(R, occupied);
   const run: CellRun = { success: false, collided: false, time_s: opts.duration_s, peakInternalN: 0, trips: { left: [], right: [] }, trace: [] };
@@ -119,15 +147,22 @@ export function runKinematicCell(
     }
     // The arms see exactly what their drivers publish (so a recorded bag replays the same).
     if (k % poseEvery === 0) {
-      L.setToolPose(t, px, py + off, 0.9, 0, 0, 0, 1);
-      R.setToolPose(t, px, py - off, 0.9, 0, 0, 0, 1);
-      rec?.toolPose('left', t, px, py + off, 0.9);
-      rec?.toolPose('right', t, px, py - off, 0.9);
+      if (planar) {
+        L.setToolPose(t, px, py + off, 0.9, 0, 0, 0, 1);
+        R.setToolPose(t, px, py - off, 0.9, 0, 0, 0, 1);
+        rec?.toolPose('left', t, px, py + off, 0.9);
+        rec?.toolPose('right', t, px, py - off, 0.9);
+      } else {
+        L.setToolPose(t, px + off * ax[0]!, py + off * ax[1]!, pz + off * ax[2]!, q[0]!, q[1]!, q[2]!, q[3]!);
+        R.setToolPose(t, px - off * ax[0]!, py - off * ax[1]!, pz - off * ax[2]!, q[0]!, q[1]!, q[2]!, q[3]!);
+        rec?.toolPose('left', t, px + off * ax[0]!, py + off * ax[1]!, pz + off * ax[2]!);
+        rec?.toolPose('right', t, px - off * ax[0]!, py - off * ax[1]!, pz - off * ax[2]!);
+      }
     }
     if (k % jointEvery === 0) {
       // Tool-point arms: three slide joints x, y, z at the tool velocity.
-      jl[0] = px; jl[1] = py + off; jl[2] = 0.9; vl[0] = vx; vl[1] = vy; vl[2] = 0;
-      jr[0] = px; jr[1] = py - off; jr[2] = 0.9;
+      jl[0] = px + off * ax[0]!; jl[1] = py + off * ax[1]!; jl[2] = planar ? 0.9 : pz + off * ax[2]!; vl[0] = vx; vl[1] = vy; vl[2] = vz;
+      jr[0] = px - off * ax[0]!; jr[1] = py - off * ax[1]!; jr[2] = planar ? 0.9 : pz - off * ax[2]!;
       L.setJointState(t, vl, 3);
       R.setJointState(t, vl, 3);
       rec?.jointState('left', t, jl, vl);
@@ -135,8 +170,17 @@ export function runKinematicCell(
     }
     // The disturbance starts after the start-up tare (a still beam at the pick stand).
     for (let j = 0; j < 4; j++) ou[j] = tr < 1 ? 0 : ouA * ou[j]! + ouB * rng.normal();
-    wl[0] = fL + ou[0]! + noise * rng.normal(); wl[1] = fLy + ou[1]! + noise * rng.normal(); wl[2] = halfWeight + noise * rng.normal();
-    wr[0] = -fL + ou[2]! + noise * rng.normal(); wr[1] = -fLy + ou[3]! + noise * rng.normal(); wr[2] = halfWeight + noise * rng.normal();
+    if (planar) {
+      wl[0] = fL + ou[0]! + noise * rng.normal(); wl[1] = fLy + ou[1]! + noise * rng.normal(); wl[2] = halfWeight + noise * rng.normal();
+      wr[0] = -fL + ou[2]! + noise * rng.normal(); wr[1] = -fLy + ou[3]! + noise * rng.normal(); wr[2] = halfWeight + noise * rng.normal();
+    } else {
+      // Cell-frame forces into the tool (beam) frame: R(q)^T f.
+      qi[0] = -q[0]!; qi[1] = -q[1]!; qi[2] = -q[2]!; qi[3] = q[3]!;
+      rotateByQuat(qi, fL + ou[0]!, fLy + ou[1]!, fLz + halfWeight, fs3);
+      wl[0] = fs3[0]! + noise * rng.normal(); wl[1] = fs3[1]! + noise * rng.normal(); wl[2] = fs3[2]! + noise * rng.normal();
+      rotateByQuat(qi, -fL + ou[2]!, -fLy + ou[3]!, -fLz + halfWeight, fs3);
+      wr[0] = fs3[0]! + noise * rng.normal(); wr[1] = fs3[1]! + noise * rng.normal(); wr[2] = fs3[2]! + noise * rng.normal();
+    }
     for (let a = 3; a < 6; a++) { wl[a] = 0.02 * rng.normal(); wr[a] = 0.02 * rng.normal(); }
     const kn = opts.knock;
     if (kn && tr >= kn.t_s && tr < kn.t_s + kn.duration_s) {
@@ -157,7 +201,8 @@ export function runKinematicCell(
     // Rigid beam between two admittances.
     fL = (D * (oR.twist[0]! - oL.twist[0]!)) / 2;
     fLy = (D * (oR.twist[1]! - oL.twist[1]!)) / 2;
-    const fi = Math.hypot(fL, fLy);
+    fLz = planar ? 0 : (D * (oR.twist[2]! - oL.twist[2]!)) / 2;
+    const fi = Math.sqrt(fL * fL + fLy * fLy + fLz * fLz);
     if (fi > run.peakInternalN) {
       run.peakInternalN = fi;
       run.peakInternalT = tr;
@@ -166,10 +211,35 @@ export function runKinematicCell(
     vy = (oL.twist[1]! + oR.twist[1]!) / 2;
     px += dt * vx;
     py += dt * vy;
+    if (!planar) {
+      vz = (oL.twist[2]! + oR.twist[2]!) / 2;
+      pz += dt * vz;
+      // Turn the beam by the mean angular twist: q <- exp(w dt / 2) q.
+      const wx = (oL.twist[3]! + oR.twist[3]!) / 2, wy = (oL.twist[4]! + oR.twist[4]!) / 2, wz = (oL.twist[5]! + oR.twist[5]!) / 2;
+      const wn = Math.sqrt(wx * wx + wy * wy + wz * wz);
+      if (wn > 0) {
+        const h = (wn * dt) / 2, sh = Math.sin(h) / wn, ch = Math.cos(h);
+        const rx = wx * sh, ry = wy * sh, rz = wz * sh;
+        const x = q[0]!, y = q[1]!, zq = q[2]!, w = q[3]!;
+        q[0] = ch * x + rx * w + ry * zq - rz * y;
+        q[1] = ch * y - rx * zq + ry * w + rz * x;
+        q[2] = ch * zq + rx * y - ry * x + rz * w;
+        q[3] = ch * w - rx * x - ry * y - rz * zq;
+      }
+      rotateByQuat(q, 0, 1, 0, fc);
+      ax.set(fc);
+    }
     measures.sample(tr, oL, oR, px, py);
-    for (let z = 0; z < zones.length; z++) if (occupied[z] && L.task.objectTouches(z, px, py)) run.collided = true;
+    if (planar) {
+      for (let z = 0; z < zones.length; z++) if (occupied[z] && L.task.objectTouches(z, px, py)) run.collided = true;
+    } else {
+      for (let z = 0; z < zones.length; z++) {
+        if (occupied[z] && segmentSolidDistance(px - half * ax[0]!, py - half * ax[1]!, pz - half * ax[2]!, px + half * ax[0]!, py + half * ax[1]!, pz + half * ax[2]!, solids[z]!) <= radius) run.collided = true;
+      }
+    }
     if (k % 10 === 0) run.trace.push({ t: t - t0, leftTrue: oL.belief[trueHypL]!, rightTrue: oR.belief[trueHypR]!, x: px, y: py });
-    if (!reached && Math.hypot(px - left.task.goal_m[0], py - left.task.goal_m[1]) < left.task.goal_tolerance_m) {
+    const toGoal = planar ? Math.hypot(px - left.task.goal_m[0], py - left.task.goal_m[1]) : Math.hypot(px - goal3[0]!, py - goal3[1]!, pz - goal3[2]!);
+    if (!reached && toGoal < left.task.goal_tolerance_m) {
       reached = true;
       run.success = !run.collided;
       run.time_s = t - t0;

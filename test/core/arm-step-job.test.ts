@@ -4,14 +4,17 @@
  * 16-zone variant of it with 256 hypotheses per arm).
  *
  * The oracle is the one-shot computation the arm step ran before the job existed, kept here
- * verbatim (scoreSpeaker / updateBelief / updateReplica), applied to a copy of the arm restored
- * from a snapshot taken when the job started: the job's result must equal it bit for bit,
- * however the job is cut into parts.
+ * verbatim in its moving-frame form (windowInFrame / scoreSpeaker / updateBelief /
+ * updateReplica), applied to a copy of the arm restored from a snapshot taken when the job
+ * started: the job's result must equal it bit for bit, however the job is cut into parts. The
+ * cells: the demo cell, a 16-zone variant, the worked 3-D example (examples/path_cell.yaml) and
+ * the bench's 50-waypoint 3-D path with 256 hypotheses (bench/pipeline.ts).
  */
 import fc from 'fast-check';
 import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
 import { describe, expect, it } from 'vitest';
+import { configPath } from '../../bench/pipeline.js';
 import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../../src/core/arm-step.js';
 import { LISTENER, SPEAKER } from '../../src/core/roles.js';
 import { SubsetTable } from '../../src/core/task-model.js';
@@ -55,57 +58,78 @@ interface Inside {
   jobRole: number;
   jobPx: number;
   jobPy: number;
-  jobFx: number;
-  jobFy: number;
-  jobVx: number;
-  jobVy: number;
+  jobPz: number;
+  beliefEvery: number;
+  accFx: number;
+  accFy: number;
+  accFz: number;
+  accVx: number;
+  accVy: number;
+  accVz: number;
   zoneState: Uint8Array;
   out: ArmStep['out'];
+  policy: ArmStep['policy'];
   v2: Float64Array;
   runJob(budget: number): void;
-  startJob(role: number, px: number, py: number): void;
-  legible(table: SubsetTable, h: number, mx: number, my: number): void;
-  legMean(table: SubsetTable, list: Int32Array, committed: number): void;
+  startJob(role: number, px: number, py: number, pz: number): void;
   observedMask(indices: Int32Array): number;
 }
 const inside = (s: ArmStep) => s as unknown as Inside;
 
-/** The one-shot updates as they were (verbatim but for `this`), on the job's snapshot inputs. */
+/**
+ * The one-shot updates as they were (verbatim but for `this`), on the job's snapshot inputs: the
+ * object position the job started at and the window's sums as accumulated then (a restored copy
+ * holds both), taken into the moving frame after the prepare, as the one-shot code did.
+ */
 function oneShot(a: Inside): void {
   const task = a.task;
-  const px = a.jobPx, py = a.jobPy;
+  const px = a.jobPx, py = a.jobPy, pz = a.jobPz;
   const k = a.likelihoodScale / (2 * a.config.belief.noise_force_n ** 2);
   const c = a.config.coupling.damping_n_s_m;
   const loglik = new Float64Array(Math.max(a.hypotheses, a.replica.n));
   const loglik2 = new Float64Array(loglik.length);
+  const wf = new Float64Array(6);
+  const windowInFrame = () => {
+    const n = a.beliefEvery;
+    const w = wf;
+    const planar = task.planar;
+    task.toFrame(a.accFx / n, a.accFy / n, planar ? 0 : a.accFz / n, w, 0);
+    task.toFrame(a.accVx / n, a.accVy / n, planar ? 0 : a.accVz / n, w, 3);
+    if (planar) w[2] = w[5] = 0;
+  };
   if (a.jobKind === 2) {
-    task.prepare(px, py);
-    const vx = a.jobVx, vy = a.jobVy;
+    task.prepare(px, py, pz);
+    windowInFrame();
+    const vx = wf[3]!, vy = wf[4]!, vz = wf[5]!;
     const known = a.observedMask(task.shared) | a.committedHidden;
     const table = new SubsetTable(task.own.length);
     task.tabulate(task.own, known, table);
-    a.legMean(table, task.own, a.committedOwn);
-    const mx = a.v2[0]!, my = a.v2[1]!;
+    a.policy.legMean(table, task.own, a.committedOwn);
+    const mx = a.v2[0]!, my = a.v2[1]!, mz = a.v2[2]!;
     for (let h = 0; h < a.replica.n; h++) {
-      a.legible(table, h, mx, my);
+      a.policy.legible(table, h, mx, my, mz);
       const rx = c * (vx - a.v2[0]!);
       const ry = c * (vy - a.v2[1]!);
-      loglik[h] = -(rx * rx + ry * ry) * k;
+      const rz = c * (vz - a.v2[2]!);
+      loglik[h] = -(rx * rx + ry * ry + rz * rz) * k;
     }
     a.replica.update(loglik, a.config.belief.forgetting);
     return;
   }
-  const fx = a.jobFx, fy = a.jobFy, vx = a.jobVx, vy = a.jobVy;
+  task.prepare(px, py, pz);
+  windowInFrame();
   const score = (table: SubsetTable, kn: number, into: Float64Array) => {
-    task.prepare(px, py);
     task.tabulate(task.hidden, kn, table);
-    a.legMean(table, task.hidden, a.committedHidden);
-    const mx = a.v2[0]!, my = a.v2[1]!;
+    a.policy.legMean(table, task.hidden, a.committedHidden);
+    const mx = a.v2[0]!, my = a.v2[1]!, mz = a.v2[2]!;
+    const w = wf;
+    const ft = w[0]!, fl = w[1]!, fv = w[2]!, vt = w[3]!, vl = w[4]!, vv = w[5]!;
     for (let h = 0; h < a.hypotheses; h++) {
-      a.legible(table, h, mx, my);
-      const rx = fx - c * (a.v2[0]! - vx);
-      const ry = fy - c * (a.v2[1]! - vy);
-      into[h] = -(rx * rx + ry * ry) * k;
+      a.policy.legible(table, h, mx, my, mz);
+      const rx = ft - c * (a.v2[0]! - vt);
+      const ry = fl - c * (a.v2[1]! - vl);
+      const rz = fv - c * (a.v2[2]! - vv);
+      into[h] = -(rx * rx + ry * ry + rz * rz) * k;
     }
   };
   const known = a.observedMask(task.shared) | a.committedOwn;
@@ -188,10 +212,11 @@ function armAt(cfg: ArmConfig, seed: number, samples: number): { s: ArmStep; t: 
 
 describe('the 100 Hz job', () => {
   it('equals the one-shot update bit for bit, however it is cut into parts (property)', () => {
-    const cfgs = [cell.left.config, cell.right.config, config256().left, config256().right];
+    const pathCell = loadCell('examples/path_cell.yaml');
+    const cfgs = [cell.left.config, cell.right.config, config256().left, config256().right, pathCell.left.config, pathCell.right.config, configPath().left, configPath().right];
     fc.assert(
       fc.property(
-        fc.integer({ min: 0, max: 3 }),
+        fc.integer({ min: 0, max: 7 }),
         fc.integer({ min: 1, max: 1_000_000 }),
         fc.boolean(),
         fc.double({ min: 0.03, max: 0.97, noNaN: true }),
@@ -214,11 +239,19 @@ describe('the 100 Hz job', () => {
           a.replica.setPrior(Array.from({ length: a.replica.n }, () => 0.05 + rng.uniform()));
           for (const role of [LISTENER, SPEAKER]) {
             // Start a job on this window (the means as accumulated so far), copy the arm.
-            (s as unknown as { accFx: number; accFy: number; accVx: number; accVy: number }).accFx = 30 * (rng.uniform() - 0.5);
-            (s as unknown as { accFy: number }).accFy = 30 * (rng.uniform() - 0.5);
-            (s as unknown as { accVx: number }).accVx = 1.5 * rng.uniform();
-            (s as unknown as { accVy: number }).accVy = 0.5 * (rng.uniform() - 0.5);
-            a.startJob(role, 0.1 + 1.2 * rng.uniform(), 0.2 * (rng.uniform() - 0.5));
+            a.accFx = 30 * (rng.uniform() - 0.5);
+            a.accFy = 30 * (rng.uniform() - 0.5);
+            a.accFz = 30 * (rng.uniform() - 0.5);
+            a.accVx = 1.5 * rng.uniform();
+            a.accVy = 0.5 * (rng.uniform() - 0.5);
+            a.accVz = 0.5 * (rng.uniform() - 0.5);
+            if (a.task.planar) a.startJob(role, 0.1 + 1.2 * rng.uniform(), 0.2 * (rng.uniform() - 0.5), 0.9);
+            else {
+              // Near a random point of the 3-D path (its frame turns and tilts there).
+              const path = a.task.path;
+              path.locate(path.length * rng.uniform());
+              a.startJob(role, path.pos[0]! + 0.2 * (rng.uniform() - 0.5), path.pos[1]! + 0.2 * (rng.uniform() - 0.5), path.pos[2]! + 0.2 * (rng.uniform() - 0.5));
+            }
             const ref = new ArmStep(cfg, { jointCount: 3 });
             ref.restore(s.snapshot());
             oneShot(inside(ref));
@@ -232,7 +265,7 @@ describe('the 100 Hz job', () => {
     );
   });
 
-  it('a snapshot taken mid-job (restore, applyParams) gives the same continuation, every output, every sample', () => {
+  it('a snapshot taken mid-job (restore, applyParams, an older planar job snapshot) gives the same continuation, every output, every sample', () => {
     const { left } = config256();
     const sig = (s: ArmStep) => JSON.stringify([state(s), Array.from(s.out.twist), s.out.beliefUpdated, s.out.committedHidden, s.out.committedOwn]);
     for (const seed of [3, 4]) {
@@ -262,13 +295,25 @@ describe('the 100 Hz job', () => {
       changed.restore(base.snapshot());
       changed.applyParams(left);
       expect(inside(changed).jobKind).toBe(a.jobKind);
-      const r1 = new Rng(99), r2 = new Rng(99), r3 = new Rng(99);
+      // An older snapshot of the planar job (23 numbers, its window in the cell frame, which is
+      // the moving frame on this straight path along x) continues the same way.
+      const snap = base.snapshot();
+      const nl = (snap.job.length - 28) / 2;
+      const oldJob = new Float64Array(23 + 2 * nl);
+      oldJob.set(snap.job.subarray(0, 23), 0);
+      oldJob.set(snap.job.subarray(28), 23);
+      const older = new ArmStep(left, { jointCount: 3 });
+      older.restore({ ...snap, job: oldJob });
+      expect(inside(older).jobKind).toBe(a.jobKind);
+      const r1 = new Rng(99), r2 = new Rng(99), r3 = new Rng(99), r4 = new Rng(99);
       for (let j = 0; j < 700; j++) {
         feed(base, k + j, r1);
         feed(copy, k + j, r2);
         feed(changed, k + j, r3);
+        feed(older, k + j, r4);
         expect(sig(copy)).toBe(sig(base));
         expect(sig(changed)).toBe(sig(base));
+        expect(sig(older)).toBe(sig(base));
       }
     }
   });

@@ -20,7 +20,7 @@ function cellProblems(text: string): { file: string; problems: Problem[] } {
   return { file, problems: problemsOf(() => loadCell(file)) };
 }
 
-const ZONE_KEYS = ['shape', 'center_m', 'size_m', 'radius_m', 'observed_by', 'kind'];
+const ZONE_KEYS = ['shape', 'center_m', 'size_m', 'radius_m', 'height_m', 'center_z_m', 'yaw_rad', 'detours', 'observed_by', 'kind'];
 
 describe('the demo cell file', () => {
   const cell = loadCell(DEMO);
@@ -33,7 +33,7 @@ describe('the demo cell file', () => {
     expect(cell.right.config.roles.phase).toBe(1);
     expect(cell.left.config.task.zones.map((z) => z.name)).toEqual(['clamp_post', 'tray_drop']);
     expect(cell.left.config.task).toEqual(cell.right.config.task);
-    expect(cell.left.config.task.zones[0]).toEqual({ name: 'clamp_post', shape: 'circle', center_m: [0.6, 0.5], size_m: [0.2, 0.2], radius_m: 0.08, observed_by: 'left', kind: 'clamp_post' });
+    expect(cell.left.config.task.zones[0]).toEqual({ name: 'clamp_post', shape: 'circle', center_m: [0.6, 0.5], size_m: [0.2, 0.2], radius_m: 0.08, height_m: [0, 10], center_z_m: 0, yaw_rad: 0, detours: 'sideways', observed_by: 'left', kind: 'clamp_post' });
     expect(cell.left.config.task.zones[1]).toMatchObject({ name: 'tray_drop', shape: 'box', center_m: [1.1, -0.5], size_m: [0.24, 0.16], observed_by: 'right', kind: 'cable_tray' });
     expect(cell.left.config.watchdog.linear_speed_limit_m_s).toBe(0.25); // ISO 10218-1 reduced speed 250 mm/s, from memory (as the file says)
   });
