@@ -2,6 +2,7 @@
 import { join } from 'node:path';
 import type { Command } from 'commander';
 import { progressBar } from './progress.js';
+import { logger } from '../util/log.js';
 import type { ArmSummary } from '../replay/summary.js';
 import { changedParams } from '../params/diff.js';
 import { openBag } from '../bag/index.js';
@@ -67,7 +68,8 @@ export function register(program: Command): void {
         if (bad.length) throw new InputError({ code: 'cli.bad_remap', message: `malformed --remap ${bad.join(', ')}`, where: { option: '--remap' }, hint: 'write from:=to, e.g. /left/wrench:=/ft_left/wrench' });
         const startS = numberOption('--start', opts.start, 0, 1e9);
         const endS = numberOption('--end', opts.end, 0, 1e9);
-        if (opts.params === undefined) process.stderr.write('replay: no --params given, using the built-in default of every parameter (no keep-out zones: the belief has nothing to infer); pass --params <file> with the cell\'s parameters\n');
+        // A note on stderr through the logger: readable on a terminal, a JSON line otherwise.
+        if (opts.params === undefined) logger('replay').info({ code: 'replay.default_params', hint: "pass --params <file> with the cell's parameters" }, 'replay: no --params given, using the built-in default of every parameter (no keep-out zones: the belief has nothing to infer)');
         const cell = loadCell(opts.params);
         const storage = storageOption(opts.storage);
         // --out is checked before any work; names in the expectations are checked at load.

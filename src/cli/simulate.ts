@@ -14,6 +14,7 @@ import type { CommitmentSummary, PartnerHoldSummary } from '../sim/measures.js';
 import { ARM_MODELS, type ArmModel, type InjectHold, type SimOptionsOverrides } from '../sim/options.js';
 import { PERIODIC, parseStrategy, type StrategySpec } from '../sim/strategies.js';
 import { InputError } from '../util/errors.js';
+import { logger } from '../util/log.js';
 import { simulateSummaryJson } from '../sim/summary-json.js';
 import { tripText } from '../core/trip-text.js';
 import { interruptExitCode, interruptedFields, watchInterrupts } from '../util/interrupt.js';
@@ -44,7 +45,7 @@ export async function writeEpisodeArtifacts(dir: string, result: EpisodeResult, 
  */
 export function resolveParams(command: string, given: string | undefined): string {
   if (given !== undefined) return given;
-  process.stderr.write(demoCellNote(command) + '\n');
+  logger('sim').info({ code: 'sim.demo_cell' }, demoCellNote(command));
   return demoCellPath();
 }
 

