@@ -1,7 +1,7 @@
 /**
  * Every example in the README runs as written, twice (the second run must work too: examples
  * write into their own folders with --overwrite), and prints something. A line in a ```sh block
- * that starts with `npx antiphon` is an example; `# exit N` at its end declares another exit
+ * (or a ```console block, after its `$ ` prompt) that starts with `npx antiphon` is an example; `# exit N` at its end declares another exit
  * code than 0, and `# needs ROS 2` marks one that only a ROS 2 host can run (skipped here, run by
  * the opt-in host suite). `npx antiphon` is run as `node dist/src/cli/main.js` (what npx runs).
  * Our own behaviour, no outside reference.
@@ -23,10 +23,19 @@ export interface Example {
 export function readmeExamples(text: string): Example[] {
   const out: Example[] = [];
   let inSh = false;
-  text.split('\n').forEach((raw, k) => {
-    const line = raw.trim();
+  // A line ending in a backslash goes on on the next one, as in a shell.
+  const lines = text.split('\n');
+  lines.forEach((raw, k) => {
+    // In a console block the command follows the prompt.
+    let line = raw.trim().replace(/^\$\s+(?=npx antiphon)/, '');
+    if (line.endsWith('\\') && inSh && line.startsWith('npx antiphon')) {
+      for (let j = k + 1; j < lines.length && line.endsWith('\\'); j++) {
+        line = line.slice(0, -1).trimEnd() + ' ' + lines[j]!.trim();
+        lines[j] = '';
+      }
+    }
     if (line.startsWith('```')) {
-      inSh = !inSh && /^```(sh|bash|shell)\b/.test(line);
+      inSh = !inSh && /^```(sh|bash|shell|console)\b/.test(line);
       return;
     }
     if (!inSh || !line.startsWith('npx antiphon')) return;
