@@ -9,10 +9,10 @@
  * column, and what is allowed; all problems are reported at once and nothing is half-applied.
  */
 import { closest } from 'fastest-levenshtein';
-import { isMap, isScalar, isSeq, LineCounter, type Node, type Pair } from 'yaml';
+import { isMap, isScalar, isSeq, type Node, type Pair } from 'yaml';
 import { InputError, type Problem } from '../util/errors.js';
 import { INPUT_LIMITS, readInputText } from '../util/read-input.js';
-import { parseYamlDocument } from '../util/yaml.js';
+import { parseYamlInput } from '../util/yaml.js';
 import { SCHEMA, specFor } from './schema.js';
 import { ARMS, type ArmName, type ParamSpec, type ParamValue, type ResolvedValue, type ValueSource } from './spec.js';
 
@@ -52,20 +52,8 @@ export function loadParamsFile(path: string): ParamsFile {
 
 /** Parse parameters-file text (exposed for tests and for the ROS adapter). */
 export function parseParamsText(text: string, path: string): ParamsFile {
-  const lc = new LineCounter();
-  const doc = parseYamlDocument(text, { lineCounter: lc, intAsBigInt: true, uniqueKeys: true, prettyErrors: false });
+  const { doc, at } = parseYamlInput(text, path, 'param.yaml_syntax', { intAsBigInt: true, uniqueKeys: true });
   const problems: Problem[] = [];
-  const at = (node: Node | Pair | null | undefined): { file: string; line?: number; column?: number } => {
-    const range = (node as { range?: [number, number, number] } | null | undefined)?.range;
-    if (!range) return { file: path };
-    const pos = lc.linePos(range[0]);
-    return { file: path, line: pos.line, column: pos.col };
-  };
-  for (const err of doc.errors) {
-    const pos = lc.linePos(err.pos[0]);
-    problems.push({ code: 'param.yaml_syntax', message: `YAML syntax: ${err.message.split('\n')[0]}`, where: { file: path, line: pos.line, column: pos.col } });
-  }
-  if (problems.length) throw new InputError(problems);
 
   const sections = new Map<SectionName, Map<string, FileEntry>>();
   const root = doc.contents;

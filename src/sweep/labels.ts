@@ -21,11 +21,11 @@
  */
 import { basename } from 'node:path';
 import { closest } from 'fastest-levenshtein';
-import { isMap, isScalar, isSeq, LineCounter, type Node } from 'yaml';
+import { isMap, isScalar, isSeq, type Node } from 'yaml';
 import { loadExpectations } from '../replay/expect.js';
 import { InputError, type Place, type Problem } from '../util/errors.js';
 import { INPUT_LIMITS, readInputText } from '../util/read-input.js';
-import { parseYamlDocument } from '../util/yaml.js';
+import { parseYamlInput } from '../util/yaml.js';
 
 export const LABEL_KINDS = ['impact', 'push'] as const;
 export type LabelKind = (typeof LABEL_KINDS)[number];
@@ -130,20 +130,8 @@ export function parseLabelsCsv(text: string, path: string): Labels {
 }
 
 export function parseLabelsYaml(text: string, path: string): Labels {
-  const lc = new LineCounter();
-  const doc = parseYamlDocument(text, { lineCounter: lc, prettyErrors: false });
+  const { doc, at } = parseYamlInput(text, path, 'labels.yaml_syntax');
   const problems: Problem[] = [];
-  const at = (node: unknown): Place => {
-    const range = (node as { range?: [number, number, number] } | null | undefined)?.range;
-    if (!range) return { file: path };
-    const p = lc.linePos(range[0]);
-    return { file: path, line: p.line, column: p.col };
-  };
-  for (const err of doc.errors) {
-    const p = lc.linePos(err.pos[0]);
-    problems.push({ code: 'labels.yaml_syntax', message: `YAML syntax: ${err.message.split('\n')[0]}`, where: { file: path, line: p.line, column: p.col } });
-  }
-  if (problems.length) throw new InputError(problems);
   const root = doc.contents;
   const FORMAT = 'version: 1, tolerance_s (optional), events: a list of { t_s, kind, arm, bag, end_s }';
   if (!isMap(root)) throw new InputError({ code: 'labels.not_a_map', message: 'a labels file is a map', where: at(root), hint: FORMAT });

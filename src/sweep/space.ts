@@ -24,7 +24,7 @@
  * checks (`cellFromFile`). Every problem names the space file, line and column.
  */
 import { closest } from 'fastest-levenshtein';
-import { isMap, isScalar, isSeq, LineCounter, type Node } from 'yaml';
+import { isMap, isScalar, isSeq, type Node } from 'yaml';
 import { cellFromFile, type ArmConfig } from '../params/config.js';
 import { describeAllowed, type ParamsFile, type SectionName } from '../params/load.js';
 import { SCHEMA, SPEC_BY_KEY } from '../params/schema.js';
@@ -32,7 +32,7 @@ import type { ParamSpec, ParamValue } from '../params/spec.js';
 import { InputError, type Place, type Problem } from '../util/errors.js';
 import { readInputText } from '../util/read-input.js';
 import { Rng } from '../util/rng.js';
-import { parseYamlDocument } from '../util/yaml.js';
+import { parseYamlInput } from '../util/yaml.js';
 
 export const SPACE_LIMIT_BYTES = 4 * 1024 * 1024;
 export const DEFAULT_MAX_CANDIDATES = 10_000;
@@ -79,20 +79,8 @@ export function loadSpace(path: string): Space {
 }
 
 export function parseSpace(text: string, path: string): Space {
-  const lc = new LineCounter();
-  const doc = parseYamlDocument(text, { lineCounter: lc, intAsBigInt: true, prettyErrors: false });
+  const { doc, at } = parseYamlInput(text, path, 'space.yaml_syntax', { intAsBigInt: true });
   const problems: Problem[] = [];
-  const at = (node: unknown): Place => {
-    const range = (node as { range?: [number, number, number] } | null | undefined)?.range;
-    if (!range) return { file: path };
-    const p = lc.linePos(range[0]);
-    return { file: path, line: p.line, column: p.col };
-  };
-  for (const err of doc.errors) {
-    const p = lc.linePos(err.pos[0]);
-    problems.push({ code: 'space.yaml_syntax', message: `YAML syntax: ${err.message.split('\n')[0]}`, where: { file: path, line: p.line, column: p.col } });
-  }
-  if (problems.length) throw new InputError(problems);
   const root = doc.contents;
   const FORMAT = 'version: 1, seed (optional), max_candidates (optional), parameters: a map of dotted keys, each with grid, range or random';
   if (!isMap(root)) throw new InputError({ code: 'space.not_a_map', message: 'a sweep space file is a map', where: at(root ?? doc), hint: FORMAT });

@@ -10,7 +10,8 @@
  *   expansion (the package counts the nodes an alias brings in), so a few anchors reused
  *   normally work and a "billion laughs" document is refused.
  */
-import { isScalar, parseDocument, visit, YAMLParseError, type Document, type DocumentOptions, type ParseOptions, type SchemaOptions } from 'yaml';
+import { isScalar, LineCounter, parseDocument, visit, YAMLParseError, type Document, type DocumentOptions, type ParseOptions, type SchemaOptions } from 'yaml';
+import { InputError, type Place, type Problem } from './errors.js';
 
 /** Bound on alias expansion when a document becomes plain values (`toJS({ maxAliasCount })`). */
 export const YAML_MAX_ALIAS_COUNT = 10_000;
@@ -43,6 +44,31 @@ export function parseYamlDocument(text: string, options: Options = {}): Document
     }
   }
   return doc;
+}
+
+/** A place in an input file. */
+export type FilePlace = Place & { file: string };
+
+/**
+ * A document of an input file whose problems name their place: `parseYamlDocument` with a line
+ * counter, every syntax error reported at once as `<syntaxCode>` with file, line and column
+ * (thrown as one InputError), and `at(node)`, the file:line:col of a node for later problems.
+ */
+export function parseYamlInput(text: string, path: string, syntaxCode: string, options: Options = {}): { doc: Document.Parsed; at: (node: unknown) => FilePlace } {
+  const lc = new LineCounter();
+  const doc = parseYamlDocument(text, { ...options, lineCounter: lc, prettyErrors: false });
+  const at = (node: unknown): FilePlace => {
+    const range = (node as { range?: [number, number, number] } | null | undefined)?.range;
+    if (!range) return { file: path };
+    const p = lc.linePos(range[0]);
+    return { file: path, line: p.line, column: p.col };
+  };
+  const problems: Problem[] = doc.errors.map((err) => {
+    const p = lc.linePos(err.pos[0]);
+    return { code: syntaxCode, message: `YAML syntax: ${err.message.split('\n')[0]}`, where: { file: path, line: p.line, column: p.col } };
+  });
+  if (problems.length) throw new InputError(problems);
+  return { doc, at };
 }
 
 /** Plain values of a document with bounded alias expansion; `undefined` plus a message when the bound is hit. */
