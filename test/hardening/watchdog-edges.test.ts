@@ -3,28 +3,14 @@
  * testing). Our own behaviour as src/core/watchdog.ts and SAFETY.md state it.
  */
 import { describe, expect, it } from 'vitest';
-import { CHECKS, INPUTS, Watchdog, watchdogInputs, type WatchdogInputs } from '../../src/core/watchdog.js';
+import { CHECKS, INPUTS, Watchdog, type WatchdogInputs } from '../../src/core/watchdog.js';
 import { loadCell, type WatchdogParams } from '../../src/params/config.js';
 import { DEMO } from '../support/files.js';
+import { requiredInputs } from '../support/watchdog.js';
 
 const P: WatchdogParams = loadCell(DEMO).left.config.watchdog;
 
-function inputs(joints = 6): WatchdogInputs {
-  return watchdogInputs({
-    t_s: 0,
-    compensated: new Float64Array(6),
-    correction: new Float64Array(6),
-    impactFlag: false,
-    impactScore: 0,
-    jointVelocity: new Float64Array(joints),
-    jointCount: joints,
-    jointFinite: true,
-    poseFinite: true,
-    zoneFinite: true,
-    lastSeen: new Float64Array(INPUTS.length).fill(Number.NaN),
-    required: new Uint8Array(INPUTS.length).fill(1),
-  });
-}
+const inputs = (joints = 6): WatchdogInputs => requiredInputs(joints);
 
 function clean(wd: Watchdog, x: WatchdogInputs, t: number, mutate?: (x: WatchdogInputs) => void): boolean {
   x.t_s = t;

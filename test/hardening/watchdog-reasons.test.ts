@@ -9,28 +9,14 @@
  */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { CHECKS, INPUTS, Watchdog, type CheckName, watchdogInputs, type WatchdogInputs } from '../../src/core/watchdog.js';
+import { CHECKS, Watchdog, type CheckName, type WatchdogInputs } from '../../src/core/watchdog.js';
 import { loadCell, type WatchdogParams } from '../../src/params/config.js';
 import { DEMO } from '../support/files.js';
+import { requiredInputs } from '../support/watchdog.js';
 
 const P: WatchdogParams = loadCell(DEMO).left.config.watchdog;
 
-function inputs(): WatchdogInputs {
-  return watchdogInputs({
-    t_s: 0,
-    compensated: new Float64Array(6),
-    correction: new Float64Array(6),
-    impactFlag: false,
-    impactScore: 0,
-    jointVelocity: new Float64Array(6),
-    jointCount: 6,
-    jointFinite: true,
-    poseFinite: true,
-    zoneFinite: true,
-    lastSeen: new Float64Array(INPUTS.length).fill(Number.NaN),
-    required: new Uint8Array(INPUTS.length).fill(1),
-  });
-}
+const inputs = (): WatchdogInputs => requiredInputs(6);
 
 type Fault = 'force' | 'torque' | 'corr_force' | 'corr_torque' | 'joint' | 'nan_wrench' | 'pose' | 'impact' | 'backwards' | 'nan_time' | 'twist' | 'omega' | 'stale_zone';
 /** The one check each fault trips (the model). */

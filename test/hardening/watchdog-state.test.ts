@@ -4,28 +4,14 @@
  * behaviour (src/core/watchdog.ts); the oracle is a second watchdog fed the same inputs.
  */
 import { describe, expect, it } from 'vitest';
-import { CHECKS, INPUTS, Watchdog, watchdogInputs, type WatchdogInputs } from '../../src/core/watchdog.js';
+import { CHECKS, Watchdog, type WatchdogInputs } from '../../src/core/watchdog.js';
 import { loadCell, type WatchdogParams } from '../../src/params/config.js';
 import { DEMO } from '../support/files.js';
+import { requiredInputs } from '../support/watchdog.js';
 
 const P: WatchdogParams = loadCell(DEMO).left.config.watchdog;
 
-function inputs(): WatchdogInputs {
-  return watchdogInputs({
-    t_s: 0,
-    compensated: new Float64Array(6),
-    correction: new Float64Array(6),
-    impactFlag: false,
-    impactScore: 0,
-    jointVelocity: new Float64Array(6),
-    jointCount: 6,
-    jointFinite: true,
-    poseFinite: true,
-    zoneFinite: true,
-    lastSeen: new Float64Array(INPUTS.length).fill(Number.NaN),
-    required: new Uint8Array(INPUTS.length).fill(1),
-  });
-}
+const inputs = (): WatchdogInputs => requiredInputs(6);
 
 /** One scripted step: a sample at t with an optional fault, then the output check. */
 type Step = { t: number; force?: number; joint?: number; zone?: boolean; twist?: number; fresh?: number[] };

@@ -8,9 +8,10 @@
  * changed default is a deliberate edit of this file too.
  */
 import { describe, expect, it } from 'vitest';
-import { CHECK, CHECKS, INPUT, INPUTS, Watchdog, watchdogInputs, type WatchdogInputs } from '../../src/core/watchdog.js';
+import { CHECK, CHECKS, INPUT, INPUTS, Watchdog, type WatchdogInputs } from '../../src/core/watchdog.js';
 import { buildArmConfig, loadCell, type WatchdogParams } from '../../src/params/config.js';
 import { DEMO } from '../support/files.js';
+import { requiredInputs } from '../support/watchdog.js';
 
 const SOURCES: [string, WatchdogParams][] = [
   ['config/demo_cell.yaml (left)', loadCell(DEMO).left.config.watchdog],
@@ -21,22 +22,7 @@ const SOURCES: [string, WatchdogParams][] = [
 /** Relative step for "just below" and "just above": far from rounding, far below any plausible edit. */
 const REL = 1e-9;
 
-function inputs(): WatchdogInputs {
-  return watchdogInputs({
-    t_s: 0,
-    compensated: new Float64Array(6),
-    correction: new Float64Array(6),
-    impactFlag: false,
-    impactScore: 0,
-    jointVelocity: new Float64Array(7),
-    jointCount: 7,
-    jointFinite: true,
-    poseFinite: true,
-    zoneFinite: true,
-    lastSeen: new Float64Array(INPUTS.length).fill(Number.NaN),
-    required: new Uint8Array(INPUTS.length).fill(1),
-  });
-}
+const inputs = (): WatchdogInputs => requiredInputs(7);
 
 /** A watchdog fed clean, fresh samples on a 1 ms grid; `at` changes one sample. */
 class Feed {
