@@ -57,9 +57,8 @@ export function benchFilterWatchdog(n = 1_000_000): SampleStats & { config: stri
   return { ...stats, config: 'order 4, 5 Hz cut-off at 1 kHz, 6 axes, tare on start, 6 joints, every check' };
 }
 
-/** Task with 8 zones seen only by each arm: 256 hypotheses on both sides. */
-export function config256(): { left: ArmConfig; right: ArmConfig } {
-  const cell = loadCell(undefined);
+/** Task with 8 zones seen only by each arm: 256 hypotheses on both sides (on the given cell's other parameters; default: the built-in defaults). */
+export function config256(cell: { left: { config: ArmConfig }; right: { config: ArmConfig } } = loadCell(undefined)): { left: ArmConfig; right: ArmConfig } {
   const zones: ZoneConfig[] = [];
   for (let k = 0; k < 16; k++) {
     const side = k % 2 === 0 ? 'left' : 'right';

@@ -14,33 +14,17 @@ import fc from 'fast-check';
 import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
 import { describe, expect, it } from 'vitest';
-import { configPath } from '../../bench/pipeline.js';
+import { config256 as config256On, configPath } from '../../bench/pipeline.js';
 import { ArmStep, ZONE_FREE, ZONE_OCCUPIED, ZONE_UNKNOWN } from '../../src/core/arm-step.js';
 import { LISTENER, SPEAKER } from '../../src/core/roles.js';
 import { SubsetTable } from '../../src/core/task-model.js';
-import { loadCell, type ArmConfig, type ZoneConfig } from '../../src/params/config.js';
+import { loadCell, type ArmConfig } from '../../src/params/config.js';
 import { Rng } from '../../src/util/rng.js';
 
 const cell = loadCell('config/demo_cell.yaml');
 
-/** 16 zones, 8 seen only by each arm: 256 hypotheses on both sides (as bench/pipeline.ts). */
-function config256(): { left: ArmConfig; right: ArmConfig } {
-  const zones: ZoneConfig[] = [];
-  for (let k = 0; k < 16; k++) {
-    const side = k % 2 === 0 ? 'left' : 'right';
-    zones.push({
-      name: `zone_${String(k).padStart(2, '0')}`,
-      shape: k % 3 === 0 ? 'box' : 'circle',
-      center_m: [0.3 + 0.07 * k, side === 'left' ? 0.5 : -0.5],
-      size_m: [0.08, 0.08],
-      radius_m: 0.04,
-      observed_by: side,
-      kind: k % 2 === 0 ? 'clamp_post' : 'cable_tray',
-    });
-  }
-  const mk = (c: ArmConfig): ArmConfig => ({ ...c, task: { ...c.task, zones } });
-  return { left: mk(cell.left.config), right: { ...mk(cell.right.config), roles: { ...cell.right.config.roles, phase: 1 } } };
-}
+/** 16 zones, 8 seen only by each arm: 256 hypotheses on both sides (bench/pipeline.ts's task on the demo cell). */
+const config256 = () => config256On(cell);
 
 // The private parts of ArmStep the tests read and drive.
 interface Inside {
