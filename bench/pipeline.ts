@@ -89,8 +89,13 @@ export interface ArmStepStats extends SampleStats {
   median_ns_by_phase_of_window: number[];
 }
 
-export function benchArmStep(n = 1_000_000): ArmStepStats {
-  const { left } = config256();
+/** The demo cell's arm with no zones at all: no belief job, the per-sample floor of the step. */
+export function configNoZones(): ArmConfig {
+  const c = loadCell(undefined).left.config;
+  return { ...c, task: { ...c.task, zones: [] } };
+}
+
+export function benchArmStep(n = 1_000_000, left: ArmConfig = config256().left): ArmStepStats {
   const step = new ArmStep(left, { jointCount: 6 });
   const stream = wrenchStream(STREAM, 2);
   const views: Float64Array[] = Array.from({ length: STREAM }, (_, k) => stream.subarray(6 * k, 6 * k + 6));
@@ -143,7 +148,7 @@ export function benchArmStep(n = 1_000_000): ArmStepStats {
     mean_share_of_samples_over_25us_ns: round(slowSum / n),
     median_ns_by_phase_of_window: phaseMedian,
     hypotheses: step.hypotheses,
-    config: '16 zones (8 hidden per arm), belief and policy at 100 Hz, alternating roles every 0.5 s',
+    config: left.task.zones.length === 0 ? 'no zones (no belief job): the per-sample floor' : `${left.task.zones.length} zones (${step.task.hidden.length} hidden), belief and policy at 100 Hz, alternating roles every 0.5 s`,
   };
 }
 

@@ -26,9 +26,11 @@ export const ZONE_UNKNOWN = 2;
 
 /**
  * The 100 Hz job (ArmStep.startJob): its kinds, its stages in order, and the cost of each
- * stage per hypothesis in units of about a nanosecond (measured on the development machine;
- * only their ratios matter). Each sample gives the job JOB_BUDGET units, except the samples
- * of a policy update, which carry none.
+ * stage per hypothesis in units of about a nanosecond (measured on the development machine,
+ * 256 hypotheses: `node dist/bench/run.js arm-step`; only their ratios matter). A score stage
+ * costs JOB_COST per hypothesis plus JOB_SCORE_ENTRY per entry it computes (a subset of the
+ * acting zones). Each sample gives the job JOB_BUDGET units, except the samples of a policy
+ * update, which carry none.
  */
 const JOB_NONE = 0;
 const JOB_BELIEF = 1;
@@ -46,12 +48,14 @@ const JOB_SUM = 9;
 const JOB_NORM = 10;
 const JOB_MARG = 11;
 const JOB_COMMIT = 12;
-const JOB_COST = Float64Array.of(12, 10, 25, 12, 10, 25, 3, 32, 5, 12, 35, 14, 1);
+const JOB_COST = Float64Array.of(3, 2, 3, 3, 2, 3, 1, 3, 5, 13, 15, 6, 1);
+const JOB_SCORE_ENTRY = 22;
 /**
- * Cost units per sample for the job: with 256 hypotheses a replica update (about 25 600 units)
- * or a belief update (29 200) lands in two samples, a hedged belief update (about 50 000) in four.
+ * Cost units per sample for the job: with 256 hypotheses and two acting zones a replica update
+ * (about 11 000 units) or a belief update (12 500) lands in two or three samples, a hedged
+ * belief update (15 500) in three.
  */
-export const JOB_BUDGET = 15_000;
+export const JOB_BUDGET = 6_000;
 
 /** `ArmOutputs.tareOutcome`: nothing happened, a tare was taken, a tare was refused. */
 /** Largest |wrench component| taken as a measurement, N or N·m; beyond it a sample is skipped by the filter and holds. */
@@ -229,6 +233,9 @@ export class ArmStep {
   private readonly ownTable: SubsetTable;
   private readonly hiddenTable2: SubsetTable;
   private readonly loglik2: Float64Array;
+  /** The hedged job's mixture: each acting-zone entry's two exponentials. */
+  private readonly mixA: Float64Array;
+  private readonly mixB: Float64Array;
 
   // The 100 Hz job in flight (startJob, runJob).
   private jobKind = JOB_NONE;
@@ -271,6 +278,8 @@ export class ArmStep {
     this.ownTable = new SubsetTable(this.task.own.length);
     this.hiddenTable2 = new SubsetTable(this.task.hidden.length);
     this.loglik2 = new Float64Array(this.loglik.length);
+    this.mixA = new Float64Array(this.hypotheses);
+    this.mixB = new Float64Array(this.hypotheses);
     this.commitWeight = new Float64Array(Math.max(1, this.task.own.length));
     this.jointCount = options.jointCount ?? 0;
     this.jointVel = new Float64Array(Math.max(64, this.jointCount));
@@ -789,14 +798,29 @@ export class ArmStep {
       this.jobH = 0;
       return units;
     }
+    const table = replicaJob ? this.ownTable : stage <= JOB_SCORE_A ? this.hiddenTable : this.hiddenTable2;
     let count = Math.floor(budget / cost);
     if (count < 1) {
       if (!first) return 0;
       count = 1;
     }
     const from = this.jobH;
-    const to = Math.min(nH, from + count);
-    const table = replicaJob ? this.ownTable : stage <= JOB_SCORE_A ? this.hiddenTable : this.hiddenTable2;
+    let to = Math.min(nH, from + count);
+    // A score stage computes an entry per subset of the acting zones and copies the rest:
+    // its range ends where the budget does (at least one hypothesis when `first`).
+    let scoreUnits = 0;
+    if (stage === JOB_SCORE_A || stage === JOB_SCORE_B) {
+      const act = table.active;
+      let h = from;
+      while (h < nH) {
+        const u = (h & act) === h ? cost + JOB_SCORE_ENTRY : cost;
+        if (scoreUnits + u > budget && (h > from || !first)) break;
+        scoreUnits += u;
+        h++;
+      }
+      if (h === from) return 0;
+      to = h;
+    }
     switch (stage) {
       case JOB_MEAN_A:
       case JOB_MEAN_B: {
@@ -818,12 +842,20 @@ export class ArmStep {
         const w = this.jobW;
         const vt = w[3]!, vl = w[4]!, vv = w[5]!;
         const v = this.v2;
+        // A hypothesis scores as the entry of its acting zones (h & active, never above h: it
+        // was scored first), so the speaker's velocity is computed once per subset of them.
+        const act = table.active;
         if (replicaJob) {
           // It feels f = c (v_own - v_partner) + noise and compares with c (speaker policy(h) -
           // v_partner), so its expected log-likelihood of our private hypothesis h is
           // -c^2 |v_own - policy(h)|^2 / (2 sigma^2), at the same scale.
           const into = this.loglik;
           for (let h = from; h < to; h++) {
+            const e = h & act;
+            if (e !== h) {
+              into[h] = into[e]!;
+              continue;
+            }
             this.policy.legible(table, h, mx, my, mz);
             const rx = c * (vt - v[0]!);
             const ry = c * (vl - v[1]!);
@@ -837,6 +869,11 @@ export class ArmStep {
           const into = stage === JOB_SCORE_A ? this.loglik : this.loglik2;
           const ft = w[0]!, fl = w[1]!, fv = w[2]!;
           for (let h = from; h < to; h++) {
+            const e = h & act;
+            if (e !== h) {
+              into[h] = into[e]!;
+              continue;
+            }
             this.policy.legible(table, h, mx, my, mz);
             const rx = ft - c * (v[0]! - vt);
             const ry = fl - c * (v[1]! - vl);
@@ -869,10 +906,23 @@ export class ArmStep {
         const lw = Math.log(w), lw0 = Math.log(1 - w);
         const top = this.jobTop;
         const p = this.belief.p;
+        // Both scores are those of the hypothesis's acting zones (the tables share them): the
+        // exponentials are taken once per entry (mixA, mixB) and read by the rest.
+        const act = this.hiddenTable.active;
+        const mixA = this.mixA, mixB = this.mixB;
         let e1 = this.jobE1, e0 = this.jobE0;
         for (let h = from; h < to; h++) {
+          const e = h & act;
+          if (e !== h) {
+            e1 += p[h]! * mixA[e]!;
+            e0 += p[h]! * mixB[e]!;
+            this.loglik[h] = this.loglik[e]!;
+            continue;
+          }
           const ea = Math.exp(lw + this.loglik[h]! - top);
           const eb = Math.exp(lw0 + this.loglik2[h]! - top);
+          mixA[h] = ea;
+          mixB[h] = eb;
           e1 += p[h]! * ea;
           e0 += p[h]! * eb;
           this.loglik[h] = top + Math.log(ea + eb);
@@ -900,7 +950,7 @@ export class ArmStep {
       this.jobH = 0;
       this.jobStage = this.nextStage(stage);
     }
-    return (to - from) * cost;
+    return scoreUnits > 0 ? scoreUnits : (to - from) * cost;
   }
 
   private nextStage(stage: number): number {

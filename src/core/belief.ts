@@ -1,7 +1,7 @@
 /**
  * A discrete Bayes belief kept in the log domain, so that long runs never underflow.
  *
- * update(): log p(h) += log-likelihood(h), then normalise with log-sum-exp, then mix toward
+ * update(): log p(h) += log-likelihood(h), then normalise (exponentials shifted by the maximum), then mix toward
  * the uniform belief by the forgetting factor (a world that changes: no hypothesis is ever
  * ruled out for good). Outputs: probabilities, entropy (nats), most likely hypothesis.
  *
@@ -11,8 +11,22 @@
  * per sample) while `p` and `logp` stay as they were until the commit. Its result equals
  * `update()` bit for bit.
  */
-/** |max log p| beyond which the log-domain normalisation shifts to 0 first (exact to 1e-10 below it). */
-const RECENTER = 1048576;
+
+/**
+ * s plus the sum of p[k] over k in [from, to) with bit b set, added in increasing k (the order
+ * of a plain loop over k, so the same result bit for bit), over the runs of 2^b such k.
+ */
+function blockSum(p: Float64Array, b: number, from: number, to: number, s: number): number {
+  const m = 1 << b;
+  // The first k >= from with bit b set.
+  let k = (from & m) !== 0 ? from : (from & ~(m - 1)) + m;
+  while (k < to) {
+    const end = Math.min(to, (k | (m - 1)) + 1);
+    for (let j = k; j < end; j++) s += p[j]!;
+    k = end + m;
+  }
+  return s;
+}
 
 export class Belief {
   readonly n: number;
@@ -82,20 +96,21 @@ export class Belief {
       this.reset();
       return;
     }
-    if (max > RECENTER || max < -RECENTER) {
-      // Far from 0, max + log(sum) rounds the log-sum away (1e308 + ln 2 = 1e308): shift first.
-      for (let k = 0; k < n; k++) this.logp[k] = this.logp[k]! - max;
-      max = 0;
-    }
+    // p = (1 - f) exp(logp - max) / sum + f / n: no log-sum is formed, so nothing rounds away
+    // however far from 0 the log-probabilities are (the exponentials are kept in p meanwhile).
     let s = 0;
-    for (let k = 0; k < n; k++) s += Math.exp(this.logp[k]! - max);
-    const lse = max + Math.log(s);
+    for (let k = 0; k < n; k++) {
+      const q = Math.exp(this.logp[k]! - max);
+      this.p[k] = q;
+      s += q;
+    }
+    const scale = (1 - forgetting) / s;
     const u = forgetting / n;
     let h = 0;
     let best = 0;
     let bestP = -1;
     for (let k = 0; k < n; k++) {
-      const pk = (1 - forgetting) * Math.exp(this.logp[k]! - lse) + u;
+      const pk = this.p[k]! * scale + u;
       this.p[k] = pk;
       this.logp[k] = Math.log(pk);
       if (pk > 0) h -= pk * this.logp[k]!;
@@ -135,11 +150,16 @@ export class Belief {
     return !Number.isFinite(this.stMax);
   }
 
-  /** The normaliser's sum over [from, to) (after the maximum over every hypothesis). */
+  /** The normaliser's sum over [from, to) (after the maximum over every hypothesis); keeps each exponential for stageNormalise. */
   stageSum(from: number, to: number): void {
     const max = this.stMax;
+    const q = this.stP;
     let s = this.stSum;
-    for (let k = from; k < to; k++) s += Math.exp(this.stLogp[k]! - max);
+    for (let k = from; k < to; k++) {
+      const e = Math.exp(this.stLogp[k]! - max);
+      q[k] = e;
+      s += e;
+    }
     this.stSum = s;
   }
 
@@ -147,13 +167,13 @@ export class Belief {
   stageNormalise(from: number, to: number): void {
     const n = this.n;
     const forgetting = this.stForgetting;
-    const lse = this.stMax + Math.log(this.stSum);
+    const scale = (1 - forgetting) / this.stSum;
     const u = forgetting / n;
     let h = this.stEntropy;
     let best = this.stBest;
     let bestP = this.stBestP;
     for (let k = from; k < to; k++) {
-      const pk = (1 - forgetting) * Math.exp(this.stLogp[k]! - lse) + u;
+      const pk = this.stP[k]! * scale + u;
       this.stP[k] = pk;
       this.stLogp[k] = Math.log(pk);
       if (pk > 0) h -= pk * this.stLogp[k]!;
@@ -171,10 +191,7 @@ export class Belief {
   stageMarginals(bits: number, from: number, to: number): void {
     const out = this.stMarg;
     if (from === 0) out.fill(0, 0, bits);
-    for (let k = from; k < to; k++) {
-      const pk = this.stP[k]!;
-      for (let b = 0; b < bits; b++) if ((k >>> b) & 1) out[b]! += pk;
-    }
+    for (let b = 0; b < bits; b++) out[b] = blockSum(this.stP, b, from, to, out[b]!);
   }
 
   /** Marginals of the last staged update (valid after stageMarginals over every hypothesis). */
@@ -197,11 +214,7 @@ export class Belief {
 
   /** Marginal probability that bit b of the hypothesis index is set, for each of `bits` bits. */
   marginals(bits: number, out: Float64Array): void {
-    out.fill(0, 0, bits);
-    for (let k = 0; k < this.n; k++) {
-      const pk = this.p[k]!;
-      for (let b = 0; b < bits; b++) if ((k >>> b) & 1) out[b]! += pk;
-    }
+    for (let b = 0; b < bits; b++) out[b] = blockSum(this.p, b, 0, this.n, 0);
   }
 
   /** Full state, a staged update in progress included, for bit-identical continuation after restore(). */

@@ -75,17 +75,17 @@ export class Policy {
    * Part of `consistentMean` over hypotheses [from, to): adds the velocities of those whose bits
    * include `need` into sum[0..2] and their count into sum[3] (the arm step's job spreads a mean
    * over several samples this way; the same order of additions, so the same result bit for bit).
-   * Uses v as scratch.
    */
   meanPart(table: SubsetTable, need: number, from: number, to: number, sum: Float64Array): void {
-    const v = this.v;
+    const act = table.active;
+    const vt = table.vt, vl = table.vl, vv = table.vv;
     let sx = sum[0]!, sy = sum[1]!, sz = sum[2]!, k = sum[3]!;
     for (let h = from; h < to; h++) {
       if ((h & need) !== need) continue;
-      this.task.velocityOf(table, h, v);
-      sx += v[0]!;
-      sy += v[1]!;
-      sz += v[2]!;
+      const e = h & act;
+      sx += vt[e]!;
+      sy += vl[e]!;
+      sz += vv[e]!;
       k++;
     }
     sum[0] = sx;
@@ -140,14 +140,18 @@ export class Policy {
     // hypotheses it still holds disagree about what to do (uncertainty that matters here).
     let sx = 0, sy = 0, sz = 0, sxx = 0;
     const hypotheses = 1 << task.hidden.length;
-    task.tabulate(task.hidden, shared | own, this.hiddenTable);
+    const table = this.hiddenTable;
+    task.tabulate(task.hidden, shared | own, table);
+    const act = table.active;
+    const vt = table.vt, vl = table.vl, vv = table.vv;
     for (let h = 0; h < hypotheses; h++) {
-      task.velocityOf(this.hiddenTable, h, v);
+      const e = h & act;
+      const a = vt[e]!, b = vl[e]!, c = vv[e]!;
       const ph = belief[h]!;
-      sx += ph * v[0]!;
-      sy += ph * v[1]!;
-      sz += ph * v[2]!;
-      sxx += ph * (v[0]! * v[0]! + v[1]! * v[1]! + v[2]! * v[2]!);
+      sx += ph * a;
+      sy += ph * b;
+      sz += ph * c;
+      sxx += ph * (a * a + b * b + c * c);
     }
     const spread = Math.sqrt(Math.max(0, sxx - sx * sx - sy * sy - sz * sz));
     const floor = this.params.confidence_floor;

@@ -46,7 +46,18 @@ export class SubsetTable {
   /** Vertical push (lift) and the floor on the vertical velocity while lifted. */
   readonly lz: Float64Array;
   readonly loz: Float64Array;
+  /** The velocity of each subset (moving frame: tangent, lateral, vertical), what `velocityOf` reads. */
+  readonly vt: Float64Array;
+  readonly vl: Float64Array;
+  readonly vv: Float64Array;
+  /** Number of hypotheses: 2^(zones tabulated). */
   size = 0;
+  /**
+   * The bits (of the tabulated zone list) whose zones act at the position tabulated at. A zone
+   * that does not act (passed, or beyond the repulsion range) changes no velocity, so subset h
+   * reads the entry of h & active, and only the subsets of `active` are tabulated.
+   */
+  active = 0;
   /** Goal pull in the moving frame (tangent, lateral, vertical) of the position tabulated at. */
   gt = 0;
   gl = 0;
@@ -59,6 +70,9 @@ export class SubsetTable {
     this.hi = new Float64Array(n);
     this.lz = new Float64Array(n);
     this.loz = new Float64Array(n);
+    this.vt = new Float64Array(n);
+    this.vl = new Float64Array(n);
+    this.vv = new Float64Array(n);
   }
 }
 
@@ -301,12 +315,20 @@ export class TaskModel {
 
   /**
    * Tabulate, for every subset h of `zones` (bit b of h: zones[b] occupied) together with
-   * the zones of `baseMask`, the summed contributions, so that `velocityOf(table, h)` is
-   * O(1). Each subset extends a smaller one by a single zone. Call `prepare()` first.
+   * the zones of `baseMask`, the summed contributions and the velocity, so that
+   * `velocityOf(table, h)` is O(1). Only the subsets of the zones that act at the prepared
+   * position are computed (`SubsetTable.active`): a zone that does not act adds exactly nothing
+   * (a zero push, no cap, no bound), so every other subset reads the same entry bit for bit.
+   * Each subset extends a smaller one by a single zone. Call `prepare()` first.
    */
   tabulate(zones: Int32Array, baseMask: number, table: SubsetTable): void {
     let subsetMask = 0;
-    for (let b = 0; b < zones.length; b++) subsetMask |= 1 << zones[b]!;
+    let active = 0;
+    for (let b = 0; b < zones.length; b++) {
+      const z = zones[b]!;
+      subsetMask |= 1 << z;
+      if (this.lat[z] !== 0 || this.cap[z] !== Infinity || this.lo[z] !== -Infinity || this.hi[z] !== Infinity || this.ver[z] !== 0 || this.loV[z] !== -Infinity) active |= 1 << b;
+    }
     const base = baseMask & ~subsetMask;
     let ly = 0, cap = Infinity, lo = -Infinity, hi = Infinity, lz = 0, loz = -Infinity;
     for (let z = 0; z < this.n; z++) {
@@ -324,8 +346,12 @@ export class TaskModel {
     table.hi[0] = hi;
     table.lz[0] = lz;
     table.loz[0] = loz;
-    const n = 1 << zones.length;
-    for (let h = 1; h < n; h++) {
+    table.gt = this.gt;
+    table.gl = this.gl;
+    table.gv = this.gv;
+    this.subsetVelocity(table, 0);
+    // The subsets of `active` in increasing order (h & (h - 1), one zone fewer, comes before h).
+    for (let h = -active & active; h !== 0; h = (h - active) & active) {
       const prev = h & (h - 1);
       const z = zones[31 - Math.clz32(h & -h)]!;
       table.ly[h] = table.ly[prev]! + this.lat[z]!;
@@ -334,15 +360,14 @@ export class TaskModel {
       table.hi[h] = Math.min(table.hi[prev]!, this.hi[z]!);
       table.lz[h] = table.lz[prev]! + this.ver[z]!;
       table.loz[h] = Math.max(table.loz[prev]!, this.loV[z]!);
+      this.subsetVelocity(table, h);
     }
-    table.size = n;
-    table.gt = this.gt;
-    table.gl = this.gl;
-    table.gv = this.gv;
+    table.size = 1 << zones.length;
+    table.active = active;
   }
 
-  /** Velocity of subset h of a table made by `tabulate()`, in the moving frame (tangent, lateral, vertical). */
-  velocityOf(table: SubsetTable, h: number, out: Float64Array, offset = 0): void {
+  /** The velocity of tabulated entry h, into the table's vt, vl, vv. */
+  private subsetVelocity(table: SubsetTable, h: number): void {
     let vt = table.gt;
     const cap = table.cap[h]!;
     if (vt > cap) vt = cap;
@@ -363,9 +388,17 @@ export class TaskModel {
       b *= vmax / speed;
       vv *= vmax / speed;
     }
-    out[offset] = a;
-    out[offset + 1] = b;
-    out[offset + 2] = vv;
+    table.vt[h] = a;
+    table.vl[h] = b;
+    table.vv[h] = vv;
+  }
+
+  /** Velocity of subset h of a table made by `tabulate()`, in the moving frame (tangent, lateral, vertical). */
+  velocityOf(table: SubsetTable, h: number, out: Float64Array, offset = 0): void {
+    const c = h & table.active;
+    out[offset] = table.vt[c]!;
+    out[offset + 1] = table.vl[c]!;
+    out[offset + 2] = table.vv[c]!;
   }
 
   /** Does the object (its axis segment at centre px, py, pz along the current axis) touch zone z? */
