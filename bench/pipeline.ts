@@ -58,14 +58,14 @@ export function benchFilterWatchdog(n = 1_000_000): SampleStats & { config: stri
 }
 
 /** Task with 8 zones seen only by each arm: 256 hypotheses on both sides (on the given cell's other parameters; default: the built-in defaults). */
-export function config256(cell: { left: { config: ArmConfig }; right: { config: ArmConfig } } = loadCell(undefined)): { left: ArmConfig; right: ArmConfig } {
+export function config256(cell: { left: { config: ArmConfig }; right: { config: ArmConfig } } = loadCell(undefined), spacing_m = 0.07): { left: ArmConfig; right: ArmConfig } {
   const zones: ZoneConfig[] = [];
   for (let k = 0; k < 16; k++) {
     const side = k % 2 === 0 ? 'left' : 'right';
     zones.push({
       name: `zone_${String(k).padStart(2, '0')}`,
       shape: k % 3 === 0 ? 'box' : 'circle',
-      center_m: [0.3 + 0.07 * k, side === 'left' ? 0.5 : -0.5],
+      center_m: [(spacing_m === 0.07 ? 0.3 : 0.45) + spacing_m * k, side === 'left' ? 0.5 : -0.5],
       size_m: [0.08, 0.08],
       radius_m: 0.04,
       observed_by: side,
@@ -87,6 +87,18 @@ export interface ArmStepStats extends SampleStats {
   mean_share_of_samples_over_25us_ns: number;
   /** Median per sample of the 10-sample belief window (sample k: k mod 10). */
   median_ns_by_phase_of_window: number[];
+}
+
+/**
+ * The worst case of the same task: the 16 zones packed 12 mm apart just ahead of the object,
+ * so all 8 hidden zones act at once and every one of the 256 subsets is its own entry.
+ */
+export function configDense(): ArmConfig {
+  const c = config256(loadCell(undefined), 0.012).left;
+  // The bench's tool pose does not follow the command; packed zones slow the arm to where the
+  // partner-stop check reads that as a stopped partner and holds (about 48 s in), which would
+  // leave nothing to measure. The check's cost is in the floor and the other figures.
+  return { ...c, watchdog: { ...c.watchdog, partner_stop: { ...c.watchdog.partner_stop, enabled: false } } };
 }
 
 /** The demo cell's arm with no zones at all: no belief job, the per-sample floor of the step. */

@@ -13,7 +13,7 @@
 import { cpus, loadavg } from 'node:os';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { benchArmStep, benchArmStepPath, benchFilterWatchdog, configNoZones } from './pipeline.js';
+import { benchArmStep, benchArmStepPath, benchFilterWatchdog, configDense, configNoZones } from './pipeline.js';
 import { machine, report, round } from './harness.js';
 
 type Figure = { value: number | null; unit: string; note?: string };
@@ -57,6 +57,7 @@ async function single(names: string[]): Promise<void> {
     'arm-step': () => benchArmStep() as unknown as Record<string, unknown>,
     'arm-step-path': () => benchArmStepPath() as unknown as Record<string, unknown>,
     'arm-step-floor': () => benchArmStep(1_000_000, configNoZones()) as unknown as Record<string, unknown>,
+    'arm-step-dense': () => benchArmStep(1_000_000, configDense()) as unknown as Record<string, unknown>,
   };
   for (const [name, file, fn] of [['replay', './replay.js', 'benchReplay'], ['sim', './sim.js', 'benchSim'], ['families', './sim.js', 'benchFamilies'], ['issue8', './issue8-measure.js', 'benchIssue8'], ['adapter', './adapter.js', 'benchAdapter'], ['soak', './soak.js', 'benchSoak'], ['sweep', './sweep.js', 'benchSweep']] as const) {
     const f = await optionalFn(file, fn);

@@ -27,10 +27,12 @@ export const ZONE_UNKNOWN = 2;
 /**
  * The 100 Hz job (ArmStep.startJob): its kinds, its stages in order, and the cost of each
  * stage per hypothesis in units of about a nanosecond (measured on the development machine,
- * 256 hypotheses: `node dist/bench/run.js arm-step`; only their ratios matter). A score stage
- * costs JOB_COST per hypothesis plus JOB_SCORE_ENTRY per entry it computes (a subset of the
- * acting zones). Each sample gives the job JOB_BUDGET units, except the samples of a policy
- * update, which carry none.
+ * 256 hypotheses: `node dist/bench/run.js arm-step` and `arm-step-dense`; only their ratios
+ * matter). The tabulation, score and mixture stages cost JOB_COST per hypothesis plus
+ * JOB_ENTRY_COST per entry they compute (a subset of the acting zones); a tabulation, which
+ * cannot be split, starts only in a sample with room for its worst case (every zone acting).
+ * Each sample gives the job JOB_BUDGET units, except the samples of a policy update, which
+ * carry none.
  */
 const JOB_NONE = 0;
 const JOB_BELIEF = 1;
@@ -49,13 +51,20 @@ const JOB_NORM = 10;
 const JOB_MARG = 11;
 const JOB_COMMIT = 12;
 const JOB_COST = Float64Array.of(3, 2, 3, 3, 2, 3, 1, 3, 5, 13, 15, 6, 1);
-const JOB_SCORE_ENTRY = 22;
+/** Per computed entry: tabulate A, -, score A, tabulate B, -, score B, -, mixture (the rest: none). */
+const JOB_ENTRY_COST = Float64Array.of(13, 0, 22, 13, 0, 22, 0, 25, 0, 0, 0, 0, 0);
 /**
  * Cost units per sample for the job: with 256 hypotheses and two acting zones a replica update
  * (about 11 000 units) or a belief update (12 500) lands in two or three samples, a hedged
  * belief update (15 500) in three.
  */
 export const JOB_BUDGET = 6_000;
+
+function popcount(m: number): number {
+  let n = 0;
+  for (let x = m; x !== 0; x &= x - 1) n++;
+  return n;
+}
 
 /** `ArmOutputs.tareOutcome`: nothing happened, a tare was taken, a tare was refused. */
 /** Largest |wrench component| taken as a measurement, N or N·m; beyond it a sample is skipped by the filter and holds. */
@@ -783,11 +792,11 @@ export class ArmStep {
     const bel = replicaJob ? this.replica : this.belief;
     const cost = JOB_COST[stage]!;
     if (stage === JOB_TAB_A || stage === JOB_TAB_B || stage === JOB_COMMIT) {
-      const units = cost * nH;
-      if (!first && units > budget) return 0;
+      const entry = JOB_ENTRY_COST[stage]!;
+      if (!first && (cost + entry) * nH > budget) return 0;
       if (stage === JOB_COMMIT) {
         this.commitJob();
-        return units;
+        return cost * nH;
       }
       task.prepare(this.jobPx, this.jobPy, this.jobPz);
       const list = replicaJob ? task.own : task.hidden;
@@ -796,7 +805,7 @@ export class ArmStep {
       this.jobSum.fill(0);
       this.jobStage = stage + 1;
       this.jobH = 0;
-      return units;
+      return cost * nH + entry * (1 << popcount(table.active));
     }
     const table = replicaJob ? this.ownTable : stage <= JOB_SCORE_A ? this.hiddenTable : this.hiddenTable2;
     let count = Math.floor(budget / cost);
@@ -806,14 +815,15 @@ export class ArmStep {
     }
     const from = this.jobH;
     let to = Math.min(nH, from + count);
-    // A score stage computes an entry per subset of the acting zones and copies the rest:
-    // its range ends where the budget does (at least one hypothesis when `first`).
+    // A score or mixture stage computes an entry per subset of the acting zones and copies the
+    // rest: its range ends where the budget does (at least one hypothesis when `first`).
     let scoreUnits = 0;
-    if (stage === JOB_SCORE_A || stage === JOB_SCORE_B) {
-      const act = table.active;
+    if (stage === JOB_SCORE_A || stage === JOB_SCORE_B || stage === JOB_MIX) {
+      const act = stage === JOB_MIX ? this.hiddenTable.active : table.active;
+      const entry = JOB_ENTRY_COST[stage]!;
       let h = from;
       while (h < nH) {
-        const u = (h & act) === h ? cost + JOB_SCORE_ENTRY : cost;
+        const u = (h & act) === h ? cost + entry : cost;
         if (scoreUnits + u > budget && (h > from || !first)) break;
         scoreUnits += u;
         h++;
