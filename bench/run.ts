@@ -106,6 +106,16 @@ async function all(quick: boolean, soakS: number): Promise<void> {
   fig('arm_step_path.p99_ns', ap['p99_ns'], 'ns');
   fig('arm_step_path.p999_ns', ap['p999_ns'], 'ns');
   fig('arm_step_path.max_ns', ap['max_ns'], 'ns');
+  log('arm-step-dense');
+  const ad = benchArmStep(n, configDense()) as unknown as Record<string, unknown>;
+  raw['arm_step_dense'] = ad;
+  fig('arm_step_dense.p50_ns', ad['median_ns'], 'ns', 'the worst case of the 256-hypothesis task: all 8 hidden zones acting at once');
+  fig('arm_step_dense.p999_ns', ad['p999_ns'], 'ns');
+  log('arm-step-floor');
+  const af = benchArmStep(n, configNoZones()) as unknown as Record<string, unknown>;
+  raw['arm_step_floor'] = af;
+  fig('arm_step_floor.p50_ns', af['median_ns'], 'ns', 'no zones: filter, watchdog, roles, policy and every check, no belief job');
+  fig('arm_step_floor.p99_ns', af['p99_ns'], 'ns');
   fig('heap_growth_bytes_per_sample', as['heap_growth_bytes_per_sample'], 'B/sample', 'arm step, between forced collections around a run of the same length');
 
   const soakFn = (await optionalFn('./soak.js', 'benchSoak'))!;
