@@ -23,15 +23,20 @@ export interface BagJob {
   readonly right: ArmConfig;
 }
 
-/** The built worker script (worker threads need JavaScript: `npm run build`). */
-export function sweepWorkerScript(): string {
+/** A built worker script of src/sweep (worker threads need JavaScript: `npm run build`). */
+export function sweepScript(name: string): string {
   const here = fileURLToPath(import.meta.url);
-  const c = here.endsWith('.ts') ? fileURLToPath(new URL('../../dist/src/sweep/worker.js', import.meta.url)) : fileURLToPath(new URL('./worker.js', import.meta.url));
+  const c = here.endsWith('.ts') ? fileURLToPath(new URL(`../../dist/src/sweep/${name}`, import.meta.url)) : fileURLToPath(new URL(`./${name}`, import.meta.url));
   if (!existsSync(c)) throw new Error(`the worker script ${c} is missing: build with 'npm run build'`);
   return c;
 }
 
-type FromWorker = { type: 'ready' } | { type: 'result'; id: number; metrics: CandidateMetrics } | { type: 'error'; id: number; message: string };
+/** The worker of a sweep over bags. */
+export function sweepWorkerScript(): string {
+  return sweepScript('worker.js');
+}
+
+type FromWorker<R> = { type: 'ready' } | { type: 'result'; id: number; metrics: R } | { type: 'error'; id: number; message: string };
 
 export interface PoolHandle {
   readonly done: Promise<void>;
@@ -40,6 +45,15 @@ export interface PoolHandle {
 }
 
 export function startPool(n: number, init: BagWorkerInit, jobs: readonly BagJob[], onResult: (id: number, m: CandidateMetrics) => void): PoolHandle {
+  return startWorkerPool(sweepWorkerScript(), n, init, jobs, onResult);
+}
+
+/**
+ * A pool of `n` workers running `script`: each gets `init` as its workerData, says 'ready', and
+ * answers every job it is sent with its result (`metrics`) or an error; results go to
+ * `onResult` by job id.
+ */
+export function startWorkerPool<J extends { readonly id: number }, R>(script: string, n: number, init: unknown, jobs: readonly J[], onResult: (id: number, r: R) => void): PoolHandle {
   const workers: Worker[] = [];
   let stopped = false;
   let stopAll = (): void => {};
@@ -58,11 +72,10 @@ export function startPool(n: number, init: BagWorkerInit, jobs: readonly BagJob[
     const feed = (w: Worker) => {
       if (!stopped && next < jobs.length) w.postMessage({ type: 'job', job: jobs[next++] });
     };
-    const script = sweepWorkerScript();
     for (let i = 0; i < Math.max(1, Math.min(n, jobs.length)); i++) {
       const w = new Worker(script, { workerData: init });
       workers.push(w);
-      w.on('message', (m: FromWorker) => {
+      w.on('message', (m: FromWorker<R>) => {
         if (failed || stopped) return;
         if (m.type === 'ready') feed(w);
         else if (m.type === 'result') {
@@ -74,7 +87,7 @@ export function startPool(n: number, init: BagWorkerInit, jobs: readonly BagJob[
           failed = true;
           stopped = true;
           for (const x of workers) void x.terminate();
-          reject(new Error(`candidate ${m.id} failed in a worker: ${m.message}`));
+          reject(new Error(`job ${m.id} failed in a worker: ${m.message}`));
         }
       });
       w.on('error', (err) => {
