@@ -1,6 +1,7 @@
 /**
  * The worker-thread pool of a sweep over bags. Each worker decodes every bag once at start and
- * then runs the candidates it is fed, one at a time; results are stored by candidate index, so
+ * then runs the chunks of candidates it is fed, one at a time, sharing work within itself
+ * (share.ts); results are stored by candidate index, and sharing never changes a result, so
  * they are the same whatever the number of workers and the order they finish in.
  */
 import { existsSync } from 'node:fs';
@@ -15,12 +16,43 @@ export interface BagWorkerInit {
   readonly zoneNames: readonly string[];
   readonly labels: readonly (readonly Label[])[];
   readonly tolerance_s: number;
+  /** false: every candidate in full, no work shared (the reference of the tests). */
+  readonly share?: boolean;
 }
 
 export interface BagJob {
   readonly id: number;
   readonly left: ArmConfig;
   readonly right: ArmConfig;
+}
+
+/** What a bag worker is sent: candidates that may share work (share.ts), run in order. */
+export interface BagChunk {
+  readonly id: number;
+  readonly jobs: readonly BagJob[];
+}
+
+export interface ChunkResult {
+  readonly results: readonly { readonly id: number; readonly metrics: CandidateMetrics }[];
+}
+
+/**
+ * Candidates in chunks for the pool: those that may share work (same configuration but for
+ * `wrench_filter.impact.*`: `key`) together, each group cut into pieces of at most
+ * ceil(N / (2 jobs)) so that every worker gets work.
+ */
+export function bagChunks(jobs: readonly BagJob[], workers: number, key: (j: BagJob) => string): BagChunk[] {
+  const groups = new Map<string, BagJob[]>();
+  for (const j of jobs) {
+    const k = key(j);
+    const g = groups.get(k);
+    if (g) g.push(j);
+    else groups.set(k, [j]);
+  }
+  const most = Math.max(1, Math.ceil(jobs.length / (2 * Math.max(1, workers))));
+  const out: BagChunk[] = [];
+  for (const g of groups.values()) for (let k = 0; k < g.length; k += most) out.push({ id: out.length, jobs: g.slice(k, k + most) });
+  return out;
 }
 
 /** A built worker script of src/sweep (worker threads need JavaScript: `npm run build`). */
@@ -44,8 +76,10 @@ export interface PoolHandle {
   stop(): void;
 }
 
-export function startPool(n: number, init: BagWorkerInit, jobs: readonly BagJob[], onResult: (id: number, m: CandidateMetrics) => void): PoolHandle {
-  return startWorkerPool(sweepWorkerScript(), n, init, jobs, onResult);
+export function startPool(n: number, init: BagWorkerInit, chunks: readonly BagChunk[], onResult: (id: number, m: CandidateMetrics) => void): PoolHandle {
+  return startWorkerPool<BagChunk, ChunkResult>(sweepWorkerScript(), n, init, chunks, (_, r) => {
+    for (const x of r.results) onResult(x.id, x.metrics);
+  });
 }
 
 /**

@@ -22,10 +22,11 @@ import type { SimOptionsOverrides } from '../sim/options.js';
 import { worldSeed } from '../sim/world.js';
 import { InputError } from '../util/errors.js';
 import { decodeBag, type BagInfo, type DecodedBag } from './decoded.js';
-import { evaluateBag, metricsFromBags, type CandidateMetrics } from './evaluate.js';
+import type { CandidateMetrics } from './evaluate.js';
+import { restKey, SharedEvaluator } from './share.js';
 import { bagName, type Label, type Labels } from './labels.js';
 import { choose, paretoFront, rocCurve, type CandidateResult, type Objective, type Roc } from './objective.js';
-import { startPool, startWorkerPool, sweepScript, type BagJob } from './pool.js';
+import { bagChunks, startPool, startWorkerPool, sweepScript, type BagJob } from './pool.js';
 import { metricsFromWorlds, runWorldJob, strategyOf, type WorldJob, type WorldRun, type WorldWorkerInit } from './worlds.js';
 import { candidateAt, candidateConfigs, type Space } from './space.js';
 
@@ -51,6 +52,8 @@ export interface SweepInput {
   /** Journal file of finished candidates (none: nothing kept on SIGINT). */
   readonly journal?: string;
   readonly resume?: boolean;
+  /** Over bags: share work across candidates where no result changes (share.ts; default true). false runs every candidate in full. */
+  readonly share?: boolean;
   readonly onProgress?: (done: number, total: number) => void;
   /** Set by the caller (SIGINT): stop after the candidates in flight. */
   readonly stopRequested?: () => boolean;
@@ -175,16 +178,18 @@ export async function runSweep(input: SweepInput): Promise<SweepRun> {
       input.onStart?.(() => {});
       const decoded: DecodedBag[] = [];
       for (const b of data.bags) decoded.push(await decodeBag(b.path, zoneNames));
+      const ev = new SharedEvaluator(decoded, data.perBag, data.labels.tolerance_s, input.share ?? true);
       for (const i of todo) {
         if (stopRequested()) break;
         const c = configs.get(i)!;
-        record(i, metricsFromBags(decoded.map((b, k) => evaluateBag(b, c.left, c.right, data.perBag[k]!, data.labels.tolerance_s))));
+        record(i, ev.metrics(c.left, c.right));
         // Let a SIGINT handler run between candidates.
         await new Promise<void>((r) => setImmediate(r));
       }
     } else {
       const jobs: BagJob[] = todo.map((i) => ({ id: i, left: configs.get(i)!.left, right: configs.get(i)!.right }));
-      const pool = startPool(input.jobs, { bags: data.bags.map((b) => b.path), zoneNames, labels: data.perBag, tolerance_s: data.labels.tolerance_s }, jobs, (i, m) => record(i, m));
+      const chunks = bagChunks(jobs, input.jobs, (j) => restKey(j.left, j.right));
+      const pool = startPool(input.jobs, { bags: data.bags.map((b) => b.path), zoneNames, labels: data.perBag, tolerance_s: data.labels.tolerance_s, share: input.share ?? true }, chunks, (i, m) => record(i, m));
       input.onStart?.(() => pool.stop());
       await pool.done;
     }
