@@ -3,7 +3,10 @@
  * world's knocks and the beam's contacts), for a sweep over worlds. The same counts as over
  * labelled bags (evaluate.ts), with the knocks as the labelled impacts:
  *   - a knock is detected when either arm's hold carries an impact trip from the knock's start
- *     to IMPACT_EXPLAINED_S after its end; the delay is from the knock's start to that trip;
+ *     to IMPACT_EXPLAINED_S after its end; the delay is from the knock's start to that trip. A
+ *     knock that comes while a hold with an impact trip is in force (the watchdog keeps the
+ *     first trip of a kind per hold, so a second knock leaves no trip of its own) is detected
+ *     too, with no delay counted;
  *   - a hold is explained when it starts in such a window (or its impact trip lies in one), or
  *     at or after the run's first contact with an obstacle (from then on the holds are the
  *     contact's; the contact counts in the collision rate); a partner-only hold (partner_stop,
@@ -41,7 +44,7 @@ export function worldTruth(s: Pick<EpisodeSummary, 'duration_s' | 'world' | 'hol
     if (first !== Number.POSITIVE_INFINITY) {
       detected++;
       delays.push(Math.max(0, first - t0));
-    }
+    } else if (events.some((e) => e.start_s <= t0 && (e.end_s === null || e.end_s >= t0) && e.reasons.some((r) => r.check === 'impact' && r.t_s <= t0))) detected++;
   }
   const contactFrom = s.collisions.first_s === null ? Number.POSITIVE_INFINITY : s.collisions.first_s - 0.05;
   const bins = Math.max(0, Math.floor(s.duration_s));

@@ -135,4 +135,11 @@ describe('worldTruth: holds and impact trips against the knocks', () => {
     expect(worldTruth(summary([hold('left', 2.0, [['impact', 2.0]])]), 4)).toMatchObject({ detected: 0, false_holds: 1 });
     expect(worldTruth(summary([hold('left', 7.0, [['impact', 7.0]])], 6.99), 4)).toMatchObject({ detected: 0, false_holds: 0 });
   });
+
+  it('a knock that comes while an impact hold is in force is detected (no trip of its own, no delay)', () => {
+    const t = worldTruth(summary([{ ...hold('right', 3.8, [['impact', 3.8]]), end_s: 4.5 }]), 4);
+    expect(t).toMatchObject({ detected: 1, delays_s: [], false_holds: 0 });
+    // Released before the knock: missed.
+    expect(worldTruth(summary([{ ...hold('right', 3.0, [['impact', 3.0]]), end_s: 3.5 }]), 4)).toMatchObject({ detected: 0, false_holds: 1 });
+  });
 });
