@@ -127,10 +127,7 @@ export function register(program: Command): void {
         const families: (Family | undefined)[] = opts.family?.length ? opts.family.map((f) => loadFamily(f, cell.left.config, options)) : [undefined];
         const input = { left: cell.left.config, right: cell.right.config, worlds, seed, strategies, jobs, options, ...(duration !== undefined ? { duration_s: duration } : {}) };
         validateCompare(input);
-        if (opts.shard !== undefined) {
-          if (opts.family?.length) throw new InputError({ code: 'cli.shard_family', message: '--shard does not take --family yet: a shard runs the worlds of the parameters file', where: { option: '--shard' }, hint: 'leave out --family, or run the family unsharded' });
-          return compareShardCommand(input, opts);
-        }
+        if (opts.shard !== undefined) return compareShardCommand(input, opts, families.filter((f): f is Family => f !== undefined));
         const outInputs = [paramsPath, ...(opts.family ?? [])];
         if (opts.out !== undefined) checkOutputDir(opts.out, { overwrite: !!opts.overwrite, inputs: outInputs });
         const bar = progressBar('compare', !!opts.json);

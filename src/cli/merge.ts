@@ -21,8 +21,9 @@ export function register(program: Command): void {
         const merged = mergeDirs(dirs);
         const files = await withOutputDir(opts.out, { overwrite: !!opts.overwrite, inputs: dirs }, async (tmp) => {
           if (merged.kind === 'sweep') return writeSweepFiles(tmp, merged.document);
-          // Exactly what `compare --json` prints for the unsharded run.
-          writeFileSync(join(tmp, 'compare.json'), JSON.stringify(compareJson(merged.result), null, 2) + '\n');
+          // Exactly what `compare --json` prints for the unsharded run (with several families: one entry each).
+          const r = merged.results;
+          writeFileSync(join(tmp, 'compare.json'), JSON.stringify(r.length === 1 ? compareJson(r[0]!) : { families: r.map(compareJson) }, null, 2) + '\n');
           return ['compare.json'];
         });
         if (opts.json) printJson({ kind: merged.kind, shards: dirs.length, out: opts.out, files });

@@ -6,6 +6,7 @@ import cliProgress from 'cli-progress';
 import { cellFromFile } from '../params/config.js';
 import { loadParamsFile } from '../params/load.js';
 import { checkEpisodeSetup } from '../sim/episode.js';
+import { loadFamily } from '../sim/family.js';
 import { simOptions } from '../sim/options.js';
 import { inspectBags } from '../sweep/decoded.js';
 import { labelsPerBag, loadLabels, NO_LABELS } from '../sweep/labels.js';
@@ -27,6 +28,7 @@ interface Opts {
   bags?: string[];
   labels?: string;
   worlds?: string;
+  family?: string;
   objective: string;
   jobs: string;
   shard?: string;
@@ -79,6 +81,7 @@ export function register(program: Command): void {
     .option('--bags <paths...>', 'bags (rosbag2 folders, .mcap or .db3 files), or folders of bags')
     .option('--labels <file>', 'events file (CSV or YAML) or expectations file labelling the bags\' impacts and pushes')
     .option('--worlds <N>', 'instead of bags: N randomized worlds of the simulated cell')
+    .option('--family <file>', 'worlds: draw them from this scenario family (YAML; examples/families/); its knocks are the impacts to detect')
     .option('--objective <name>', 'safe (default), success, gentle, fast-detection, fast-transfer', 'safe')
     .option('--jobs <k>', 'worker threads', '1')
     .option('--shard <i/n>', 'run slice i of n (i from 0), or auto/n (index from JOB_COMPLETION_INDEX or SLURM_ARRAY_TASK_ID)')
@@ -102,6 +105,7 @@ export function register(program: Command): void {
         const space = loadSpace(opts.space);
         let data: SweepData;
         let inputs: string[] = [opts.params, opts.space];
+        if (opts.family !== undefined && opts.worlds === undefined) throw new InputError({ code: 'cli.family_without_worlds', message: '--family draws simulated worlds: it goes with --worlds N', where: { option: '--family' }, hint: '--worlds N --family <file>, or --bags <dir | files...> [--labels <file>]' });
         if (opts.bags) {
           const paths = expandBags(opts.bags);
           const bags = await inspectBags(paths);
@@ -117,7 +121,9 @@ export function register(program: Command): void {
           const cell = cellFromFile(base, opts.params);
           const problems = checkEpisodeSetup(cell.left.config, simOptions(options));
           if (problems.length) throw new InputError(problems);
-          data = { kind: 'worlds', worlds, seed, options, ...(duration !== undefined ? { duration_s: duration } : {}) };
+          const family = opts.family !== undefined ? loadFamily(opts.family, cell.left.config, options) : undefined;
+          if (family) inputs = [...inputs, opts.family!];
+          data = { kind: 'worlds', worlds, seed, options, ...(duration !== undefined ? { duration_s: duration } : {}), ...(family ? { family } : {}) };
         }
         if (opts.out) checkOutputDir(opts.out, { overwrite: !!opts.overwrite, inputs });
         const journal = opts.out ? journalPath(opts.out) : undefined;

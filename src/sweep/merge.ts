@@ -25,7 +25,8 @@ function readJson(file: string): unknown {
   }
 }
 
-export type Merged = { kind: 'sweep'; document: SweepDocument } | { kind: 'compare'; result: CompareResult };
+/** A merged sweep, or a merged comparison: one result per family (one without a family). */
+export type Merged = { kind: 'sweep'; document: SweepDocument } | { kind: 'compare'; results: readonly CompareResult[] };
 
 export function mergeDirs(dirs: readonly string[]): Merged {
   if (dirs.length === 0) throw new InputError({ code: 'merge.no_input', message: 'no shard folder given', hint: 'antiphon merge <dir>... --out <dir>' });
@@ -47,7 +48,7 @@ export function mergeDirs(dirs: readonly string[]): Merged {
   }
   if (problems.length) throw new InputError(problems);
   if (sweeps.length && compares.length) throw new InputError({ code: 'merge.mixed', message: 'the folders mix sweep and compare shards', where: { file: compares[0]!.dir }, hint: 'merge one run at a time' });
-  if (compares.length) return { kind: 'compare', result: mergeCompareShards(compares) };
+  if (compares.length) return { kind: 'compare', results: mergeCompareShards(compares) };
   checkShardSet(sweeps.map((s) => ({ dir: s.dir, id: s.doc.sweep_id, shard: s.doc.shard })), 'sweep');
   const first = sweeps[0]!.doc;
   const byIndex = new Map<number, CandidateResult>();

@@ -16,19 +16,18 @@ import { appendFileSync, existsSync, readFileSync, rmSync, writeFileSync } from 
 import { basename, dirname, join, resolve } from 'node:path';
 import { parseParamsText, resolveForArm, type ParamsFile } from '../params/load.js';
 import type { ParamValue } from '../params/spec.js';
-import { pooledCalibration } from '../sim/belief-metrics.js';
-import { runJobs, type CompareJob, type RunOutcome } from '../sim/compare.js';
-import { mean } from '../sim/stats.js';
+import { loadMujoco } from '../sim/mujoco.js';
+import type { Family } from '../sim/family.js';
 import type { SimOptionsOverrides } from '../sim/options.js';
-import type { StrategySpec } from '../sim/strategies.js';
 import { worldSeed } from '../sim/world.js';
-import type { ArmConfig } from '../params/config.js';
 import { InputError } from '../util/errors.js';
 import { decodeBag, type BagInfo, type DecodedBag } from './decoded.js';
-import { evaluateBag, metricsFromBags, type CandidateMetrics } from './evaluate.js';
+import type { CandidateMetrics } from './evaluate.js';
+import { restKey, SharedEvaluator } from './share.js';
 import { bagName, type Label, type Labels } from './labels.js';
 import { choose, paretoFront, rocCurve, type CandidateResult, type Objective, type Roc } from './objective.js';
-import { startPool, type BagJob } from './pool.js';
+import { bagChunks, startPool, startWorkerPool, sweepScript, type BagJob } from './pool.js';
+import { metricsFromWorlds, runWorldJob, strategyOf, type WorldJob, type WorldRun, type WorldWorkerInit } from './worlds.js';
 import { candidateAt, candidateConfigs, type Space } from './space.js';
 
 export const SWEEP_FORMAT = 'antiphon-sweep/1';
@@ -40,7 +39,7 @@ export interface Shard {
 
 export type SweepData =
   | { readonly kind: 'bags'; readonly bags: readonly BagInfo[]; readonly labels: Labels; readonly perBag: readonly (readonly Label[])[] }
-  | { readonly kind: 'worlds'; readonly worlds: number; readonly seed: number; readonly options: SimOptionsOverrides; readonly duration_s?: number };
+  | { readonly kind: 'worlds'; readonly worlds: number; readonly seed: number; readonly options: SimOptionsOverrides; readonly duration_s?: number; readonly family?: Family };
 
 export interface SweepInput {
   readonly base: ParamsFile;
@@ -53,6 +52,8 @@ export interface SweepInput {
   /** Journal file of finished candidates (none: nothing kept on SIGINT). */
   readonly journal?: string;
   readonly resume?: boolean;
+  /** Over bags: share work across candidates where no result changes (share.ts; default true). false runs every candidate in full. */
+  readonly share?: boolean;
   readonly onProgress?: (done: number, total: number) => void;
   /** Set by the caller (SIGINT): stop after the candidates in flight. */
   readonly stopRequested?: () => boolean;
@@ -86,7 +87,15 @@ export function dataDescription(data: SweepData): Record<string, unknown> {
       note: 'recordings: the recommended twist moves nothing, so success, collisions and time to goal are not measured; an operator reset is simulated after each hold',
     };
   }
-  return { kind: 'worlds', worlds: data.worlds, seed: data.seed, options: data.options, duration_s: data.duration_s ?? null, note: 'simulated cell (MuJoCo), our own synthetic worlds; labels are its ground truth (contacts, occupancy); the cell has no knocks yet, so every hold is a false hold' };
+  return {
+    kind: 'worlds',
+    worlds: data.worlds,
+    seed: data.seed,
+    options: data.options,
+    duration_s: data.duration_s ?? null,
+    ...(data.family ? { family: { name: data.family.spec.family, file: basename(data.family.file), spec: data.family.spec } } : {}),
+    note: `simulated cell (MuJoCo), our own synthetic worlds${data.family ? ` drawn from family '${data.family.spec.family}'` : ''}; labels are its ground truth: the knocks (impacts to detect), contacts (collisions; holds from the first contact on are the contact's) and true occupancy (belief calibration); every other hold is a false hold`,
+  };
 }
 
 export function sweepId(input: Pick<SweepInput, 'baseText' | 'space' | 'data' | 'objective'>): string {
@@ -131,41 +140,6 @@ function readJournal(path: string, id: string): Map<number, CandidateMetrics> {
   return done;
 }
 
-function strategyOf(c: ArmConfig): StrategySpec {
-  const r = c.roles;
-  if (r.scheduler === 'adaptive') return { name: 'adaptive', k: null };
-  if (r.scheduler === 'fixed') return { name: 'fixed', k: null };
-  return { name: 'alternating', k: Math.max(1, Math.round(r.period_s * c.wrench_filter.sample_rate_hz)) };
-}
-
-export function metricsFromWorlds(runs: readonly RunOutcome[]): CandidateMetrics {
-  const dur = runs.reduce((a, r) => a + r.duration_s, 0);
-  const holds = runs.reduce((a, r) => a + r.holds, 0);
-  const n = runs.length;
-  const sampled = runs.reduce((a, r) => a + r.sampled_s, 0);
-  return {
-    duration_s: dur,
-    labelled_impacts: 0,
-    detected_impacts: 0,
-    missed_impacts: 0,
-    detection_rate: null,
-    holds,
-    false_holds: holds,
-    false_holds_per_hour: dur > 0 ? (3600 * holds) / dur : 0,
-    negative_bins: 0,
-    false_hold_bins: 0,
-    false_hold_bin_rate: null,
-    detection_delay_s: { median: null, p95: null },
-    peak_internal_force_n: mean(runs.map((r) => r.peak_internal_force_n)) ?? 0,
-    peak_correction_force_n: null,
-    success_rate: n ? runs.filter((r) => r.success).length / n : null,
-    collision_rate: n ? runs.filter((r) => r.collisions > 0).length / n : null,
-    mean_time_to_goal_s: mean(runs.filter((r) => r.success && r.time_to_goal_s !== null).map((r) => r.time_to_goal_s!)),
-    belief_ece: pooledCalibration(runs.map((r) => r.calibration)).ece,
-    same_role_fraction: sampled > 0 ? runs.reduce((a, r) => a + r.same_role_s, 0) / sampled : null,
-  };
-}
-
 export interface SweepRun {
   readonly document: SweepDocument;
   readonly interrupted: boolean;
@@ -204,29 +178,57 @@ export async function runSweep(input: SweepInput): Promise<SweepRun> {
       input.onStart?.(() => {});
       const decoded: DecodedBag[] = [];
       for (const b of data.bags) decoded.push(await decodeBag(b.path, zoneNames));
+      const ev = new SharedEvaluator(decoded, data.perBag, data.labels.tolerance_s, input.share ?? true);
       for (const i of todo) {
         if (stopRequested()) break;
         const c = configs.get(i)!;
-        record(i, metricsFromBags(decoded.map((b, k) => evaluateBag(b, c.left, c.right, data.perBag[k]!, data.labels.tolerance_s))));
+        record(i, ev.metrics(c.left, c.right));
         // Let a SIGINT handler run between candidates.
         await new Promise<void>((r) => setImmediate(r));
       }
     } else {
       const jobs: BagJob[] = todo.map((i) => ({ id: i, left: configs.get(i)!.left, right: configs.get(i)!.right }));
-      const pool = startPool(input.jobs, { bags: data.bags.map((b) => b.path), zoneNames, labels: data.perBag, tolerance_s: data.labels.tolerance_s }, jobs, (i, m) => record(i, m));
+      const chunks = bagChunks(jobs, input.jobs, (j) => restKey(j.left, j.right));
+      const pool = startPool(input.jobs, { bags: data.bags.map((b) => b.path), zoneNames, labels: data.perBag, tolerance_s: data.labels.tolerance_s, share: input.share ?? true }, chunks, (i, m) => record(i, m));
       input.onStart?.(() => pool.stop());
       await pool.done;
     }
   } else {
-    input.onStart?.(() => {});
     const seeds = Array.from({ length: data.worlds }, (_, w) => worldSeed(data.seed, w));
+    const W = data.worlds;
+    const init: WorldWorkerInit = { options: { ...data.options, record: false }, duration_s: data.duration_s, ...(data.family ? { family: data.family } : {}) };
+    // Candidate-major: a candidate's worlds are done together, so an interruption keeps whole candidates.
+    const jobs: WorldJob[] = [];
     for (const i of todo) {
-      if (stopRequested()) break;
       const c = configs.get(i)!;
       const strategy = strategyOf(c.left);
-      const list: CompareJob[] = seeds.map((seed, w) => ({ id: w, world: w, seed, strategy }));
-      const runs = await runJobs({ left: c.left, right: c.right, options: data.options, duration_s: data.duration_s }, list, input.jobs);
-      record(i, metricsFromWorlds(runs));
+      for (let w = 0; w < W; w++) jobs.push({ id: jobs.length, candidate: i, world: w, seed: seeds[w]!, strategy, left: c.left, right: c.right });
+    }
+    const runs = new Array<WorldRun | undefined>(jobs.length);
+    const left = new Map(todo.map((i) => [i, W]));
+    const finished = (id: number, r: WorldRun): void => {
+      runs[id] = r;
+      const j = jobs[id]!;
+      const n = left.get(j.candidate)! - 1;
+      left.set(j.candidate, n);
+      if (n === 0) {
+        const first = id - j.world;
+        record(j.candidate, metricsFromWorlds(runs.slice(first, first + W) as WorldRun[]));
+      }
+    };
+    if (input.jobs <= 1 || jobs.length <= 1) {
+      input.onStart?.(() => {});
+      const mj = await loadMujoco();
+      for (const j of jobs) {
+        if (j.world === 0 && stopRequested()) break;
+        finished(j.id, runWorldJob(mj, init, j));
+        // Let a SIGINT handler run between episodes.
+        await new Promise<void>((r) => setImmediate(r));
+      }
+    } else {
+      const pool = startWorkerPool<WorldJob, WorldRun>(sweepScript('world-worker.js'), input.jobs, init, jobs, finished);
+      input.onStart?.(() => pool.stop());
+      await pool.done;
     }
   }
   const candidates: CandidateResult[] = indices.filter((i) => results.has(i)).map((i) => ({ index: i, values: candidateAt(space, i).values, metrics: results.get(i)! }));

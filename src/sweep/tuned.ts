@@ -33,12 +33,12 @@ export function metricsText(m: CandidateMetrics): string {
 }
 
 function dataText(doc: SweepDocument): string {
-  const d = doc.data as { kind: string; bags?: { name: string; duration_s: number }[]; labels?: { file: string } | null; worlds?: number; seed?: number };
+  const d = doc.data as { kind: string; bags?: { name: string; duration_s: number }[]; labels?: { file: string } | null; worlds?: number; seed?: number; family?: { name: string; file: string } };
   if (d.kind === 'bags') {
     const dur = (d.bags ?? []).reduce((a, b) => a + b.duration_s, 0);
     return `on ${d.bags!.length} bag(s) (${dur.toFixed(0)} s: ${d.bags!.map((b) => b.name).join(', ')})${d.labels ? `, labels ${d.labels.file}` : ''}`;
   }
-  return `on ${d.worlds} simulated worlds (seed ${d.seed}, synthetic)`;
+  return `on ${d.worlds} simulated worlds (seed ${d.seed}${d.family ? `, family ${d.family.name} from ${d.family.file}` : ''}, synthetic)`;
 }
 
 /** The changes the chosen candidate makes to the base file, with their evidence. */

@@ -1,21 +1,22 @@
-/** Worker thread of `sweep` over bags: decodes every bag once, then evaluates the candidates it is sent. */
+/** Worker thread of `sweep` over bags: decodes every bag once, then evaluates the chunks of candidates it is sent (sharing work: share.ts). */
 import { parentPort, workerData } from 'node:worker_threads';
 import { decodeBag, type DecodedBag } from './decoded.js';
-import { evaluateBag, metricsFromBags } from './evaluate.js';
-import type { BagJob, BagWorkerInit } from './pool.js';
+import type { BagChunk, BagWorkerInit, ChunkResult } from './pool.js';
+import { SharedEvaluator } from './share.js';
 
 const init = workerData as BagWorkerInit;
 const port = parentPort;
 if (port) {
   const bags: DecodedBag[] = [];
   for (const p of init.bags) bags.push(await decodeBag(p, init.zoneNames));
-  port.on('message', (m: { type: 'job'; job: BagJob }) => {
-    const j = m.job;
+  const ev = new SharedEvaluator(bags, init.labels, init.tolerance_s, init.share ?? true);
+  port.on('message', (m: { type: 'job'; job: BagChunk }) => {
+    const c = m.job;
     try {
-      const metrics = metricsFromBags(bags.map((b, k) => evaluateBag(b, j.left, j.right, init.labels[k]!, init.tolerance_s)));
-      port.postMessage({ type: 'result', id: j.id, metrics });
+      const result: ChunkResult = { results: c.jobs.map((j) => ({ id: j.id, metrics: ev.metrics(j.left, j.right) })) };
+      port.postMessage({ type: 'result', id: c.id, metrics: result });
     } catch (err) {
-      port.postMessage({ type: 'error', id: j.id, message: (err as Error).stack ?? String(err) });
+      port.postMessage({ type: 'error', id: c.id, message: (err as Error).stack ?? String(err) });
     }
   });
   port.postMessage({ type: 'ready' });

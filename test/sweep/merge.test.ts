@@ -91,4 +91,22 @@ describe('compare shards and merge', () => {
     expect(bad.code).toBe(2);
     expect(bad.stderr).toMatch(/shard of another compare/);
   }, 600_000);
+
+  it('with two --family files: two shards merged give exactly compare --json of the unsharded run', async () => {
+    // Our own scenario families (examples/families/): the demo cell's zones, and zones that change during the transfer.
+    const args = ['--params', 'config/demo_cell.yaml', '--worlds', '3', '--seed', '5', '--duration', '1.5', '--strategies', 'alternating:500,fixed', '--family', 'examples/families/demo_cell.yaml', '--family', 'examples/families/changing.yaml'];
+    const whole = await run(compare, 'compare', ...args, '--json');
+    expect(whole.code).toBe(0);
+    expect(JSON.parse(whole.stdout).families.map((f: any) => f.family.name)).toEqual(['demo_cell', 'changing']);
+    for (let i = 0; i < 2; i++) expect((await run(compare, 'compare', ...args, '--shard', `${i}/2`, '--out', join(dir, `f${i}`))).code).toBe(0);
+    const r = await run(merge, 'merge', join(dir, 'f1'), join(dir, 'f0'), '--out', join(dir, 'fm'));
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    expect(read('fm', 'compare.json')).toBe(whole.stdout);
+    // A shard of the same comparison without one of the families is another comparison's.
+    expect((await run(compare, 'compare', ...args.slice(0, -2), '--shard', '1/2', '--out', join(dir, 'f1x'))).code).toBe(0);
+    const bad = await run(merge, 'merge', join(dir, 'f0'), join(dir, 'f1x'), '--out', join(dir, 'fm2'));
+    expect(bad.code).toBe(2);
+    expect(bad.stderr).toMatch(/shard of another compare/);
+  }, 600_000);
 });
