@@ -47,12 +47,14 @@ const SUITES: Record<string, string[]> = {
   impact: ['test/core/filter/wrench-filter.test.ts', 'test/hardening/impact-*.test.ts'],
   filter: ['test/core/filter/*.test.ts', 'test/hardening/impact-*.test.ts', 'test/review/{tare-hides-load,startup-tare-hides-squeeze,tare-pending-through-motion,pre-tare-gravity,belief-overconfident}.test.ts'],
   // The Butterworth design against SciPy (printed values and the live sweep) and the handbook, with the unit tests.
-  butterworth: ['test/core/filter/butterworth.test.ts', 'test/reference/butterworth.*.test.ts'],
+  butterworth: ['test/core/filter/butterworth.test.ts', 'test/core/filter/butterworth-*.test.ts', 'test/reference/butterworth.*.test.ts'],
   // The log labeller and the trip wording (pure functions, no arm step).
   text: ['test/core/classify.test.ts', 'test/core/trip-text.test.ts'],
   // The whole wrench filter without the arm-step property of tare-hides-load (6 s, and it
   // reaches every line of the filter's step, so it would run for each of those mutants).
   wrench: ['test/core/filter/wrench-filter.test.ts', 'test/core/filter/tare-*.test.ts', 'test/hardening/impact-*.test.ts', 'test/review/{startup-tare-hides-squeeze,tare-pending-through-motion,pre-tare-gravity}.test.ts'],
+  // The policy stage: its unit tests and the review test of the legible mean (through the arm step).
+  policy: ['test/core/policy.test.ts', 'test/review/legibility-mean.test.ts'],
   // test/core/belief.test.ts is left out: its long-run underflow test takes over a minute instrumented.
   belief: ['test/core/belief-api.test.ts', 'test/hardening/belief-forgetting.test.ts'],
   expect: ['test/replay/expect*.test.ts', 'test/hardening/expect-kinds.test.ts', 'test/review/expect-aliases.test.ts'],
