@@ -132,4 +132,16 @@ describe('classifyWrench', () => {
       expect(r.impacts.find((i) => i.start_s === t[x.start])!.peak_score).toBeGreaterThan(r.scores[x.start]!);
     }
   });
+
+  it('ends an impact that lasts to the end of the log at the last sample', () => {
+    const n = 700;
+    // A 60 N knock on the last 5 samples: the flag is still up when the log ends.
+    const { t, w } = log(n, (k, s) => {
+      if (k >= n - 5) s[1] = s[1]! + 60;
+    });
+    const r = classifyWrench(t, w, CFG, 5, 0.5);
+    expect(r.impacts.length).toBe(1);
+    expect(r.impacts[0]!.end_s).toBe(t[n - 1]);
+    expect(r.labels[n - 1]).toBe(2);
+  });
 });
