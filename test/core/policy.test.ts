@@ -177,3 +177,63 @@ describe('Policy.updateTarget', () => {
     }
   });
 });
+
+describe('Policy on a 3-D path (examples/path_cell.yaml): the vertical component counts too', () => {
+  const path = loadCell('examples/path_cell.yaml').left.config;
+  const task = new TaskModel(path.task, path.policy, 'left');
+  const policy = new Policy(task, path.policy);
+  /** The first point of the path where `ok` holds for the all-free and all-occupied velocities of `zones`. */
+  const where = (zones: Int32Array, ok = (a: number[], b: number[]) => Math.abs(a[2]! - b[2]!) > 0.01): number[] => {
+    for (let s = 0; s < task.path.length; s += 0.01) {
+      task.path.locate(s);
+      const p = [task.path.pos[0]!, task.path.pos[1]!, task.path.pos[2]!];
+      task.prepare(p[0]!, p[1]!, p[2]!);
+      const a = vel(task, zones, 0, 0);
+      const b = vel(task, zones, 0, (1 << zones.length) - 1);
+      if (ok(a, b)) return p;
+    }
+    throw new Error('no point of the path where the test applies');
+  };
+
+  it('consistentMean averages the vertical component as well', () => {
+    const zones = Int32Array.of(task.own[0]!);
+    const p = where(zones);
+    task.prepare(p[0]!, p[1]!, p[2]!);
+    const table = new SubsetTable(1);
+    task.tabulate(zones, 0, table);
+    const v0 = vel(task, zones, 0, 0);
+    const v1 = vel(task, zones, 0, 1);
+    expect(Math.abs(v0[2]! + v1[2]!)).toBeGreaterThan(1e-3);
+    policy.consistentMean(table, 0);
+    close(policy.v, v0.map((x, i) => (x + v1[i]!) / 2), 1e-15);
+  });
+
+  it('listener: the spread and the scaled mean include the vertical component', () => {
+    // The right arm: its hidden zone is the low clamp, passed over (lifted).
+    const right = loadCell('examples/path_cell.yaml').right.config;
+    const task = new TaskModel(right.task, right.policy, 'right');
+    const policy = new Policy(task, right.policy);
+    const zones = Int32Array.of(task.hidden[0]!);
+    let p: number[] | undefined;
+    for (let s = 0; s < task.path.length && !p; s += 0.01) {
+      task.path.locate(s);
+      const q = [task.path.pos[0]!, task.path.pos[1]!, task.path.pos[2]!];
+      task.prepare(q[0]!, q[1]!, q[2]!);
+      if (Math.abs(vel(task, zones, 0, 0)[2]! - vel(task, zones, 0, 1)[2]!) > 0.01) p = q;
+    }
+    expect(p).toBeDefined();
+    const floor = path.policy.confidence_floor;
+    for (const p1 of [0.5, 0.3]) {
+      policy.updateTarget(LISTENER, p![0]!, p![1]!, p![2]!, 0, 0, 0, 0, Float64Array.of(1 - p1, p1));
+      task.prepare(p![0]!, p![1]!, p![2]!);
+      const v0 = vel(task, zones, 0, 0);
+      const v1 = vel(task, zones, 0, 1);
+      const mean = v0.map((x, i) => (1 - p1) * x + p1 * v1[i]!);
+      const spread = Math.sqrt(p1 * (1 - p1)) * Math.hypot(v1[0]! - v0[0]!, v1[1]! - v0[1]!, v1[2]! - v0[2]!);
+      const scale = floor + (1 - floor) * Math.max(0, 1 - spread / path.policy.speed_m_s);
+      const cellV = new Float64Array(3);
+      task.toCell(mean[0]! * scale, mean[1]! * scale, mean[2]! * scale, cellV);
+      close(policy.target, cellV, 1e-12);
+    }
+  });
+});
