@@ -144,14 +144,14 @@ describe('tare bounds: the start-up tare', () => {
 });
 
 describe('tare bounds: a later tare', () => {
-  const start = [0, 0, -10, 0, 0, 1];
+  const start = [1, 2, -10, 0.5, 0.25, 1]; // every axis non-zero, so a sum cannot pass for a difference
   it('takes a force change at max_change_n, refuses one just above, and ends with the refusal', () => {
     const at = filter({ max_change_n: 5 });
     feed(at, start, N);
     at.requestTare();
     expect(at.tarePending).toBe(true);
-    expect(feed(at, [0, 3, -6, 0, 0, 1], N)[N - 1]).toBe(TARE_TAKEN);
-    expect([...at.bias]).toEqual([0, 3, -6, 0, 0, 1]);
+    expect(feed(at, [1, 5, -6, 0.5, 0.25, 1], N)[N - 1]).toBe(TARE_TAKEN);
+    expect([...at.bias]).toEqual([1, 5, -6, 0.5, 0.25, 1]);
     expect([...at.startBias]).toEqual(start);
     expect([...at.biasChange]).toEqual([0, 3, 4, 0, 0, 0]);
     expect(at.tarePending).toBe(false);
@@ -159,7 +159,7 @@ describe('tare bounds: a later tare', () => {
     const over = filter({ max_change_n: 4.999 });
     feed(over, start, N);
     over.requestTare();
-    expect(feed(over, [0, 3, -6, 0, 0, 1], N)[N - 1]).toBe(TARE_REFUSED);
+    expect(feed(over, [1, 5, -6, 0.5, 0.25, 1], N)[N - 1]).toBe(TARE_REFUSED);
     expect(over.tareRefusedWhy).toBe(TARE_REFUSED_CHANGE_FORCE);
     expect(over.tareRefusedValue).toBe(5);
     expect(over.tareRefusedLimit).toBe(4.999);
@@ -173,18 +173,18 @@ describe('tare bounds: a later tare', () => {
     const at = filter({ max_change_nm: 5 });
     feed(at, start, N);
     at.requestTare();
-    expect(feed(at, [0, 0, -10, 3, 0, 5], N)[N - 1]).toBe(TARE_TAKEN);
-    expect([...at.biasChange]).toEqual([0, 0, 0, 3, 0, 4]);
+    expect(feed(at, [1, 2, -10, 0.5, 3.25, 5], N)[N - 1]).toBe(TARE_TAKEN);
+    expect([...at.biasChange]).toEqual([0, 0, 0, 0, 3, 4]);
     const over = filter({ max_change_nm: 4.999 });
     feed(over, start, N);
     over.requestTare();
-    feed(over, [0, 0, -10, 3, 0, 5], N);
+    feed(over, [1, 2, -10, 0.5, 3.25, 5], N);
     expect(over.tareRefusedWhy).toBe(TARE_REFUSED_CHANGE_TORQUE);
     expect(over.tareRefusedValue).toBe(5);
     const both = filter({ max_change_n: 1, max_change_nm: 1 });
     feed(both, start, N);
     both.requestTare();
-    feed(both, [0, 3, -6, 3, 0, 5], N);
+    feed(both, [1, 5, -6, 0.5, 3.25, 5], N);
     expect(both.tareRefusedWhy).toBe(TARE_REFUSED_CHANGE_FORCE);
   });
 
@@ -192,11 +192,11 @@ describe('tare bounds: a later tare', () => {
     const f = filter({ max_change_n: 5 });
     feed(f, start, N);
     f.requestTare();
-    feed(f, [0, 3, -6, 0, 0, 1], N); // change 5: taken
+    feed(f, [1, 5, -6, 0.5, 0.25, 1], N); // change 5: taken
     f.requestTare();
-    feed(f, [0, 3.1, -6, 0, 0, 1], N); // change from start > 5 (from the last only 0.1): refused
+    feed(f, [1, 5.1, -6, 0.5, 0.25, 1], N); // change from start > 5 (from the last only 0.1): refused
     expect(f.tareRefusedWhy).toBe(TARE_REFUSED_CHANGE_FORCE);
-    expect([...f.bias]).toEqual([0, 3, -6, 0, 0, 1]);
+    expect([...f.bias]).toEqual([1, 5, -6, 0.5, 0.25, 1]);
   });
 });
 
