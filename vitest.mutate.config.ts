@@ -46,13 +46,25 @@ const SUITES: Record<string, string[]> = {
   ],
   impact: ['test/core/filter/wrench-filter.test.ts', 'test/hardening/impact-*.test.ts'],
   filter: ['test/core/filter/*.test.ts', 'test/hardening/impact-*.test.ts', 'test/review/{tare-hides-load,startup-tare-hides-squeeze,tare-pending-through-motion,pre-tare-gravity,belief-overconfident}.test.ts'],
+  // The Butterworth design against SciPy (printed values and the live sweep) and the handbook, with the unit tests.
+  butterworth: ['test/core/filter/butterworth.test.ts', 'test/core/filter/butterworth-*.test.ts', 'test/reference/butterworth.*.test.ts'],
+  // The log labeller and the trip wording (pure functions, no arm step).
+  text: ['test/core/classify.test.ts', 'test/core/trip-text.test.ts'],
+  // The whole wrench filter without the arm-step property of tare-hides-load (6 s, and it
+  // reaches every line of the filter's step, so it would run for each of those mutants).
+  wrench: ['test/core/filter/wrench-filter.test.ts', 'test/core/filter/tare-*.test.ts', 'test/hardening/impact-*.test.ts', 'test/review/{startup-tare-hides-squeeze,tare-pending-through-motion,pre-tare-gravity}.test.ts'],
+  // The policy stage: its unit tests and the review test of the legible mean (through the arm step).
+  policy: ['test/core/policy.test.ts', 'test/review/legibility-mean.test.ts'],
+  // The arm step's inputs and tare gating: the quick review tests that drive an ArmStep (each
+  // well under a second; the bit-identical restore run and the tare property are left out).
+  arm: ['test/review/{input-times,quaternion,joint-speed-unavailable,nan-time-spurious-trip,watchdog-time,wrench-gap,zone-view-input,zone-state-values,hold-link-deadlock,tare-pending-through-motion,pre-tare-gravity,startup-tare-hides-squeeze}.test.ts', 'test/core/arm-step-inputs.test.ts'],
   // test/core/belief.test.ts is left out: its long-run underflow test takes over a minute instrumented.
   belief: ['test/core/belief-api.test.ts', 'test/hardening/belief-forgetting.test.ts'],
   expect: ['test/replay/expect*.test.ts', 'test/hardening/expect-kinds.test.ts', 'test/review/expect-aliases.test.ts'],
   // The table is built when the module loads: every mutant there is static and reruns the suite.
   schema: ['test/params/schema-table.test.ts'],
   params: ['test/params/*.test.ts', 'test/hardening/param-ceilings.test.ts', 'test/review/params-*.test.ts'],
-  core: ['test/core/{roles,task-model}.test.ts', 'test/review/{legibility-mean,params-cross-arm,adaptive-common-knowledge}.test.ts'],
+  core: ['test/core/roles*.test.ts', 'test/core/task-model*.test.ts', 'test/review/{legibility-mean,params-cross-arm,adaptive-common-knowledge}.test.ts'],
 };
 
 const suite = process.env.MUTATE_SUITE;
