@@ -510,16 +510,19 @@ export class ArmStep {
     }
     const f = this.filter;
     // A re-tare accepted while held or still ends, refused, once the arm moves again.
-    if (f.tarePending && f.tared && this.movingNow()) f.cancelTare(TARE_REFUSED_MOVING);
+    const cancelled = f.tarePending && f.tared && this.movingNow();
+    if (cancelled) f.cancelTare(TARE_REFUSED_MOVING);
     else f.tareOutcome = 0;
     if (finite) f.step(wrench);
+    // The filter's step starts its outcome afresh: a refusal for motion is this sample's outcome.
+    if (cancelled) f.tareOutcome = TARE_REFUSED;
     out.tareOutcome = TARE_OUTCOME_NONE;
     if (f.tareOutcome === TARE_TAKEN) {
       out.tareOutcome = TARE_OUTCOME_TAKEN;
       out.tareReason = '';
     } else if (f.tareOutcome === TARE_REFUSED) {
       out.tareOutcome = TARE_OUTCOME_REFUSED;
-      out.tareReason = `${TARE_REFUSAL_TEXT[f.tareRefusedWhy]} (${f.tareRefusedValue.toPrecision(4)} > ${f.tareRefusedLimit})`;
+      out.tareReason = f.tareRefusedWhy === TARE_REFUSED_MOVING ? TARE_REFUSAL_TEXT[f.tareRefusedWhy]! : `${TARE_REFUSAL_TEXT[f.tareRefusedWhy]} (${f.tareRefusedValue.toPrecision(4)} > ${f.tareRefusedLimit})`;
     }
     const wd = this.wdIn;
     const wp = this.config.watchdog;

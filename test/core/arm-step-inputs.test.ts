@@ -7,7 +7,7 @@
  * joint speeds that are required but absent refuse it; a refusal says why.
  */
 import { describe, expect, it } from 'vitest';
-import { ArmStep } from '../../src/core/arm-step.js';
+import { ArmStep, TARE_OUTCOME_REFUSED } from '../../src/core/arm-step.js';
 import { TARE_REFUSED_MOVING } from '../../src/core/filter/index.js';
 import { loadCell, type ArmConfig } from '../../src/params/config.js';
 
@@ -59,9 +59,8 @@ describe('ArmStep.requestTare', () => {
     expect(s.requestTare()).toEqual({ status: 'pending', reason: 'waiting for a still window' });
     expect(s.requestTare()).toEqual({ status: 'pending', reason: 'a tare is already waiting for a still window' });
     // Each sample checks the command of the sample before: the tare ends on the first sample
-    // after the command passed the gate, never while it was under it. (It ends in the filter:
-    // `out.tareOutcome` does not show this refusal, as the filter's next step clears the outcome;
-    // reported to the lead, not changed here.)
+    // after the command passed the gate, never while it was under it, and the sample's outputs
+    // say so (outcome refused, with the reason).
     let refused = false;
     let prev = speed();
     for (let i = 0; i < 400 && !refused; i++) {
@@ -71,6 +70,8 @@ describe('ArmStep.requestTare', () => {
         expect(prev).toBeGreaterThan(TP.still_twist_m_s);
         expect(s.filter.tareRefusedWhy).toBe(TARE_REFUSED_MOVING);
         expect(s.filter.tared).toBe(true);
+        expect(s.out.tareOutcome).toBe(TARE_OUTCOME_REFUSED);
+        expect(s.out.tareReason).toBe('the arm started moving while the tare waited for a still window');
       } else expect(prev).toBeLessThanOrEqual(TP.still_twist_m_s + 1e-12);
       prev = speed();
     }
