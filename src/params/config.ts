@@ -73,10 +73,12 @@ export interface WatchdogParams {
 }
 
 export interface RolesParams {
-  readonly scheduler: 'fixed' | 'alternating' | 'adaptive';
+  readonly scheduler: 'fixed' | 'alternating' | 'adaptive' | 'lookahead';
   readonly fixed_role: 'speaker' | 'listener';
   readonly period_s: number;
   readonly phase: 0 | 1;
+  /** The lookahead scheduler's common progress estimate (src/core/roles.ts). */
+  readonly lookahead: { readonly speed_fraction: number; readonly start_delay_s: number; readonly lead_m: number; readonly detour_s: number };
 }
 
 export interface BeliefParams {
@@ -196,7 +198,7 @@ export function cellFromFile(file: ParamsFile | undefined, path: string | undefi
   }
   // Everything each arm reproduces of the other (the partner's policy in the likelihood, the
   // replica, the role clock) must be the same on both arms.
-  const shared = (k: string) => k.startsWith('belief.') || k.startsWith('policy.') || k.startsWith('coupling.') || k === 'roles.scheduler' || k === 'roles.period_s';
+  const shared = (k: string) => k.startsWith('belief.') || k.startsWith('policy.') || k.startsWith('coupling.') || k === 'roles.scheduler' || k === 'roles.period_s' || k.startsWith('roles.lookahead.');
   for (const key of new Set([...lv.keys(), ...rv.keys()])) {
     if (!shared(key)) continue;
     const a = JSON.stringify(val(lv, key));
@@ -212,8 +214,8 @@ export function cellFromFile(file: ParamsFile | undefined, path: string | undefi
     }
   }
   const sched = val(lv, 'roles.scheduler');
-  if (sched === 'adaptive' && val(lv, 'roles.phase') === val(rv, 'roles.phase')) {
-    problems.push({ code: 'param.same_phase', message: 'both arms have the same roles.phase; the adaptive scheduler alternates on it when no zone is private, so they would speak at the same time', where: { file: path, key: 'roles.phase' }, hint: 'set roles.phase: 0 for one arm and 1 for the other' });
+  if ((sched === 'adaptive' || sched === 'lookahead') && val(lv, 'roles.phase') === val(rv, 'roles.phase')) {
+    problems.push({ code: 'param.same_phase', message: `both arms have the same roles.phase; the ${String(sched)} scheduler alternates on it when no private zone is ahead, so they would speak at the same time`, where: { file: path, key: 'roles.phase' }, hint: 'set roles.phase: 0 for one arm and 1 for the other' });
   }
   if (sched === 'fixed' && val(rv, 'roles.scheduler') === 'fixed' && val(lv, 'roles.fixed_role') === val(rv, 'roles.fixed_role')) {
     problems.push({ code: 'param.same_fixed_role', message: `both arms have roles.fixed_role ${String(val(lv, 'roles.fixed_role'))}: with fixed roles one arm must speak and the other listen`, where: { file: path, key: 'roles.fixed_role' }, hint: 'speaker for one arm, listener for the other' });

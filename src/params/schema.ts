@@ -75,9 +75,13 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('watchdog.release_clear_s', 's', 1.0, 0.05, 600, 'Every condition must be clear this long before a reset releases the hold.'),
 
   // ---- roles -------------------------------------------------------------------------------
-  e('roles.scheduler', 'alternating', ['fixed', 'alternating', 'adaptive'], 'How roles are assigned on the shared clock.'),
+  e('roles.scheduler', 'alternating', ['fixed', 'alternating', 'adaptive', 'lookahead'], 'How roles are assigned on the shared clock: fixed; alternating slots; adaptive (slots shared out by each arm\'s count of private zones); lookahead (the owner of the next private zone along the path speaks, from a progress estimate both arms compute from the clock and the task).'),
   e('roles.fixed_role', 'speaker', ['speaker', 'listener'], 'The role held when the scheduler is fixed.'),
-  d('roles.period_s', 's', 0.5, 0.005, 600, 'Slot length of the alternating and adaptive schedulers.'),
+  d('roles.period_s', 's', 0.5, 0.005, 600, 'Slot length of the alternating and adaptive schedulers (lookahead: of its alternation once no private zone is ahead, and the grid its progress clock starts on).'),
+  d('roles.lookahead.speed_fraction', '1', 1, 0.05, 2, 'Lookahead: the common progress estimate advances at this fraction of policy.speed_m_s while nothing is in the way (detours are counted by detour_s). Both arms must use the same value.'),
+  d('roles.lookahead.start_delay_s', 's', 0.6, 0, 600, 'Lookahead: the common progress estimate starts this long after the start of the slot of the first sample (the start-up tare and the acceleration). Both arms must use the same value.'),
+  d('roles.lookahead.lead_m', 'm', 0.3, 0, 100, 'Lookahead: a private zone counts as ahead from this far (arc length of the progress estimate) before its near edge until it is surely passed. Each slot goes to the arms in proportion to the private zones each has ahead (all to the owner of the only ones ahead); with none ahead the arms alternate in period_s slots. Both arms must use the same value.'),
+  d('roles.lookahead.detour_s', 's', 1.2, 0, 600, 'Lookahead: the longest a detour around one zone delays the object. A zone is surely passed once the progress estimate, delayed this much for every zone up to it (shared ones too), has passed its far edge by the clearance. Both arms must use the same value.'),
   { ...i('roles.phase', 0, 0, 1, 'Alternating: this arm speaks in even slots (0) or odd slots (1). The partner takes the other. Default: 0 for left, 1 for right.'), armDefault: { left: 0, right: 1 } },
 
   // ---- belief ------------------------------------------------------------------------------

@@ -10,13 +10,16 @@
  *   independent  both fixed speakers with legibility_gain 0: each acts on its own view only.
  *   adaptive     roles.scheduler adaptive (clock slots shared out by each arm's count of private zones);
  *                adaptive:k sets the slot to k samples (default: roles.period_s).
+ *   lookahead    roles.scheduler lookahead: the owner of the next private zone along the path
+ *                speaks, from a progress estimate both arms compute from the clock and the task;
+ *                lookahead:k sets the slot of its alternation once no private zone is ahead.
  *
  * Everything but `centralized` and `explicit` feeds each arm only its own area sensor.
  */
 import type { ArmConfig, ZoneConfig } from '../params/config.js';
 import { InputError } from '../util/errors.js';
 
-export const STRATEGY_NAMES = ['centralized', 'explicit', 'alternating', 'fixed', 'independent', 'adaptive'] as const;
+export const STRATEGY_NAMES = ['centralized', 'explicit', 'alternating', 'fixed', 'independent', 'adaptive', 'lookahead'] as const;
 export type StrategyName = (typeof STRATEGY_NAMES)[number];
 
 /** Strategies that take a period in steps (k). */
@@ -34,7 +37,7 @@ export interface StrategySpec {
 }
 
 /** Strategies that may take a period but need none (adaptive: the slot length, default roles.period_s). */
-export const OPTIONAL_PERIOD: ReadonlySet<StrategyName> = new Set(['adaptive']);
+export const OPTIONAL_PERIOD: ReadonlySet<StrategyName> = new Set(['adaptive', 'lookahead']);
 
 /** How the sim builds each arm's zone view. */
 export type ZoneViewMode = 'own' | 'all' | 'messages';
@@ -100,10 +103,11 @@ export function applyStrategy(spec: StrategySpec, left: ArmConfig, right: ArmCon
       return { spec, left: solo(left), right: solo(right), view: 'own', messageEvery: 0 };
     }
     case 'adaptive':
+    case 'lookahead':
       return {
         spec,
-        left: withRoles(left, { scheduler: 'adaptive', phase: 0, ...(spec.k !== null ? { period_s: spec.k / rate } : {}) }),
-        right: withRoles(right, { scheduler: 'adaptive', phase: 1, ...(spec.k !== null ? { period_s: spec.k / rate } : {}) }),
+        left: withRoles(left, { scheduler: spec.name, phase: 0, ...(spec.k !== null ? { period_s: spec.k / rate } : {}) }),
+        right: withRoles(right, { scheduler: spec.name, phase: 1, ...(spec.k !== null ? { period_s: spec.k / rate } : {}) }),
         view: 'own',
         messageEvery: 0,
       };
@@ -148,6 +152,7 @@ export function defaultStrategies(): StrategySpec[] {
     { name: 'explicit', k: DEFAULT_PERIOD_STEPS },
     ...DEFAULT_ALTERNATING_STEPS.map((k) => ({ name: 'alternating' as const, k })),
     { name: 'adaptive', k: null },
+    { name: 'lookahead', k: null },
     { name: 'fixed', k: null },
     { name: 'independent', k: null },
   ];

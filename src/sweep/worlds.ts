@@ -46,7 +46,7 @@ export interface WorldRun {
 
 export function strategyOf(c: ArmConfig): StrategySpec {
   const r = c.roles;
-  if (r.scheduler === 'adaptive') return { name: 'adaptive', k: null };
+  if (r.scheduler === 'adaptive' || r.scheduler === 'lookahead') return { name: r.scheduler, k: null };
   if (r.scheduler === 'fixed') return { name: 'fixed', k: null };
   return { name: 'alternating', k: Math.max(1, Math.round(r.period_s * c.wrench_filter.sample_rate_hz)) };
 }

@@ -111,7 +111,7 @@ describe('the parameter table', () => {
       'watchdog.partner_stop.enabled': [true, undefined],
       'watchdog.hold_link.enabled': [false, undefined],
       'watchdog.on_impact': ['hold', ['hold', 'report']],
-      'roles.scheduler': ['alternating', ['fixed', 'alternating', 'adaptive']],
+      'roles.scheduler': ['alternating', ['fixed', 'alternating', 'adaptive', 'lookahead']],
       'roles.fixed_role': ['speaker', ['speaker', 'listener']],
       'task.zones.*.shape': [undefined, ['box', 'circle', 'cylinder', 'sphere']],
       'task.zones.*.detours': ['sideways', ['sideways', 'over', 'both']],

@@ -54,7 +54,7 @@ describe('sweep refuses bad input before any work', () => {
     expect(r.code).toBe(2);
     expect(r.stderr).toMatch(/:4:17, key policy.speed_m_s: policy.speed_m_s grid\[1\] = 2 is above the hard safety ceiling 1/);
     expect(r.stderr).toMatch(/:6:12, key roles.period_s: roles.period_s grid\[0\] = 0.0001 is out of range \(floating-point number, from 0.005 to 600 s\)/);
-    expect(r.stderr).toMatch(/:8:25, key roles.scheduler: roles.scheduler grid\[1\] = 'sometimes' is not allowed \(string, one of fixed, alternating, adaptive\)/);
+    expect(r.stderr).toMatch(/:8:25, key roles.scheduler: roles.scheduler grid\[1\] = 'sometimes' is not allowed \(string, one of fixed, alternating, adaptive, lookahead\)/);
   });
 
   it('an empty grid', async () => {
