@@ -45,7 +45,7 @@ export function compareTable(r: CompareResult): string {
       out.push(`${' '.repeat(nw)}  partner hold: detected in ${ph.detected} of ${ph.runs} runs (never ${(100 * ph.never_rate).toFixed(1)} %); detection max ${f(ph.detection_s.max)} s, p95 ${f(ph.detection_s.p95)} s; object moved up to ${f(ph.object_moved_m.max)} m`);
     }
   }
-  const key = r.paired.filter((p) => p.a.startsWith('adaptive') || p.b.startsWith('adaptive') || p.a.startsWith('explicit'));
+  const key = r.paired.filter((p) => p.a.startsWith('adaptive') || p.b.startsWith('adaptive') || p.a.startsWith('lookahead') || p.b.startsWith('lookahead') || p.a.startsWith('explicit'));
   if (key.length) {
     out.push('', 'paired (same worlds; wins/losses/ties of the first; success: sign test; peak internal force and time: Wilcoxon signed-rank; all pairs in --json):');
     const c = (m: { wins: number; losses: number; ties: number; p: number }) => `${m.wins}/${m.losses}/${m.ties} p=${m.p < 0.001 ? m.p.toExponential(1) : m.p.toFixed(3)}`;
@@ -103,7 +103,7 @@ export function register(program: Command): void {
     .option('--overwrite', 'replace an existing output folder')
     .option('--seed <s>', 'seed of the batch (world i uses a seed derived from it)', '1')
     .option('--jobs <k>', 'worker threads', '1')
-    .option('--strategies <list>', 'comma-separated: centralized, explicit[:0.5s], alternating[:0.5s], fixed, independent, adaptive[:0.5s] (a period in seconds, or in wrench samples without the s; alternating alone: 0.05s, 0.2s, 0.5s, 1s)')
+    .option('--strategies <list>', 'comma-separated: centralized, explicit[:0.5s], alternating[:0.5s], fixed, independent, adaptive[:0.5s], lookahead[:0.5s] (a period in seconds, or in wrench samples without the s; alternating alone: 0.05s, 0.2s, 0.5s, 1s)')
     .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--duration <s>', 'simulated time limit per episode, s (default task.time_limit_s)')
     .option('--arm-model <m>', 'tool_point or six_joint', 'tool_point')

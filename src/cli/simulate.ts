@@ -132,7 +132,7 @@ export function register(program: Command): void {
     .option('--params <file>', "ROS 2 parameters file (default: the demo cell's, shipped in the package)")
     .option('--seed <n>', 'world seed', '1')
     .option('--family <file>', 'draw the world from this scenario family (YAML; examples/families/)')
-    .option('--strategy <s>', 'centralized, explicit, alternating, fixed, independent or adaptive (name:0.5s sets the period in seconds; name:500 in wrench samples)', 'alternating')
+    .option('--strategy <s>', 'centralized, explicit, alternating, fixed, independent, adaptive or lookahead (name:0.5s sets the period in seconds; name:500 in wrench samples)', 'alternating')
     .option('--period-steps <k>', 'period in wrench samples for alternating (role slot) and explicit (message period); default from roles.period_s')
     .option('--duration <s>', 'simulated time limit, s (default task.time_limit_s)')
     .option('--arm-model <m>', 'tool_point (three admittance carriages) or six_joint (articulated arm under Cartesian damping)', 'tool_point')

@@ -113,7 +113,7 @@ const ARM_SPECS = (nz: number, nh: number, hyp: number, nj = 3): Array<[keyof Ar
   ['twist', 6, Float64Array, 'm/s, rad/s', 'recommended twist (cell frame)'],
   ['command', 2, Float64Array, 'm/s', 'velocity command applied to the motion stack (cell frame)'],
   ['role', 1, Uint8Array, '1', '0 speaker, 1 listener'],
-  ['slot', 1, Int32Array, '1', 'role slot (alternating) or zone holding the turn (adaptive)'],
+  ['slot', 1, Int32Array, '1', 'role slot: of the shared clock (alternating, lookahead) or the zone holding the turn (adaptive)'],
   ['held', 1, Uint8Array, '1', 'watchdog hold latched'],
   ['inhibited', 1, Uint8Array, '1', 'waiting for inputs or the tare'],
   ['tared', 1, Uint8Array, '1', 'wrench filter tared'],
