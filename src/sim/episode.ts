@@ -115,7 +115,7 @@ export interface WorldZoneSummary {
   readonly center_m: readonly [number, number];
   /** Box: side lengths (x, y), m; null for a circle. */
   readonly size_m: readonly [number, number] | null;
-  /** Circle: radius, m; null for a box. */
+  /** Circle, cylinder, sphere: radius, m; null for a box. */
   readonly radius_m: number | null;
   readonly observed_by: string;
   /** At the start. */
@@ -550,7 +550,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       kind: z.kind,
       center_m: [z.center_m[0], z.center_m[1]],
       size_m: z.shape === 'box' ? [z.size_m[0], z.size_m[1]] : null,
-      radius_m: z.shape === 'circle' ? z.radius_m : null,
+      radius_m: z.shape === 'box' ? null : z.radius_m,
       observed_by: z.observed_by,
       occupied: world.occupied[k]!,
       changes: applied2.filter((c) => c.zone === k).map((c) => ({ t_s: c.t_s, occupied: c.occupied })),
