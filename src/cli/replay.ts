@@ -15,6 +15,7 @@ import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
 import { replayReportInput, summarize } from '../replay/summary.js';
 import { renderReport } from '../report/html.js';
 import { parseRemaps } from '../ros/topics.js';
+import { pathFromBag } from '../replay/path-topic.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
 import { interruptExitCode, interrupted, interruptedFields, watchInterrupts } from '../util/interrupt.js';
 import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
@@ -31,6 +32,7 @@ interface Opts {
   expect?: string;
   storage?: string;
   definitions?: string[];
+  pathTopic?: string;
   json?: boolean;
 }
 
@@ -57,6 +59,7 @@ export function register(program: Command): void {
     .option('--expect <file>', 'expectations file (YAML); exit 1 when any fails')
     .option('--storage <s>', 'storage of the output bag: mcap or sqlite3 (rosbag2 .db3, as Humble records by default)', 'mcap')
     .option('--definitions <bag|dir>', 'more message definitions (repeatable): another bag, a folder of ROS packages or an install prefix; searched after the bag`s own', (v: string, acc: string[] = []) => [...acc, v])
+    .option('--path-topic <name>', 'take the nominal path from this nav_msgs/msg/Path topic of the bag (its first message, object poses in the cell frame) instead of task.path in the parameters')
     .option('--json', 'print the summary as JSON on stdout')
     .action((bagPath: string, opts: Opts) =>
       runCommand(!!opts.json, async () => {
@@ -84,7 +87,15 @@ export function register(program: Command): void {
           const bar = progressBar('replay', !!opts.json);
           bar?.start(1000, 0);
           const progress = bar ? (f: number) => bar.update(Math.round(f * 1000)) : undefined;
-          const base = { arms, configs: { left: cell.left.config, right: cell.right.config }, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}), ...(definitions.length ? { definitions } : {}), shouldStop: interrupted };
+          let configs = { left: cell.left.config, right: cell.right.config };
+          if (opts.pathTopic !== undefined) {
+            const cellFrame = String(cell.left.values.get('ros.frames.cell')?.value ?? 'cell');
+            const bp = pathFromBag(bag, opts.pathTopic, configs, cellFrame);
+            configs = { left: bp.configs.left!, right: bp.configs.right! };
+            for (const w of bp.warnings) logger('replay').warn({ code: w.code, topic: opts.pathTopic }, w.message);
+            logger('replay').info({ topic: opts.pathTopic, poses: bp.path.waypoints_m.length / 3 }, `replay: the nominal path from ${opts.pathTopic} (${bp.path.waypoints_m.length / 3} poses)`);
+          }
+          const base = { arms, configs, remap, ...(startS !== undefined ? { startS } : {}), ...(endS !== undefined ? { endS } : {}), ...(progress ? { progress } : {}), ...(definitions.length ? { definitions } : {}), shouldStop: interrupted };
           let record: ReplayRecord;
           let summary: Record<string, unknown>;
           let verdicts: Verdict[] | undefined;

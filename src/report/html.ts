@@ -230,7 +230,7 @@ export function renderReport(input: ReportInput, options: RenderOptions = {}): s
     ...armHtml,
     internalHtml,
     input.calibration ? renderCalibration(input.calibration) : '',
-    input.plan ? renderPlanSection() : '',
+    input.plan ? renderPlanSection(input.plan.side !== undefined) : '',
     '</main>',
     `<footer><p>How to read the plots: each plot has ${columns} time columns over the same time span; a continuous series is drawn as the band from its least to its greatest value in each column, so a single-sample spike stays visible. Roles and watchdog holds are drawn from their exact change points; a hold shorter than a column is widened to stay visible. Move the pointer over a plot for the time and the values (min…max of the column) at that time.</p><p>antiphon report</p></footer>`,
     `<script type="application/json" id="antiphon-data">${scriptJson(payload)}</script>`,

@@ -6,6 +6,11 @@
  * infers. The time plots' view (zoom and pan) and the slider are linked: moving the slider
  * moves the plots' cursor; zooming the plots limits the slider to the view.
  *
+ * On a task with waypoints a side view follows: x against height, with the nominal path
+ * (dashed), the heights of both grasp points and of the object's centre, and the zones at their
+ * heights (a box or cylinder as its x extent between bottom and top, a sphere as a circle); the
+ * slider places the object there too. Boxes turned by their yaw are drawn turned in the plan.
+ *
  * Data: decimated by stride to at most PLAN_POINTS samples (paths) and BELIEF_POINTS belief rows
  * per arm; every collision and every zone change is kept. Drawn by PLAN_SCRIPT into an inline
  * SVG; strings reach the page only as text (textContent), never as markup.
@@ -50,14 +55,24 @@ export function planPayload(input: ReportInput, plan: ReportPlan): unknown {
     start: plan.start_m,
     goal: plan.goal_m,
     arms,
+    ...(plan.side
+      ? { side: { obj: pick(plan.side.objectZ), left: pick(plan.side.leftZ), right: pick(plan.side.rightZ), path: [plan.side.pathX.map(r5), plan.side.pathZ.map(r5)], radius_m: plan.side.radius_m } }
+      : {}),
   };
 }
 
-export function renderPlanSection(): string {
+export function renderPlanSection(side = false): string {
   return `<section id="plan"><h2>Plan view</h2>
 <p class="note">The cell from above (x right, y up, metres). Zones stand as they were at the slider's time: filled when occupied, outlined when free (a zone that changes during the episode flips). Lines: the paths of the left grasp, the right grasp and the object's centre; crosses: collisions. The bar is the object at the slider's time. Zoom and pan the time plots (wheel, drag; double click for the whole record): the slider follows their view.</p>
 <div class="plan-wrap"><svg id="plan-svg" width="640" height="480" role="img" aria-label="plan view of the cell"></svg>
-<div class="plan-side"><label for="plan-t">time <output id="plan-tv">0.000 s</output></label><br><input type="range" id="plan-t" min="0" max="1000" value="0" step="1"><table class="kv" id="plan-belief"><tbody></tbody></table></div></div>
+<div class="plan-side"><label for="plan-t">time <output id="plan-tv">0.000 s</output></label><br><input type="range" id="plan-t" min="0" max="1000" value="0" step="1"><table class="kv" id="plan-belief"><tbody></tbody></table></div></div>${
+    side
+      ? `
+<h3>Side view</h3>
+<p class="note">x against height (metres, the vertical stretched to fit). Dashed: the nominal path of the object's centre; lines: the heights of the left grasp, the right grasp and the object's centre; zones at their heights (a box or cylinder over its x extent, a sphere as a circle). The bar is the object at the slider's time.</p>
+<svg id="side-svg" width="640" height="260" role="img" aria-label="side view of the path"></svg>`
+      : ''
+  }
 </section>`;
 }
 
@@ -101,7 +116,11 @@ export const PLAN_SCRIPT = String.raw`(function () {
   var COL = { left: '#3b4c8c', right: '#6f9a36', both: '#8c3b8f' };
   var zoneEls = P.zones.map(function (z) {
     var c = COL[z.observed_by] || '#c5452a', e;
-    if (z.shape === 'box') e = mk('rect', { x: X(z.center_m[0] - z.size_m[0] / 2), y: Y(z.center_m[1] + z.size_m[1] / 2), width: z.size_m[0] * s, height: z.size_m[1] * s, stroke: c, 'stroke-width': 2 });
+    if (z.shape === 'box') {
+      e = mk('rect', { x: X(z.center_m[0] - z.size_m[0] / 2), y: Y(z.center_m[1] + z.size_m[1] / 2), width: z.size_m[0] * s, height: z.size_m[1] * s, stroke: c, 'stroke-width': 2 });
+      // Turned about the vertical (counter-clockwise in the cell; the page's y points down).
+      if (z.yaw_rad) e.setAttribute('transform', 'rotate(' + (-z.yaw_rad * 180 / Math.PI).toFixed(3) + ' ' + X(z.center_m[0]).toFixed(2) + ' ' + Y(z.center_m[1]).toFixed(2) + ')');
+    }
     else e = mk('circle', { cx: X(z.center_m[0]), cy: Y(z.center_m[1]), r: z.radius_m * s, stroke: c, 'stroke-width': 2 });
     e.setAttribute('data-zone', z.name);
     var label = mk('text', { x: X(z.center_m[0]), y: Y(z.center_m[1]) - 4, 'text-anchor': 'middle', 'font-size': 11, fill: '#1d232a' });
@@ -161,6 +180,7 @@ export const PLAN_SCRIPT = String.raw`(function () {
       var dx = -Math.sin(yaw) * h, dy = Math.cos(yaw) * h;
       bar.setAttribute('x1', X(ox - dx)); bar.setAttribute('y1', Y(oy - dy)); bar.setAttribute('x2', X(ox + dx)); bar.setAttribute('y2', Y(oy + dy));
     }
+    showSide(i, t);
     while (tbody.firstChild) tbody.removeChild(tbody.firstChild);
     P.arms.forEach(function (a) {
       var j = lastAtOrBefore(a.t, t);
@@ -174,6 +194,68 @@ export const PLAN_SCRIPT = String.raw`(function () {
       });
     });
     document.body.setAttribute('data-plan-t', t.toFixed(3));
+  }
+  // The side view (a task with waypoints): x against height.
+  var side = null;
+  if (P.side) side = drawSide(P.side);
+  function drawSide(S) {
+    var sv = document.getElementById('side-svg'), SW = 640, SH = 260, sp = 30;
+    function m2(tag, attrs, parent) { return mk(tag, attrs, parent || sv); }
+    var zs = [], hs = [];
+    for (var i = 0; i < P.t.length; i++) { [S.obj[i], S.left[i], S.right[i]].forEach(function (v) { if (v !== null) hs.push(v); }); }
+    S.path[1].forEach(function (v) { if (v !== null) hs.push(v); });
+    var z0 = Math.min.apply(null, hs) - 0.15, z1 = Math.max.apply(null, hs) + 0.15;
+    var sx = (SW - 2 * sp) / (x1 - x0), sz = (SH - 2 * sp) / (z1 - z0);
+    function SX(x) { return sp + (x - x0) * sx; }
+    function SZ(z) { return SH - sp - (Math.min(z1, Math.max(z0, z)) - z0) * sz; }
+    var g2 = m2('g', { stroke: '#ebe8e1' });
+    for (var hz = Math.ceil(z0 / 0.1) * 0.1; hz <= z1; hz += 0.1) {
+      m2('line', { x1: SX(x0), x2: SX(x1), y1: SZ(hz), y2: SZ(hz) }, g2);
+      var lt = m2('text', { x: 2, y: SZ(hz) + 3, 'font-size': 9, fill: '#6b5e55', stroke: 'none' });
+      lt.textContent = hz.toFixed(1);
+    }
+    var els = P.zones.map(function (z) {
+      var c = COL[z.observed_by] || '#c5452a', e;
+      if (z.center_z_m !== null && z.center_z_m !== undefined && z.shape === 'sphere') e = m2('ellipse', { cx: SX(z.center_m[0]), cy: SZ(z.center_z_m), rx: z.radius_m * sx, ry: z.radius_m * sz, stroke: c, 'stroke-width': 2 });
+      else {
+        var hx = z.shape === 'box' ? (Math.abs(Math.cos(z.yaw_rad || 0)) * z.size_m[0] + Math.abs(Math.sin(z.yaw_rad || 0)) * z.size_m[1]) / 2 : z.radius_m;
+        var hb = z.height_m || [z0, z1];
+        e = m2('rect', { x: SX(z.center_m[0] - hx), y: SZ(hb[1]), width: 2 * hx * sx, height: Math.max(1, SZ(hb[0]) - SZ(hb[1])), stroke: c, 'stroke-width': 2 });
+      }
+      e.setAttribute('data-side-zone', z.name);
+      var lb = m2('text', { x: SX(z.center_m[0]), y: SZ(z1) + 12, 'text-anchor': 'middle', 'font-size': 10, fill: '#1d232a' });
+      lb.textContent = z.name;
+      return { z: z, e: e, c: c };
+    });
+    function line(xa, za, colour, dash, tag) {
+      var d = '', pen = false;
+      for (var i = 0; i < za.length; i++) {
+        var x = xa[i], z = za[i];
+        if (x === null || z === null) { pen = false; continue; }
+        d += (pen ? 'L' : 'M') + SX(x).toFixed(1) + ' ' + SZ(z).toFixed(1);
+        pen = true;
+      }
+      return m2('path', { d: d, fill: 'none', stroke: colour, 'stroke-width': 1.5, 'stroke-dasharray': dash || 'none', 'data-side-path': tag });
+    }
+    line(S.path[0], S.path[1], '#b08d1a', '6 4', 'nominal');
+    line(P.left[0], S.left, COL.left, null, 'left');
+    line(P.right[0], S.right, COL.right, null, 'right');
+    line(P.obj[0], S.obj, '#6b5e55', '4 3', 'object');
+    var sb = m2('line', { stroke: '#1d232a', 'stroke-width': 5, 'stroke-linecap': 'round', id: 'side-object' });
+    return { els: els, bar: sb, SX: SX, SZ: SZ, S: S };
+  }
+  function showSide(i, t) {
+    if (!side) return;
+    side.els.forEach(function (z) {
+      var o = occupiedAt(z.z, t);
+      z.e.setAttribute('fill', o ? z.c : 'none');
+      z.e.setAttribute('fill-opacity', o ? '0.45' : '0');
+    });
+    // The grasp points' x and heights span the object as seen from the side.
+    var lx = P.left[0][i], rx = P.right[0][i], lz = side.S.left[i], rz = side.S.right[i];
+    if (lx !== null && rx !== null && lz !== null && rz !== null) {
+      side.bar.setAttribute('x1', side.SX(lx)); side.bar.setAttribute('y1', side.SZ(lz)); side.bar.setAttribute('x2', side.SX(rx)); side.bar.setAttribute('y2', side.SZ(rz));
+    }
   }
   function fromSlider() { return VA + (VB - VA) * (+slider.value) / 1000; }
   slider.addEventListener('input', function () {

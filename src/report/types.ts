@@ -87,6 +87,10 @@ export interface ReportPlanZone {
   readonly size_m: readonly [number, number] | null;
   readonly radius_m: number | null;
   readonly observed_by: string;
+  /** A task with waypoints: the box's turn about the vertical (rad), heights [bottom, top] (box, cylinder) or the sphere's centre height (m). */
+  readonly yaw_rad?: number;
+  readonly height_m?: readonly [number, number] | null;
+  readonly center_z_m?: number | null;
   /** At the start, then each change. */
   readonly occupied: boolean;
   readonly changes: readonly { readonly t_s: number; readonly occupied: boolean }[];
@@ -110,4 +114,17 @@ export interface ReportPlan {
   readonly rightY: Float64Array;
   /** Contact onsets: time, object centre then, zone. */
   readonly collisions: readonly { readonly t_s: number; readonly x: number; readonly y: number; readonly zone: string }[];
+  /** A task with waypoints: the side view's heights (same clock) and the nominal path (x, z, a point every few cm). */
+  readonly side?: ReportSide;
+}
+
+/** The side view (x against height) of a task with waypoints. */
+export interface ReportSide {
+  readonly objectZ: Float64Array;
+  readonly leftZ: Float64Array;
+  readonly rightZ: Float64Array;
+  readonly pathX: readonly number[];
+  readonly pathZ: readonly number[];
+  /** The object's capsule radius, m. */
+  readonly radius_m: number;
 }

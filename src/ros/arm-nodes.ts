@@ -38,6 +38,8 @@ import { MarkerBuilder } from './markers.js';
 import { armQos, fromRmw, incompatibility, RMW, type ArmQos, type QosProfile } from './qos.js';
 import { CALLBACK, PARAMETER_TYPE, stateLabel, type RclLifecycleNode, type RclModule, type RclNode, type RclParameterValue, type RclPublisher, type RclSetParametersResult, type RclTriggerResponse } from './rcl.js';
 import { INPUT_TYPES } from './topics.js';
+import { configWithPath, decodePath, PATH_TYPE, topicPathProblems, type TopicPath } from './path-msg.js';
+import { qos as qosProfile } from './qos.js';
 
 export const NODE_NAMES = { roles: 'antiphon_roles', inference: 'antiphon' } as const;
 
@@ -103,7 +105,16 @@ export interface ArmNodesOptions {
   readonly values: ReadonlyMap<string, ResolvedValue>;
   /** Steady (monotonic) clock in seconds; default performance.now(). */
   readonly steadyS?: () => number;
+  /**
+   * Take the nominal path from this topic (nav_msgs/msg/Path of the object in the cell frame),
+   * besides the parameters: a path is taken while the node is inactive, and one that arrives
+   * while active waits for the next deactivate (the documented safe point). Default: none.
+   */
+  readonly pathTopic?: string;
 }
+
+/** The path subscription: reliable, volatile (matches reliable publishers of either durability), the last one kept. */
+export const PATH_QOS = qosProfile('reliable', 1, 'volatile');
 
 interface Counters {
   bad_messages: number;
@@ -111,6 +122,8 @@ interface Counters {
   wrong_frame: number;
   joint_messages_ignored: number;
   resets_on_clock_jump: number;
+  paths_taken: number;
+  paths_refused: number;
 }
 
 export class ArmNodes {
@@ -122,7 +135,13 @@ export class ArmNodes {
   config: ArmConfig;
   values: Map<string, ResolvedValue>;
   readonly qos: ArmQos;
-  readonly counters: Counters = { bad_messages: 0, dropped_wrench_samples: 0, wrong_frame: 0, joint_messages_ignored: 0, resets_on_clock_jump: 0 };
+  readonly counters: Counters = { bad_messages: 0, dropped_wrench_samples: 0, wrong_frame: 0, joint_messages_ignored: 0, resets_on_clock_jump: 0, paths_taken: 0, paths_refused: 0 };
+  /** The path topic (ArmNodesOptions.pathTopic), or undefined. */
+  readonly pathTopic: string | undefined;
+  /** The path taken from the topic (it replaces the parameters' path until cleanup). */
+  private topicPath: TopicPath | undefined;
+  /** A valid path that arrived while active: taken at the next deactivate. */
+  private waitingPath: TopicPath | undefined;
   readonly changeLog: { t_s: number; key: string; old: unknown; value: unknown; outcome: string }[] = [];
 
   private readonly steadyS: () => number;
@@ -200,6 +219,7 @@ export class ArmNodes {
     this.config = opts.config;
     this.values = new Map(opts.values);
     this.steadyS = opts.steadyS ?? (() => performance.now() / 1000);
+    this.pathTopic = opts.pathTopic;
     const ns = `/${opts.arm}`;
     this.roles = new rcl.Node(NODE_NAMES.roles, ns);
     this.inference = new rcl.lifecycle.LifecycleNode(NODE_NAMES.inference, ns);
@@ -300,7 +320,7 @@ export class ArmNodes {
       const prev = this.pending?.changes ?? [];
       this.pending = { config: r.config, values: r.values, changes: [...prev, ...r.changes] };
     } else {
-      this.config = r.config;
+      this.config = this.withTopicPath(r.config);
       this.values = r.values;
       this.logChanges(r.changes, 'accepted (applied at configure)');
     }
@@ -310,8 +330,9 @@ export class ArmNodes {
   private applyPending(): void {
     const p = this.pending!;
     this.pending = undefined;
-    this.step!.applyParams(p.config);
-    this.config = p.config;
+    const config = this.withTopicPath(p.config);
+    this.step!.applyParams(config);
+    this.config = config;
     this.values = p.values;
     this.logChanges(p.changes, 'applied at the sample boundary');
   }
@@ -339,7 +360,7 @@ export class ArmNodes {
       this.report('error', {}, `configure refused: ${r.reason}`);
       return CALLBACK.failure;
     }
-    this.config = r.config;
+    this.config = this.withTopicPath(r.config);
     try {
       this.build();
     } catch (err) {
@@ -369,6 +390,11 @@ export class ArmNodes {
     this.step?.setOutputEnabled(false);
     this.publishZeroTwist();
     this.report('info', { state: 'inactive' }, 'deactivated: zero twist, held at zero while inactive');
+    if (this.waitingPath) {
+      const p = this.waitingPath;
+      this.waitingPath = undefined;
+      this.takePath(p, 'at deactivate');
+    }
     return CALLBACK.success;
   }
 
@@ -435,6 +461,7 @@ export class ArmNodes {
     sub(R, INPUT_TYPES.joint_states, NAMES.joint_states, input, (m) => this.onJointState(m));
     sub(R, INPUT_TYPES.tool_pose, NAMES.tool_pose, input, (m) => this.onToolPose(m));
     sub(I, INPUT_TYPES.zone_view, NAMES.zone_view, input, (m) => this.onZoneView(m));
+    if (this.pathTopic !== undefined) sub(I, PATH_TYPE, this.pathTopic, { qos: Q(PATH_QOS), isRaw: true }, (m) => this.onPath(m));
     if (this.holdLink) sub(R, 'std_msgs/msg/Bool', NAMES.partner_held, { qos: Q(this.qos.held), isRaw: true }, (m) => this.onPartnerHeld(m));
     this.correctionPub = pub(R, 'geometry_msgs/msg/WrenchStamped', NAMES.correction_wrench, this.qos.wrenches);
     this.impactPub = pub(R, 'geometry_msgs/msg/WrenchStamped', NAMES.impact_wrench, this.qos.wrenches);
@@ -473,8 +500,51 @@ export class ArmNodes {
     this.markers = undefined;
     this.step = undefined;
     this.pending = undefined;
+    this.topicPath = undefined;
+    this.waitingPath = undefined;
     for (const res of this.tareWaiting) res.send({ success: false, message: 'tare refused: the node was cleaned up before a still window' });
     this.tareWaiting = [];
+  }
+
+  // ---- the path from a topic ------------------------------------------------------------------
+
+  private withTopicPath(config: ArmConfig): ArmConfig {
+    return this.topicPath ? configWithPath(config, this.topicPath) : config;
+  }
+
+  /**
+   * A nav_msgs/msg/Path on the path topic: decoded and checked as the parameters are (refused
+   * with the topic and every reason); taken now while inactive, else kept for the next
+   * deactivate (a newer valid path replaces a waiting one).
+   */
+  onPath(m: Buffer): void {
+    const topic = this.pathTopic!;
+    const where = { topic };
+    const d = decodePath(m, where);
+    const problems = 'code' in d ? [d] : topicPathProblems(this.config, d, this.cellFrame, where);
+    if (problems.length) {
+      this.counters.paths_refused++;
+      this.report('warn', { topic, problems: problems.map((p) => p.code) }, `path on ${topic} refused: ${problems.map((p) => `${p.message} (allowed: ${p.hint ?? '-'})`).join('; ')}`);
+      return;
+    }
+    const p = d as TopicPath;
+    if (this.active) {
+      this.waitingPath = p;
+      this.report('info', { topic, poses: p.waypoints_m.length / 3 }, `path on ${topic} (${p.waypoints_m.length / 3} poses) is valid; the node is active, so it is taken at the next deactivate`);
+      return;
+    }
+    this.takePath(p, 'while inactive');
+  }
+
+  private takePath(p: TopicPath, when: string): void {
+    this.topicPath = p;
+    const config = configWithPath(this.config, p);
+    // Between two callbacks: a sample boundary. Tare, hold and beliefs carry over.
+    if (this.step) this.step.applyParams(config);
+    this.config = config;
+    if (this.markers) this.markers = new MarkerBuilder(config, this.cellFrame, Array.from(this.step!.task.hidden), this.markers.period_s);
+    this.counters.paths_taken++;
+    this.report('info', { topic: this.pathTopic, poses: p.waypoints_m.length / 3 }, `path on ${this.pathTopic} taken ${when}: ${p.waypoints_m.length / 3} poses`);
   }
 
   // ---- services -----------------------------------------------------------------------------
@@ -760,7 +830,7 @@ export class ArmNodes {
     const step = this.step;
     if (!step || !this.markerPub || !this.markers) return;
     const o = step.out;
-    this.markerPub.publish(this.markers.build(this.nowS(), o, this.zoneStates));
+    this.markerPub.publish(this.markers.build(this.nowS(), o, this.zoneStates, step.task.objectZ));
   }
 
   /** Incompatible QoS on our topics, from the graph (endpoint info), checked as DDS matches. */

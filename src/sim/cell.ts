@@ -15,6 +15,7 @@ import type { TaskParams } from '../params/config.js';
 import { Rng } from '../util/rng.js';
 import { compileMjcf, objectId } from './mujoco.js';
 import { buildMjcf } from './mjcf.js';
+import { isPlanar } from '../params/task-geometry.js';
 import type { SimOptions } from './options.js';
 import type { ArmSide, SensorDraw, World } from './world.js';
 import { GRIP_LENGTH_M, SIX_JOINTS, SixJointController, solveStartPose, toolRotation, type SixJointViews } from './six-joint.js';
@@ -22,6 +23,8 @@ import { GRIP_LENGTH_M, SIX_JOINTS, SixJointController, solveStartPose, toolRota
 /** Joints per arm of the tool point: slide x, y, z (m, m/s). */
 export const ARM_JOINTS = 3;
 export const JOINT_NAMES = ['x', 'y', 'z'] as const;
+/** A task with waypoints: the tool point's three slides and its wrist yaw (m, m/s; rad, rad/s). */
+export const PATH_JOINT_NAMES = ['x', 'y', 'z', 'yaw'] as const;
 export const SIX_JOINT_NAMES = ['j1', 'j2', 'j3', 'j4', 'j5', 'j6'] as const;
 
 interface ArmIds {
@@ -78,6 +81,8 @@ export class SimCell {
   /** Joints per arm in joint states (3 slides or 6 revolute joints). */
   readonly jointCount: number;
   readonly jointNames: readonly string[];
+  /** The task has waypoints: z and the wrist yaw are velocity-servoed too (`setCommand3d`). */
+  readonly path: boolean;
   private readonly arms: Record<ArmSide, ArmIds>;
   private readonly six: Record<ArmSide, SixJointController> | null;
   private readonly cmd = { left: new Float64Array(2), right: new Float64Array(2) };
@@ -100,8 +105,9 @@ export class SimCell {
     this.data = data;
     const m = model as unknown as { jnt_qposadr: Int32Array; jnt_dofadr: Int32Array; sensor_adr: Int32Array };
     const sixJoint = options.arm_model === 'six_joint';
-    this.jointCount = sixJoint ? SIX_JOINTS : ARM_JOINTS;
-    this.jointNames = sixJoint ? SIX_JOINT_NAMES : JOINT_NAMES;
+    this.path = !isPlanar(task);
+    this.jointCount = sixJoint ? SIX_JOINTS : this.path ? PATH_JOINT_NAMES.length : ARM_JOINTS;
+    this.jointNames = sixJoint ? SIX_JOINT_NAMES : this.path ? PATH_JOINT_NAMES : JOINT_NAMES;
     const ids = (side: ArmSide): ArmIds => {
       const j0 = objectId(mj, model, 'joint', sixJoint ? `${side}_j1` : `${side}_x`);
       return {
@@ -190,6 +196,28 @@ export class SimCell {
     const a = this.arms[side].ctrlAdr;
     c[a] = vx;
     c[a + 1] = vy;
+  }
+
+  /**
+   * Motion stack command of one arm on a task with waypoints: tool velocity in the cell frame
+   * (x, y, z, m/s) and the wrist's yaw rate (rad/s).
+   */
+  setCommand3d(side: ArmSide, vx: number, vy: number, vz: number, wz: number): void {
+    const c = this.views.ctrl;
+    const a = this.arms[side].ctrlAdr;
+    c[a] = vx;
+    c[a + 1] = vy;
+    c[a + 2] = vz;
+    c[a + 3] = wz;
+  }
+
+  /** The tool's y axis in the cell frame (site orientation): along the beam, from its centre toward the grasp. */
+  toolAxisY(side: ArmSide, out: Float64Array): void {
+    const R = this.views.site_xmat;
+    const b = 9 * this.arms[side].site;
+    out[0] = R[b + 1]!;
+    out[1] = R[b + 4]!;
+    out[2] = R[b + 7]!;
   }
 
   /**

@@ -27,10 +27,14 @@ export interface DemoBagOptions {
   readonly fullDuration?: boolean;
   /** Extra force (sensor frame, N) added to one arm's wrench at one time: a knock for tests. */
   readonly knock?: { readonly arm: ArmName; readonly t_s: number; readonly force_n: number; readonly duration_s: number };
+  /** Also record the task's nominal path (a task with waypoints) on this nav_msgs/msg/Path topic, once at the start. */
+  readonly pathTopic?: string;
 }
 
 export async function writeDemoBag(dir: string, opts: DemoBagOptions): Promise<{ bag: WrittenBag; run: CellRun }> {
-  const w = await InputBagWriter.create(dir, opts.left.task.zones.map((z) => z.name));
+  const w = await InputBagWriter.create(dir, opts.left.task.zones.map((z) => z.name), opts.pathTopic !== undefined ? { pathTopic: opts.pathTopic } : {});
+  const p = opts.left.task.path;
+  if (opts.pathTopic !== undefined && p && p.waypoints_m.length > 0) w.path(DEMO_EPOCH_NS, p.waypoints_m, p.orientations_xyzw);
   // The cell runs on bag time (t0 = the demo epoch): recover the sample's offset exactly.
   const t0s = Number(DEMO_EPOCH_NS) / 1e9;
   const fs = opts.left.wrench_filter.sample_rate_hz;

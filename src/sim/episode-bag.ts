@@ -17,7 +17,8 @@ import type { ArmConfig } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
 import { replayBag, writerSink, type ReplayRecord } from '../replay/replay.js';
 import { replayReportInput, summarize } from '../replay/summary.js';
-import type { ReportEvent, ReportInput, ReportPlan } from '../report/types.js';
+import type { ReportEvent, ReportInput, ReportPlan, ReportSide } from '../report/types.js';
+import { isPlanar, taskPath } from '../params/task-geometry.js';
 import type { EpisodeResult } from './episode.js';
 import { InputBagWriter } from './input-bag.js';
 import type { EpisodeRecord } from './record.js';
@@ -153,8 +154,29 @@ function planOf(result: EpisodeResult, record: NonNullable<EpisodeResult['record
     prev = m;
   }
   const w = result.summary.world;
+  const task = result.configs.left.task;
+  const planar = isPlanar(task);
+  const zoneOf = new Map(task.zones.map((z) => [z.name, z]));
+  // A task with waypoints: the zones' yaw and heights, and the side view.
+  const solid = (name: string) => {
+    const z = zoneOf.get(name);
+    if (planar || !z) return {};
+    return { yaw_rad: z.yaw_rad ?? 0, height_m: z.shape === 'sphere' ? null : (z.height_m ?? [0, 10]), center_z_m: z.shape === 'sphere' ? (z.center_z_m ?? 0) : null };
+  };
+  let side: ReportSide | undefined;
+  if (!planar) {
+    const path = taskPath(task);
+    const m = Math.max(1, Math.ceil(path.length / 0.02));
+    const pathX: number[] = [], pathZ: number[] = [];
+    for (let k = 0; k <= m; k++) {
+      path.locate((k / m) * path.length);
+      pathX.push(path.pos[0]!);
+      pathZ.push(path.pos[2]!);
+    }
+    side = { objectZ: col(record.beamPose, 7, 2), leftZ: col(record.left.toolPose, 7, 2), rightZ: col(record.right.toolPose, 7, 2), pathX, pathZ, radius_m: task.object.radius_m ?? 0 };
+  }
   return {
-    zones: w.zones.map((z) => ({ name: z.name, shape: z.shape, center_m: z.center_m, size_m: z.size_m, radius_m: z.radius_m, observed_by: z.observed_by, occupied: z.occupied, changes: z.changes })),
+    zones: w.zones.map((z) => ({ name: z.name, shape: z.shape, center_m: z.center_m, size_m: z.size_m, radius_m: z.radius_m, observed_by: z.observed_by, ...solid(z.name), occupied: z.occupied, changes: z.changes })),
     object_length_m: result.configs.left.task.object.length_m,
     start_m: w.start_m,
     goal_m: w.goal_m,
@@ -167,6 +189,7 @@ function planOf(result: EpisodeResult, record: NonNullable<EpisodeResult['record
     rightX: col(record.right.toolPose, 7, 0),
     rightY: col(record.right.toolPose, 7, 1),
     collisions,
+    ...(side ? { side } : {}),
   };
 }
 

@@ -22,7 +22,9 @@ import { applyStrategy, strategyLabel, type StrategySpec } from './strategies.js
 import { BeliefTiming, beliefTimingSummary, countFalseImpactHolds, type BeliefTimingSummary, type BeliefTimingSums } from './belief-timing.js';
 import { segmentHitsZone } from '../params/config.js';
 import { checkTaskForCell, sampleWorld, type ArmSide, type Knock, type World } from './world.js';
-import { isPlanar } from '../params/task-geometry.js';
+import { isPlanar, zoneSolid } from '../params/task-geometry.js';
+import { capsuleClearance, type Solid } from '../geometry/solids.js';
+import { pathPoses } from './mjcf.js';
 
 export type EndReason = 'success' | 'time_limit' | 'stall' | 'hold';
 
@@ -113,7 +115,7 @@ export interface WorldZoneSummary {
   readonly center_m: readonly [number, number];
   /** Box: side lengths (x, y), m; null for a circle. */
   readonly size_m: readonly [number, number] | null;
-  /** Circle: radius, m; null for a box. */
+  /** Circle, cylinder, sphere: radius, m; null for a box. */
   readonly radius_m: number | null;
   readonly observed_by: string;
   /** At the start. */
@@ -161,9 +163,19 @@ export interface EpisodeResult {
 export function checkEpisodeSetup(left: ArmConfig, options: SimOptions): Problem[] {
   const out = checkTaskForCell(left.task, options);
   if (!isPlanar(left.task)) {
-    // The MuJoCo cell drives its carriages in the horizontal plane and holds their height with
-    // springs; it cannot follow a path with heights or turns yet (the kinematic cell can).
-    out.push({ code: 'sim.path_not_planar', message: 'the simulated MuJoCo cell moves the beam in the horizontal plane only, so it cannot run a task with task.path.waypoints_m (heights and turns)', where: { key: 'task.path.waypoints_m' }, hint: 'give the task as task.start_m and task.goal_m for the MuJoCo cell; 3-D paths run in the kinematic cell (src/sim/kinematic-cell.ts, test/sim/path-facts.test.ts)' });
+    if (options.arm_model !== 'tool_point') {
+      // The six-joint arm holds its tool's height and orientation with springs: it has no servo for a path's heights and turns yet.
+      out.push({ code: 'sim.path_needs_tool_point', message: `--arm-model ${options.arm_model} cannot follow a task with task.path.waypoints_m (heights and turns) yet`, where: { option: '--arm-model' }, hint: 'tool_point (the default) for a task with waypoints' });
+    }
+    // The tool point's wrist turns about the vertical only.
+    const O = left.task.path?.orientations_xyzw ?? [];
+    for (let k = 0; 4 * k + 3 < O.length; k++) {
+      const tilt = Math.hypot(O[4 * k]!, O[4 * k + 1]!) / Math.hypot(O[4 * k]!, O[4 * k + 1]!, O[4 * k + 2]!, O[4 * k + 3]!);
+      if (tilt > 1e-6) {
+        out.push({ code: 'sim.path_orientation_not_yaw', message: `task.path.orientations_xyzw: waypoint ${k} tilts the object (x, y parts ${O[4 * k]}, ${O[4 * k + 1]}); the simulated tool-point wrists turn about the vertical only`, where: { key: 'task.path.orientations_xyzw' }, hint: 'turns about the vertical only in the simulated cell: x = y = 0 in every quaternion (z = sin(yaw/2), w = cos(yaw/2))' });
+        break;
+      }
+    }
   }
   const rate = left.wrench_filter.sample_rate_hz;
   const every = 1 / (rate * options.timestep_s);
@@ -272,7 +284,9 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     const jv = new Float64Array(nj);
     const pose = { left: new Float64Array(7), right: new Float64Array(7) };
     const fCell = { left: new Float64Array(3), right: new Float64Array(3) };
-    const cmd = { left: new Float64Array(2), right: new Float64Array(2) };
+    // Commands: vx, vy (every task), vz and the wrist's yaw rate (a task with waypoints).
+    const cmd = { left: new Float64Array(4), right: new Float64Array(4) };
+    const toolY = new Float64Array(3);
     const axis = new Float64Array(3);
     const beam = new Float64Array(7);
     const beamV = new Float64Array(6);
@@ -299,6 +313,20 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     let sampleIndex = 0;
     const tol = task.goal_tolerance_m;
     const [gx, gy] = world.goal_m;
+    // A task with waypoints: the goal is the path's end in 3-D, the object a capsule, the zones solids.
+    const path3d = cell.path;
+    const poses = path3d ? pathPoses(nominal) : null;
+    const gz = poses ? poses.end[2] : 0;
+    let anchorZ = poses ? poses.start[2] : 0;
+    const grasp = nominal.object.grasp_offset_m;
+    const solids: Solid[] | null = path3d ? zones.map((z) => zoneSolid(z, false)) : null;
+    const capsuleR = nominal.object.radius_m ?? o.beam_section_m / 2;
+    /** Whether the beam (its capsule, with a 2 cm allowance) touches zone z now (a task with waypoints). */
+    const beamNearZone3d = (z: number): boolean => {
+      const hl = nominal.object.length_m / 2 + 0.02;
+      cell.beamAxis(axis);
+      return capsuleClearance(beam[0]! - hl * axis[0]!, beam[1]! - hl * axis[1]!, beam[2]! - hl * axis[2]!, beam[0]! + hl * axis[0]!, beam[1]! + hl * axis[1]!, beam[2]! + hl * axis[2]!, capsuleR, solids![z]!) <= 0.02;
+    };
 
     const copyTrips = (a: Pick<ArmStep, 'watchdog'>): HoldReason[] => a.watchdog.trips.map((r, k) => ({ check: CHECKS[r.check] ?? String(r.check), input: r.input, value: r.value, limit: r.limit, t_s: r.t_s, first: a.watchdog.tripFirst(k) }));
 
@@ -338,7 +366,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
             if (pendingChange[c]) continue;
             const ch = changes[c]!;
             const zc = zones[ch.zone]!;
-            if (ch.occupied && segmentHitsZone(beam[0]!, beam[1]! - nominal.object.length_m / 2 - 0.02, beam[1]! + nominal.object.length_m / 2 + 0.02, zc)) continue;
+            if (ch.occupied && (path3d ? beamNearZone3d(ch.zone) : segmentHitsZone(beam[0]!, beam[1]! - nominal.object.length_m / 2 - 0.02, beam[1]! + nominal.object.length_m / 2 + 0.02, zc))) continue;
             pendingChange[c] = 1;
             truthState[ch.zone] = ch.occupied ? ZONE_OCCUPIED : ZONE_FREE;
             cell.setObstacleActive(ch.zone, ch.occupied);
@@ -421,12 +449,27 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
           if (t < o.settle_s) {
             c[0] = 0;
             c[1] = 0;
-          } else {
+            c[2] = 0;
+            c[3] = 0;
+          } else if (!path3d) {
             c[0] = out.twist[0]!;
             c[1] = out.twist[1]!;
+          } else {
+            // The motion stack moves the tool with the object's twist: v + w x r, r from the
+            // object's centre to the grasp (the tool's y axis times the grasp offset), and turns
+            // the wrist with the twist's yaw rate.
+            const tw = out.twist;
+            cell.toolAxisY(s, toolY);
+            const rx = grasp * toolY[0]!, ry = grasp * toolY[1]!, rz = grasp * toolY[2]!;
+            const wx = tw[3]!, wy = tw[4]!, wz = tw[5]!;
+            c[0] = tw[0]! + wy * rz - wz * ry;
+            c[1] = tw[1]! + wz * rx - wx * rz;
+            c[2] = tw[2]! + wx * ry - wy * rx;
+            c[3] = wz;
           }
           if (input.commandOverride) input.commandOverride(t, s, c);
-          cell.setCommand(s, c[0]!, c[1]!);
+          if (path3d) cell.setCommand3d(s, c[0]!, c[1]!, c[2]!, c[3]!);
+          else cell.setCommand(s, c[0]!, c[1]!);
           // Holds: the operator presses reset when the watchdog would release.
           if (out.held) {
             if (openHold[s] < 0) {
@@ -465,14 +508,18 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
         if (rec && ch) record(rec, ch, t, arms, meas, truthW, fCell, pose, fedView, cmd, cell, beam, beamV, internal, mask);
         sampleIndex++;
         // Success, stall.
-        const bx = beam[0]!, by = beam[1]!;
+        const bx = beam[0]!, by = beam[1]!, bz = beam[2]!;
         if (t >= o.settle_s) {
-          if (Math.hypot(bx - gx, by - gy) <= tol && Math.hypot(beamV[0]!, beamV[1]!) < o.success_speed_m_s) {
+          const atGoal = path3d
+            ? Math.hypot(bx - gx, by - gy, bz - gz) <= tol && Math.hypot(beamV[0]!, beamV[1]!, beamV[2]!) < o.success_speed_m_s
+            : Math.hypot(bx - gx, by - gy) <= tol && Math.hypot(beamV[0]!, beamV[1]!) < o.success_speed_m_s;
+          if (atGoal) {
             endReason = 'success';
             timeToGoal = t;
-          } else if (Math.hypot(bx - anchorX, by - anchorY) > 0.005) {
+          } else if (path3d ? Math.hypot(bx - anchorX, by - anchorY, bz - anchorZ) > 0.005 : Math.hypot(bx - anchorX, by - anchorY) > 0.005) {
             anchorX = bx;
             anchorY = by;
+            anchorZ = bz;
             anchorT = t;
           } else if (o.stall_s > 0 && t - anchorT > o.stall_s) {
             endReason = 'stall';
@@ -503,7 +550,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       kind: z.kind,
       center_m: [z.center_m[0], z.center_m[1]],
       size_m: z.shape === 'box' ? [z.size_m[0], z.size_m[1]] : null,
-      radius_m: z.shape === 'circle' ? z.radius_m : null,
+      radius_m: z.shape === 'box' ? null : z.radius_m,
       observed_by: z.observed_by,
       occupied: world.occupied[k]!,
       changes: applied2.filter((c) => c.zone === k).map((c) => ({ t_s: c.t_s, occupied: c.occupied })),
@@ -520,7 +567,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
       duration_s: lastT,
       time_to_goal_s: timeToGoal,
       final_position_m: [beam[0]!, beam[1]!],
-      final_distance_m: Math.hypot(beam[0]! - gx, beam[1]! - gy),
+      final_distance_m: path3d ? Math.hypot(beam[0]! - gx, beam[1]! - gy, beam[2]! - gz) : Math.hypot(beam[0]! - gx, beam[1]! - gy),
       collisions: { count: collisions, first_s: firstCollision, per_zone: perZoneRec, contact_s: contactSteps * dt },
       internal_force: { peak_n: peakInternal, mean_abs_n: nInternal > 0 ? sumInternal / nInternal : 0 },
       holds: { count: holdEvents.length, reasons, events: holdEvents, false_impact: falseImpact },
@@ -616,7 +663,7 @@ function record(
     put1(r, c.zoneFed, zoneFed[s]);
     zoneFed[s] = 0;
     put(r, c.twist, out.twist);
-    put(r, c.command, cmd[s]);
+    put(r, c.command, cmd[s], 2);
     put1(r, c.role, out.role);
     put1(r, c.slot, out.slot);
     put1(r, c.held, out.held ? 1 : 0);

@@ -9,6 +9,10 @@ import { encodeJointState, encodePoseStamped, encodeWrenchStamped } from '../bag
 import { BagWriter, type WrittenBag } from '../bag/writer.js';
 import type { ArmName } from '../params/spec.js';
 import { CELL_FRAME, INPUT_KINDS, INPUT_TYPES, inputTopic, sensorFrame, type InputKind } from '../ros/topics.js';
+import { encodePath, PATH_DEFINITION, PATH_TYPE } from '../ros/path-msg.js';
+
+/** A planner's latched path as rosbag2 records it: reliable, transient local, depth 1. */
+const PATH_BAG_QOS = [{ history: 1, depth: 1, reliability: 1, durability: 1, deadline: { sec: 0, nsec: 0 }, lifespan: { sec: 0, nsec: 0 }, liveliness: 1, liveliness_lease_duration: { sec: 0, nsec: 0 }, avoid_ros_namespace_conventions: false }];
 
 /** The sensor-data QoS profile (best effort, volatile, depth 5) as rosbag2 records it. */
 const SENSOR_QOS = [{ history: 1, depth: 5, reliability: 2, durability: 2, deadline: { sec: 0, nsec: 0 }, lifespan: { sec: 0, nsec: 0 }, liveliness: 1, liveliness_lease_duration: { sec: 0, nsec: 0 }, avoid_ros_namespace_conventions: false }];
@@ -25,13 +29,22 @@ export class InputBagWriter {
     private readonly zoneNames: readonly string[],
   ) {}
 
-  static async create(dir: string, zoneNames: readonly string[]): Promise<InputBagWriter> {
+  /** `pathTopic`: also a nav_msgs/msg/Path topic of that name (written with `path`). */
+  static async create(dir: string, zoneNames: readonly string[], opts: { pathTopic?: string } = {}): Promise<InputBagWriter> {
     const w = await BagWriter.create(dir, { compression: 'zstd', overwrite: true });
     const ids = new Map<string, number>();
     for (const arm of ['left', 'right'] as const) {
       for (const kind of INPUT_KINDS) ids.set(`${arm}/${kind}`, await w.addTopic({ name: inputTopic(arm, kind), type: INPUT_TYPES[kind], offeredQos: SENSOR_QOS }));
     }
+    if (opts.pathTopic !== undefined) ids.set('path', await w.addTopic({ name: opts.pathTopic, type: PATH_TYPE, definition: PATH_DEFINITION, offeredQos: PATH_BAG_QOS }));
     return new InputBagWriter(w, ids, zoneNames);
+  }
+
+  /** The object's nominal path (x y z per pose, x y z w per orientation, cell frame) on the path topic. */
+  path(ns: bigint, waypoints: ArrayLike<number>, orientations?: ArrayLike<number>): void {
+    const id = this.ids.get('path');
+    if (id === undefined) throw new Error('InputBagWriter: no path topic (create it with pathTopic)');
+    void this.w.write(id, ns, encodePath(CELL_FRAME, Number(ns / 1_000_000n) / 1000, waypoints, orientations));
   }
 
   private id(arm: ArmName, kind: InputKind): number {

@@ -25,6 +25,7 @@
  */
 import type { TaskParams, ZoneConfig } from '../params/config.js';
 import { STANDARD_GRAVITY } from '../core/filter/index.js';
+import { isPlanar, taskPath } from '../params/task-geometry.js';
 import type { SimOptions } from './options.js';
 import type { World } from './world.js';
 import { sixJointActuators, sixJointBodies, sixJointWeld } from './six-joint.js';
@@ -97,11 +98,194 @@ function arm(side: 'left' | 'right', task: TaskParams, world: World, o: SimOptio
     </body>`;
 }
 
+/** Room the z carriage has below the path's lowest and above its highest point, m (detours over a zone). */
+export const Z_TRAVEL_BELOW_M = 0.3;
+export const Z_TRAVEL_ABOVE_M = 0.5;
+/**
+ * On a task with waypoints the x and y carriages travel this far past the cell's extent
+ * (`cell_x_m`, `cell_y_m`, which the nominal path must keep the object inside), so a sideways
+ * detour off the path stays within reach, m.
+ */
+export const PATH_TRAVEL_MARGIN_M = 0.5;
+/** The wrist yaw joint's own viscous friction, N*m*s/rad, and its rotor inertia, kg*m^2. */
+const WRIST_YAW_FRICTION_NMS_RAD = 0.05;
+const WRIST_YAW_ARMATURE_KG_M2 = 0.01;
+
+/** The path's start and end pose, its height range and the beam's yaw there (a task with waypoints). */
+export interface PathPoses {
+  readonly start: readonly [number, number, number];
+  readonly end: readonly [number, number, number];
+  /** Yaw of the object about the vertical at the start and at the end, rad. */
+  readonly startYaw: number;
+  readonly endYaw: number;
+  readonly zMin: number;
+  readonly zMax: number;
+}
+
+/** Yaw about z of a quaternion (x, y, z, w) that turns about the vertical only. */
+export function yawOf(q: ArrayLike<number>): number {
+  return 2 * Math.atan2(q[2]!, q[3]!);
+}
+
+/** Poses of a task with waypoints (set-up time). */
+export function pathPoses(task: TaskParams): PathPoses {
+  const path = taskPath(task);
+  const W = task.path!.waypoints_m;
+  let zMin = Infinity, zMax = -Infinity;
+  for (let k = 2; k < W.length; k += 3) {
+    zMin = Math.min(zMin, W[k]!);
+    zMax = Math.max(zMax, W[k]!);
+  }
+  path.locate(0);
+  path.orientationAt(0);
+  const start = [path.pos[0]!, path.pos[1]!, path.pos[2]!] as const;
+  const startYaw = yawOf(path.q);
+  path.locate(path.length);
+  path.orientationAt(path.length);
+  return { start, end: [path.pos[0]!, path.pos[1]!, path.pos[2]!], startYaw, endYaw: yawOf(path.q), zMin, zMax };
+}
+
+/** MJCF quaternion (w x y z) of a yaw about z. */
+const yawQuat = (a: number): string => `${f(Math.cos(a / 2))} 0 0 ${f(Math.sin(a / 2))}`;
+
+/** A zone as a 3-D obstacle at its heights: a yawed box, a vertical cylinder or a sphere. */
+function obstacle3d(z: ZoneConfig, options: SimOptions): string {
+  const [cx, cy] = z.center_m;
+  const common = `contype="1" conaffinity="1" condim="3" friction="${f(options.contact_friction)} 0.005 0.0001" solref="${f(options.contact_timeconst_s)} 1" rgba="0.85 0.35 0.1 1"`;
+  if (z.shape === 'sphere') return `    <geom name="zone_${z.name}" type="sphere" pos="${v3(cx, cy, z.center_z_m ?? 0)}" size="${f(z.radius_m)}" ${common}/>`;
+  const [z0, z1] = z.height_m ?? [0, 10];
+  const mid = (z0 + z1) / 2;
+  const hz = (z1 - z0) / 2;
+  if (z.shape === 'box') {
+    return `    <geom name="zone_${z.name}" type="box" pos="${v3(cx, cy, mid)}" quat="${yawQuat(z.yaw_rad ?? 0)}" size="${v3(z.size_m[0] / 2, z.size_m[1] / 2, hz)}" ${common}/>`;
+  }
+  return `    <geom name="zone_${z.name}" type="cylinder" pos="${v3(cx, cy, mid)}" size="${f(z.radius_m)} ${f(hz)}" ${common}/>`;
+}
+
+/**
+ * A tool-point arm for a task with waypoints: the x and y carriages as on the plane, a z
+ * carriage under a velocity servo with the carried weight as a constant feed-forward (so the
+ * tool is an admittance vertically too, and follows the path's heights), and a wrist yaw
+ * joint under a velocity servo, so the gripper follows the path's orientation about the
+ * vertical and the beam turns as the two grasp points move.
+ */
+function arm3d(side: 'left' | 'right', task: TaskParams, world: World, o: SimOptions, poses: PathPoses): string {
+  const g = task.object.grasp_offset_m;
+  const [sx, sy] = world.start_m;
+  const sz = poses.start[2];
+  const yaw = poses.startYaw;
+  // The grasp point: the beam's axis (its local y) turned by the start yaw.
+  const sgn = side === 'left' ? 1 : -1;
+  const x = sx - sgn * g * Math.sin(yaw);
+  const y = sy + sgn * g * Math.cos(yaw);
+  const quat = yawQuat(side === 'left' ? yaw : yaw + Math.PI);
+  const m = o.carriage_mass_kg;
+  const M = PATH_TRAVEL_MARGIN_M;
+  const [x0, x1] = [o.cell_x_m[0] - M, o.cell_x_m[1] + M];
+  const [y0, y1] = [o.cell_y_m[0] - M, o.cell_y_m[1] + M];
+  const vis = 'contype="0" conaffinity="0"';
+  const jd = f(o.joint_damping_n_s_m);
+  const zlo = poses.zMin - Z_TRAVEL_BELOW_M - sz;
+  const zhi = poses.zMax + Z_TRAVEL_ABOVE_M - sz;
+  return `
+    <body name="${side}_cx" pos="${v3(x, y, sz)}">
+      <joint name="${side}_x" type="slide" axis="1 0 0" limited="true" range="${f(x0 - x)} ${f(x1 - x)}" damping="${jd}"/>
+      <geom type="box" size="0.03 0.03 0.03" mass="${f(m)}" ${vis} rgba="0.3 0.3 0.35 1"/>
+      <body name="${side}_cy">
+        <joint name="${side}_y" type="slide" axis="0 1 0" limited="true" range="${f(y0 - y)} ${f(y1 - y)}" damping="${jd}"/>
+        <geom type="box" size="0.025 0.025 0.025" mass="${f(m)}" ${vis} rgba="0.35 0.35 0.4 1"/>
+        <body name="${side}_cz">
+          <joint name="${side}_z" type="slide" axis="0 0 1" limited="true" range="${f(zlo)} ${f(zhi)}" damping="${jd}"/>
+          <geom type="cylinder" size="0.025 0.02" pos="0 0 0.04" mass="${f(m)}" ${vis} rgba="0.4 0.4 0.45 1"/>
+          <body name="${side}_tool" quat="${quat}">
+            <joint name="${side}_yaw" type="hinge" axis="0 0 1" limited="false" damping="${f(WRIST_YAW_FRICTION_NMS_RAD)}" armature="${f(WRIST_YAW_ARMATURE_KG_M2)}"/>
+            <site name="${side}_ft" size="0.01"/>
+            <geom type="box" size="0.03 0.015 0.03" mass="${f(o.tool_mass_kg)}" ${vis} rgba="0.2 0.5 0.8 1"/>
+          </body>
+        </body>
+      </body>
+    </body>`;
+}
+
+/** The cell's MJCF for a task with waypoints (tool-point arms only). */
+function buildMjcf3d(task: TaskParams, world: World, o: SimOptions): { xml: string; names: CellNames } {
+  const L = task.object.length_m;
+  const r = task.object.radius_m ?? o.beam_section_m / 2;
+  const poses = pathPoses(task);
+  const [sx, sy] = world.start_m;
+  const sz = poses.start[2];
+  const [gx, gy, gz] = poses.end;
+  const obstacles: string[] = [];
+  const obstacleGeoms = task.zones.map((z, k) => {
+    if (!world.occupied[k]) return '';
+    obstacles.push(obstacle3d(z, o));
+    return `zone_${z.name}`;
+  });
+  const vis = 'contype="0" conaffinity="0"';
+  const kv = f(o.admittance_damping_n_s_m);
+  const vmax = f(o.servo_speed_limit_m_s);
+  const fmax = f(o.servo_force_limit_n);
+  const carried = (o.carriage_mass_kg + o.tool_mass_kg + task.object.mass_kg / 2) * STANDARD_GRAVITY;
+  const servo = (side: string, axis: string) =>
+    `    <velocity name="${side}_v${axis}" joint="${side}_${axis}" kv="${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
+  // z: D (u - qdot) + the carried weight (MuJoCo's general actuator, affine bias).
+  const zservo = (side: string) =>
+    `    <general name="${side}_vz" joint="${side}_z" gainprm="${kv}" biastype="affine" biasprm="${f(carried)} 0 -${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
+  const wmax = f(o.wrist_yaw_speed_limit_rad_s);
+  const tmax = f(o.wrist_yaw_torque_limit_nm);
+  const yservo = (side: string) =>
+    `    <velocity name="${side}_vyaw" joint="${side}_yaw" kv="${f(o.wrist_yaw_damping_nms_rad)}" ctrllimited="true" ctrlrange="-${wmax} ${wmax}" forcelimited="true" forcerange="-${tmax} ${tmax}"/>`;
+  const weld = (side: 'left' | 'right') =>
+    `    <weld name="${side}_grasp" body1="${side}_tool" body2="beam" anchor="0 ${f(side === 'left' ? task.object.grasp_offset_m : -task.object.grasp_offset_m)} 0" solref="${f(o.grasp_timeconst_s)} 1"/>`;
+  const standTop = (z: number) => Math.max(0.05, z - r - 0.01);
+  const st = standTop(sz), ft = standTop(gz);
+  const xml = `<mujoco model="antiphon_cell_path">
+  <compiler angle="radian"/>
+  <option timestep="${f(o.timestep_s)}" integrator="implicitfast" gravity="0 0 ${f(-STANDARD_GRAVITY)}">
+    <flag island="disable"${o.energy ? ' energy="enable"' : ''}/>
+  </option>
+  <worldbody>
+    <light pos="1.2 0 3" dir="0 0 -1"/>
+    <geom name="floor" type="plane" size="5 5 0.1" ${vis} rgba="0.8 0.8 0.8 1"/>
+    <geom name="pick_stand" type="box" pos="${v3(poses.start[0], poses.start[1], st / 2)}" quat="${yawQuat(poses.startYaw)}" size="${v3(0.1, L / 2 - 0.05, st / 2)}" ${vis} rgba="0.5 0.5 0.3 1"/>
+    <geom name="fixture" type="box" pos="${v3(gx, gy, ft / 2)}" quat="${yawQuat(poses.endYaw)}" size="${v3(0.1, L / 2 - 0.05, ft / 2)}" ${vis} rgba="0.3 0.5 0.3 1"/>
+${obstacles.join('\n')}
+    <body name="beam" pos="${v3(sx, sy, sz)}" quat="${yawQuat(poses.startYaw)}">
+      <freejoint name="beam_free"/>
+      <geom name="beam" type="capsule" fromto="0 ${f(-L / 2)} 0 0 ${f(L / 2)} 0" size="${f(r)}" mass="${f(task.object.mass_kg)}" contype="1" conaffinity="1" condim="3" rgba="0.75 0.75 0.8 1"/>
+    </body>${arm3d('left', task, world, o, poses)}${arm3d('right', task, world, o, poses)}
+  </worldbody>
+  <equality>
+${weld('left')}
+${weld('right')}
+  </equality>
+  <actuator>
+${servo('left', 'x')}
+${servo('left', 'y')}
+${zservo('left')}
+${yservo('left')}
+${servo('right', 'x')}
+${servo('right', 'y')}
+${zservo('right')}
+${yservo('right')}
+  </actuator>
+  <sensor>
+    <force name="left_force" site="left_ft"/>
+    <torque name="left_torque" site="left_ft"/>
+    <force name="right_force" site="right_ft"/>
+    <torque name="right_torque" site="right_ft"/>
+  </sensor>
+</mujoco>
+`;
+  return { xml, names: { obstacleGeoms } };
+}
+
 /**
  * The cell's MJCF for one world. `task` is the nominal task (the arms' bases stand where the
  * cell was built); the world gives the jittered start and goal.
  */
 export function buildMjcf(task: TaskParams, world: World, o: SimOptions): { xml: string; names: CellNames } {
+  if (!isPlanar(task)) return buildMjcf3d(task, world, o);
   const L = task.object.length_m;
   const s = o.beam_section_m;
   const h = o.beam_height_m;

@@ -68,6 +68,15 @@ export interface SimOptions {
   /** Vertical position hold of each tool (a stiff PD servo with gravity feed-forward), N/m. */
   readonly z_stiffness_n_m: number;
   readonly z_damping_n_s_m: number;
+  /**
+   * Tasks with waypoints: the wrist yaw joint of each tool point (a hinge about the vertical
+   * under a velocity servo, so the gripper follows the path's orientation): the servo's gain,
+   * N*m*s/rad (torque D_r (w_cmd - w); the grasp lever makes the x and y admittances resist a
+   * turn with about D g^2, 24 N*m*s/rad on the demo beam), its speed and torque saturation.
+   */
+  readonly wrist_yaw_damping_nms_rad: number;
+  readonly wrist_yaw_speed_limit_rad_s: number;
+  readonly wrist_yaw_torque_limit_nm: number;
   /** Viscous friction of every slide joint, N*s/m. */
   readonly joint_damping_n_s_m: number;
   /** Servo force saturation per axis, N. */
@@ -157,6 +166,9 @@ export const DEFAULT_SIM_OPTIONS: SimOptions = Object.freeze({
   z_stiffness_n_m: 20000,
   z_damping_n_s_m: 400,
   joint_damping_n_s_m: 1.0,
+  wrist_yaw_damping_nms_rad: 50,
+  wrist_yaw_speed_limit_rad_s: 1.0,
+  wrist_yaw_torque_limit_nm: 30,
   servo_force_limit_n: 200,
   servo_speed_limit_m_s: 0.5,
   grasp_timeconst_s: 0.004,
@@ -206,6 +218,9 @@ const RANGES: ReadonlyArray<[string, number, number]> = [
   ['z_stiffness_n_m', 10, 1e7],
   ['z_damping_n_s_m', 0, 1e5],
   ['joint_damping_n_s_m', 0, 1e4],
+  ['wrist_yaw_damping_nms_rad', 0.1, 1e5],
+  ['wrist_yaw_speed_limit_rad_s', 0.01, 10],
+  ['wrist_yaw_torque_limit_nm', 0.1, 1e4],
   ['servo_force_limit_n', 1, 1e5],
   ['servo_speed_limit_m_s', 0.01, 10],
   ['grasp_timeconst_s', 0.0002, 0.1],

@@ -9,6 +9,9 @@ import { segmentHitsZone } from '../params/config.js';
 import { InputError, type Problem } from '../util/errors.js';
 import { Rng } from '../util/rng.js';
 import type { SimOptions } from './options.js';
+import { isPlanar, taskPath, zoneSolid } from '../params/task-geometry.js';
+import { capsuleClearance } from '../geometry/solids.js';
+import { rotateByQuat } from '../geometry/path.js';
 
 export type ArmSide = 'left' | 'right';
 
@@ -85,9 +88,25 @@ export function sampleWorld(task: TaskParams, options: SimOptions, seed: number)
   let goal = jitter(task.goal_m, options.goal_jitter_m);
   // A jittered end pose must still clear every zone (the nominal one does, by the config checks).
   const half = task.object.length_m / 2;
-  const clear = (p: readonly [number, number]) => task.zones.every((z) => !segmentHitsZone(p[0], p[1] - half, p[1] + half, z));
-  if (!clear(start)) start = [task.start_m[0], task.start_m[1]];
-  if (!clear(goal)) goal = [task.goal_m[0], task.goal_m[1]];
+  if (isPlanar(task)) {
+    const clear = (p: readonly [number, number]) => task.zones.every((z) => !segmentHitsZone(p[0], p[1] - half, p[1] + half, z));
+    if (!clear(start)) start = [task.start_m[0], task.start_m[1]];
+    if (!clear(goal)) goal = [task.goal_m[0], task.goal_m[1]];
+  } else {
+    // A path: the beam starts jittered beside the path's start (at its height and orientation,
+    // clear of every zone, else on it); the goal is the path's end, which the arms steer to
+    // (the goal jitter is drawn, so the streams stay those of a planar world, and not used).
+    goal = [task.goal_m[0], task.goal_m[1]];
+    const path = taskPath(task);
+    path.locate(0);
+    path.orientationAt(0);
+    const a = new Float64Array(3);
+    rotateByQuat(path.q, 0, half, 0, a);
+    const z0 = path.pos[2]!;
+    const r = task.object.radius_m ?? 0;
+    const clear = task.zones.every((z) => capsuleClearance(start[0] - a[0]!, start[1] - a[1]!, z0 - a[2]!, start[0] + a[0]!, start[1] + a[1]!, z0 + a[2]!, r, zoneSolid(z, false)) > 0);
+    if (!clear) start = [task.start_m[0], task.start_m[1]];
+  }
   const sensor = (): SensorDraw => {
     const s = options.sensor;
     const bias = [0, 1, 2, 3, 4, 5].map((a) => rng.range(-1, 1) * (a < 3 ? s.bias_force_n : s.bias_torque_nm));
@@ -136,12 +155,14 @@ export function checkTaskForCell(task: TaskParams, options: SimOptions): Problem
       out.push({ code: 'sim.outside_cell', message: `${key}: the ${L} m object centred at y = ${p[1]} m reaches outside the cell`, where: { key }, hint: `y from ${cy0 + L / 2 + jitter} to ${cy1 - L / 2 - jitter} m` });
     }
     const half = L / 2;
-    for (const z of task.zones) {
+    // A path's start and goal are checked in 3-D at load (param.zone_overlaps_start / _goal).
+    for (const z of isPlanar(task) ? task.zones : []) {
       if (segmentHitsZone(p[0], p[1] - half, p[1] + half, z)) {
         out.push({ code: `sim.zone_overlaps_${label === 'goal_m' ? 'goal' : 'start'}`, message: `zone '${z.name}' overlaps the object at ${key} (${p[0]}, ${p[1]})`, where: { key: `task.zones.${z.name}.center_m` }, hint: 'move the zone or the goal so the object clears it' });
       }
     }
   }
+  if (!isPlanar(task)) out.push(...checkPathForCell(task, options));
   for (const z of task.zones) {
     const e = zoneExtent(z);
     if (e.x0 < cx0 || e.x1 > cx1 || e.y0 < cy0 || e.y1 > cy1) {
@@ -149,6 +170,35 @@ export function checkTaskForCell(task: TaskParams, options: SimOptions): Problem
     }
   }
   return out;
+}
+
+/** Heights the simulated tool point reaches (the beam centre's), m. */
+export const CELL_Z_M: readonly [number, number] = [0.2, 2.0];
+
+/** A path must keep the whole object inside the cell's reach (sampled every 1 cm, the object's ends included). */
+function checkPathForCell(task: TaskParams, options: SimOptions): Problem[] {
+  const [cx0, cx1] = options.cell_x_m;
+  const [cy0, cy1] = options.cell_y_m;
+  const path = taskPath(task);
+  const a = new Float64Array(3);
+  const half = task.object.length_m / 2;
+  const n = Math.max(1, Math.ceil(path.length / 0.01));
+  for (let k = 0; k <= n; k++) {
+    const s = (k / n) * path.length;
+    path.locate(s);
+    path.orientationAt(s);
+    rotateByQuat(path.q, 0, half, 0, a);
+    const p = path.pos;
+    const xs = [p[0]! - a[0]!, p[0]! + a[0]!], ys = [p[1]! - a[1]!, p[1]! + a[1]!];
+    const where = `(${[...p].map((v) => v.toFixed(3)).join(', ')}) at s = ${s.toFixed(3)} m`;
+    if (Math.min(...xs) < cx0 || Math.max(...xs) > cx1 || Math.min(...ys) < cy0 || Math.max(...ys) > cy1) {
+      return [{ code: 'sim.path_outside_cell', message: `task.path.waypoints_m: the object reaches outside the simulated cell at ${where}`, where: { key: 'task.path.waypoints_m' }, hint: `the whole object inside x ${cx0}..${cx1} m, y ${cy0}..${cy1} m` }];
+    }
+    if (p[2]! < CELL_Z_M[0] || p[2]! > CELL_Z_M[1]) {
+      return [{ code: 'sim.path_outside_cell', message: `task.path.waypoints_m: the path's height ${p[2]!.toFixed(3)} m at ${where} is out of the simulated arms' reach`, where: { key: 'task.path.waypoints_m' }, hint: `heights from ${CELL_Z_M[0]} to ${CELL_Z_M[1]} m` }];
+    }
+  }
+  return [];
 }
 
 export function assertTaskForCell(task: TaskParams, options: SimOptions): void {

@@ -4,7 +4,8 @@
  * Chromium the test is skipped locally and fails under CI (.ci/run installs it).
  *
  * The episode: a world of the 'changing' family (a zone changes during the transfer) run with
- * the independent strategy (which collides), 8 s. Writes test-output/plan/ (git-ignored).
+ * the independent strategy (which collides), 8 s. The side view: 8 s of examples/path_cell.yaml
+ * (a task with waypoints, every zone occupied). Writes test-output/plan/ (git-ignored).
  */
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
@@ -60,6 +61,9 @@ describe.skipIf(!available)(`plan view and compare report in Chromium${available
     const z = result.summary.world.zones.find((zz) => zz.changes.length > 0)!;
     change = { zone: z.name, t_s: z.changes[0]!.t_s, occupied: z.changes[0]!.occupied };
     await writeEpisodeArtifacts(join(OUT, 'episode'), result, true);
+    const pc = loadCell(join(ROOT, 'examples/path_cell.yaml'));
+    const pathRun = await runEpisode({ left: pc.left.config, right: pc.right.config, strategy: { name: 'alternating', k: 500 }, seed: 7, duration_s: 8 });
+    await writeEpisodeArtifacts(join(OUT, 'path'), pathRun, true);
     const cmp = await runCompare({ left: cell.left.config, right: cell.right.config, worlds: 2, seed: 3, strategies: [{ name: 'centralized', k: null }, { name: 'alternating', k: 500 }], duration_s: 3, family: fam });
     writeFileSync(join(OUT, 'compare.html'), renderCompareReport([reportFamily(cmp), { ...reportFamily(cmp), name: '<b>x</b>' }]));
     browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--headless', '--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'] });
@@ -124,6 +128,32 @@ describe.skipIf(!available)(`plan view and compare report in Chromium${available
     await canvas.dblclick();
     const [a3, b3] = (await page.evaluate(() => document.body.getAttribute('data-view')!)).split(',').map(Number);
     expect(b3! - a3!).toBeGreaterThan(7);
+    await page.close();
+  });
+
+  it('a task with waypoints gets a side view: the nominal path, both grasp heights, the zones at their heights, the object', async () => {
+    const page = await open(join(OUT, 'path', 'report.html'));
+    await page.waitForFunction(() => document.body.getAttribute('data-plan') === 'drawn');
+    expect(await page.locator('#side-svg [data-side-zone]').count()).toBe(3);
+    expect(await page.locator('#side-svg path[data-side-path]').count()).toBe(4);
+    // The tray drop hangs from 0.8 m: its rectangle's top is above its bottom on the page, the column reaches past the view.
+    const tray = page.locator('#side-svg [data-side-zone="tray_drop"]');
+    expect(Number(await tray.getAttribute('height'))).toBeGreaterThan(10);
+    // The yawed tray drop is turned in the plan.
+    expect(await page.locator('#plan-svg [data-zone="tray_drop"]').getAttribute('transform')).toMatch(/^rotate\(-36\.6/);
+    await page.evaluate(() => {
+      const s = document.getElementById('plan-t') as HTMLInputElement;
+      s.value = '900';
+      s.dispatchEvent(new Event('input'));
+    });
+    expect(await page.locator('#side-object').getAttribute('x1')).not.toBeNull();
+    await page.close();
+  });
+
+  it('the planar demo report has no side view', async () => {
+    const page = await open(join(OUT, 'episode', 'report.html'));
+    await page.waitForFunction(() => document.body.getAttribute('data-plan') === 'drawn');
+    expect(await page.locator('#side-svg').count()).toBe(0);
     await page.close();
   });
 

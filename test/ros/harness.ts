@@ -55,13 +55,13 @@ export interface FeedOptions {
   shareSteady?: boolean;
 }
 
-export function setup(opts: { arm?: ArmName; values?: Map<string, ResolvedValue>; configure?: boolean; overrides?: { name: string; type: number; value: unknown }[]; inputQos?: QosProfile; rcl?: FakeRcl; steady?: { s: number } } = {}): Setup {
+export function setup(opts: { arm?: ArmName; values?: Map<string, ResolvedValue>; configure?: boolean; overrides?: { name: string; type: number; value: unknown }[]; inputQos?: QosProfile; rcl?: FakeRcl; steady?: { s: number }; pathTopic?: string } = {}): Setup {
   const arm = opts.arm ?? 'left';
   const rcl = opts.rcl ?? new FakeRcl();
   if (opts.overrides) rcl.overrides = opts.overrides;
   const steady = opts.steady ?? { s: 1000 };
   const values = opts.values ?? new Map(cell[arm].values);
-  const nodes = new ArmNodes(rcl, { arm, config: cell[arm].config, values, steadyS: () => steady.s });
+  const nodes = new ArmNodes(rcl, { arm, config: cell[arm].config, values, steadyS: () => steady.s, ...(opts.pathTopic !== undefined ? { pathTopic: opts.pathTopic } : {}) });
   if (opts.configure !== false) nodes.inference.configure();
   const driver = new rcl.Node('driver', `/${arm}`);
   const q = opts.inputQos ?? qos('best_effort', 10);

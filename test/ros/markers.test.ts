@@ -27,6 +27,7 @@ describe('markers', () => {
       ['antiphon_left/object', MARKER_IDS.object, MARKER.CUBE],
       ['antiphon_left/twist', MARKER_IDS.twist, MARKER.ARROW],
       ['antiphon_left/role', MARKER_IDS.role, MARKER.TEXT_VIEW_FACING],
+      ['antiphon_left/path', MARKER_IDS.path, MARKER.LINE_STRIP],
     ]);
     expect(a.every((m) => m.lifetime.sec >= 1 && m.action === MARKER.ADD)).toBe(true);
     expect(a[1]!.color.a).toBeGreaterThan(0.1); // opacity from the belief's occupied probability
