@@ -20,7 +20,7 @@
  *   npm run build && node --expose-gc dist/bench/run.js issue8
  *   ANTIPHON_BENCH_JOBS=1 node dist/bench/run.js issue8      (one worker; default 2)
  *
- * Prints a table and writes bench/results/issue8.json. About 3 to 6 minutes on 2 cores.
+ * Prints a table and writes bench/results/issue8.json. About 8 to 14 minutes on 2 cores (shared).
  */
 import { fileURLToPath } from 'node:url';
 import type { ArmConfig } from '../src/params/config.js';
@@ -280,6 +280,10 @@ export function issue8Table(r: {
   lines.push('(c) partner-hold detection (one NaN wrench sample on one arm; partner twist zero to the end)');
   for (const cellName of ['mujoco', 'kinematic'] as const) {
     const h = r.partner_hold[cellName] as { runs: number; detected: number; never_rate: number; detection_s: { max: number | null; p95: number | null }; object_moved_m: { max: number | null; mean: number | null }; held_arm_role_counts: { speaker: number; listener: number } };
+    if (!h.runs) {
+      lines.push(`    ${cellName.padEnd(10)} not run (ANTIPHON_ISSUE8_PARTS without c)`);
+      continue;
+    }
     lines.push(`    ${cellName.padEnd(10)} ${h.runs} episodes (held arm speaker ${h.held_arm_role_counts.speaker}, listener ${h.held_arm_role_counts.listener}): detected ${h.detected}, never ${pc(h.never_rate, 1)}; detection max ${f(h.detection_s.max)} s, p95 ${f(h.detection_s.p95)} s; object moved after the hold: mean ${f(h.object_moved_m.mean)} m, max ${f(h.object_moved_m.max)} m`);
   }
   lines.push('(d) both arms in the same role (MuJoCo, worlds of (a))');
