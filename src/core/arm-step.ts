@@ -12,7 +12,7 @@
  */
 import type { ArmConfig } from '../params/config.js';
 import { TARE_REFUSAL_TEXT, TARE_REFUSED, TARE_REFUSED_MOVING, TARE_TAKEN, WrenchFilter, noiseCorrelationSamples, type WrenchFilterConfig } from './filter/index.js';
-import { Belief } from './belief.js';
+import { Belief, disturbanceTempering } from './belief.js';
 import { PartnerStopDetector } from './partner-stop.js';
 import { LISTENER, RoleScheduler, SPEAKER, type Role } from './roles.js';
 import { Policy } from './policy.js';
@@ -303,7 +303,11 @@ export class ArmStep {
     this.beliefEvery = Math.max(1, Math.round(fs / config.belief.update_rate_hz));
     // Successive windows of the correction band share most of their noise: a window of n
     // samples holds n / L independent ones, L the band's noise correlation length in samples.
-    this.likelihoodScale = Math.min(1, this.beliefEvery / noiseCorrelationSamples(this.filter.sos));
+    // A slow disturbance the cell declares (belief.disturbance_force_n) is correlated longer
+    // still: each window counts less again (exactly as before without one).
+    const noiseL = noiseCorrelationSamples(this.filter.sos);
+    const bp = config.belief;
+    this.likelihoodScale = Math.min(1, this.beliefEvery / noiseL) * disturbanceTempering(bp.noise_force_n, noiseL, bp.disturbance_force_n, bp.disturbance_time_s, fs, this.beliefEvery);
     this.partnerStop = new PartnerStopDetector(config.watchdog.partner_stop, config.coupling.damping_n_s_m, fs / this.beliefEvery);
     this.policyEvery = Math.max(1, Math.round(fs / config.policy.update_rate_hz));
     // Stagger the policy update half a period after the belief update: a lower worst case per sample.

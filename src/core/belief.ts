@@ -260,3 +260,27 @@ export class Belief {
     this.stMarg.set(s.subarray(o + 6, o + 6 + this.stMarg.length));
   }
 }
+
+/**
+ * The factor (≤ 1, exactly 1 without a disturbance) by which a window's log-likelihood counts
+ * less when the correction band carries, beside noise of standard deviation `noiseN`
+ * correlated over `noiseSamples` samples, a slow disturbance of standard deviation
+ * `disturbanceN` and correlation time `disturbanceTimeS` (a first-order process), sampled at
+ * `rateHz` in windows of `windowSamples` samples.
+ *
+ * A window's log-likelihood ratio between two hypotheses whose predictions differ by Δ is
+ * linear in the residual, Σ r·Δ over the window's samples; with independent windows assumed,
+ * its variance is twice its mean (a calibrated likelihood) only when each window counts
+ * n / L_eff, with the variance-weighted correlation length
+ * L_eff = (σ_e² L_e + σ_d² L_d) / σ_e² (in units of the noise variance the score divides by),
+ * L_d = (1 + a) / (1 − a), a = e^(−1 / (τ f_s)), the sum of the first-order process's
+ * autocorrelation over every lag (about 2 τ f_s). Each length is at least one window (the
+ * scale never exceeds one observation per window). Returns σ_e² L_e / (σ_e² L_e + σ_d² L_d).
+ */
+export function disturbanceTempering(noiseN: number, noiseSamples: number, disturbanceN: number, disturbanceTimeS: number, rateHz: number, windowSamples: number): number {
+  if (!(disturbanceN > 0)) return 1;
+  const a = Math.exp(-1 / (disturbanceTimeS * rateHz));
+  const ld = Math.max((1 + a) / (1 - a), windowSamples);
+  const e = noiseN * noiseN * Math.max(noiseSamples, windowSamples);
+  return e / (e + disturbanceN * disturbanceN * ld);
+}

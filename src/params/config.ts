@@ -87,6 +87,8 @@ export interface BeliefParams {
   readonly forgetting: number;
   readonly commit_probability: number;
   readonly release_probability: number;
+  readonly disturbance_force_n: number;
+  readonly disturbance_time_s: number;
   readonly max_hidden_zones: number;
 }
 

@@ -90,6 +90,8 @@ export const SCHEMA: readonly ParamSpec[] = [
   d('belief.forgetting', '1', 0.0005, 0, 0.5, 'Mixing toward the uniform belief at each update: the chance per update that a zone changed (0.0005 at 100 Hz: a half-life of about 14 s). Larger than the world\'s real rate of change makes the belief underconfident once the evidence stops.'),
   d('belief.commit_probability', '1', 0.8, 0.5, 1, 'At a role switch, a zone whose occupied probability reaches this becomes common knowledge.'),
   d('belief.release_probability', '1', 0.5, 0, 1, 'At a role switch, a committed zone stays committed while its occupied probability is at least this (sticky commitments: a hysteresis below commit_probability).'),
+  d('belief.disturbance_force_n', 'N', 0, 0, 100, 'Standard deviation per axis of a slow correction-band disturbance the cell carries beyond belief.noise_force_n (cable drag, flex of the object, a hand on it), calibrated from a bag of the cell. Its windows are correlated over about 2 x belief.disturbance_time_s, so each window of the likelihood counts correspondingly less (0: none; today\'s scale).'),
+  d('belief.disturbance_time_s', 's', 0.2, 0.001, 60, 'Correlation time of that disturbance (a first-order process: e^(-lag/time)).'),
   i('belief.max_hidden_zones', 8, 0, 8, 'Most zones only the partner observes (exact enumeration: 2^n hypotheses, at most 256).'),
 
   // ---- coupling ----------------------------------------------------------------------------
