@@ -207,6 +207,16 @@ function arm3d(side: 'left' | 'right', task: TaskParams, world: World, o: SimOpt
     </body>`;
 }
 
+/** The carriages' velocity servos (the admittance gain, speed and force limits), as MJCF text; shared by the planar and the 3-D scene. */
+function carriageServos(o: SimOptions): { kv: string; vmax: string; fmax: string; servo: (side: string, axis: string) => string } {
+  const kv = f(o.admittance_damping_n_s_m);
+  const vmax = f(o.servo_speed_limit_m_s);
+  const fmax = f(o.servo_force_limit_n);
+  const servo = (side: string, axis: string) =>
+    `    <velocity name="${side}_v${axis}" joint="${side}_${axis}" kv="${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
+  return { kv, vmax, fmax, servo };
+}
+
 /** The cell's MJCF for a task with waypoints (tool-point arms only). */
 function buildMjcf3d(task: TaskParams, world: World, o: SimOptions): { xml: string; names: CellNames } {
   const L = task.object.length_m;
@@ -222,12 +232,8 @@ function buildMjcf3d(task: TaskParams, world: World, o: SimOptions): { xml: stri
     return `zone_${z.name}`;
   });
   const vis = 'contype="0" conaffinity="0"';
-  const kv = f(o.admittance_damping_n_s_m);
-  const vmax = f(o.servo_speed_limit_m_s);
-  const fmax = f(o.servo_force_limit_n);
+  const { kv, vmax, fmax, servo } = carriageServos(o);
   const carried = (o.carriage_mass_kg + o.tool_mass_kg + task.object.mass_kg / 2) * STANDARD_GRAVITY;
-  const servo = (side: string, axis: string) =>
-    `    <velocity name="${side}_v${axis}" joint="${side}_${axis}" kv="${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
   // z: D (u - qdot) + the carried weight (MuJoCo's general actuator, affine bias).
   const zservo = (side: string) =>
     `    <general name="${side}_vz" joint="${side}_z" gainprm="${kv}" biastype="affine" biasprm="${f(carried)} 0 -${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
@@ -299,11 +305,7 @@ export function buildMjcf(task: TaskParams, world: World, o: SimOptions): { xml:
     return `zone_${z.name}`;
   });
   const vis = 'contype="0" conaffinity="0"';
-  const kv = f(o.admittance_damping_n_s_m);
-  const vmax = f(o.servo_speed_limit_m_s);
-  const fmax = f(o.servo_force_limit_n);
-  const servo = (side: string, axis: string) =>
-    `    <velocity name="${side}_v${axis}" joint="${side}_${axis}" kv="${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
+  const { kv, vmax, fmax, servo } = carriageServos(o);
   const six = o.arm_model === 'six_joint';
   const weld = (side: 'left' | 'right') =>
     six

@@ -23,6 +23,7 @@ import type { ArmConfig } from '../params/config.js';
 import { percentile } from '../sim/measures.js';
 import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedArm, type DecodedBag } from './decoded.js';
 import { EARLY_S, type Label } from './labels.js';
+import { markFalseHold, rocBins, rocCounts } from './roc-bins.js';
 
 export interface BagCounts {
   readonly duration_s: number;
@@ -189,10 +190,7 @@ export function countAgainstLabels(duration_s: number, arms: readonly ArmEvents[
   }
   const inWindow = (t: number) => windows.some(([a, b]) => t >= a && t <= b);
   let holds = 0, falseHolds = 0;
-  const bins = Math.max(0, Math.floor(duration_s));
-  const negative = new Uint8Array(bins).fill(1);
-  for (const [a, b] of windows) for (let k = Math.max(0, Math.floor(a)); k < Math.min(bins, Math.ceil(b)); k++) if (k + 1 > a && k < b) negative[k] = 0;
-  const falseIn = new Uint8Array(bins);
+  const roc = rocBins(duration_s, windows);
   // Holds of both arms in time order. A partner-only hold (partner_stop, partner_hold) that
   // starts at most partnerWindow_s after a hold of the other arm is that hold's consequence:
   // explained with it, or, after a false hold, not counted a second time.
@@ -210,14 +208,9 @@ export function countAgainstLabels(duration_s: number, arms: readonly ArmEvents[
     last.set(h.arm, { t: h.t, explained });
     if (explained) continue;
     falseHolds++;
-    const k = Math.floor(h.t);
-    if (k < bins && negative[k] === 1) falseIn[k] = 1;
+    markFalseHold(roc, h.t);
   }
-  let negativeBins = 0, falseBins = 0;
-  for (let k = 0; k < bins; k++) {
-    negativeBins += negative[k]!;
-    falseBins += falseIn[k]!;
-  }
+  const { negative_bins: negativeBins, false_bins: falseBins } = rocCounts(roc);
   return {
     duration_s,
     labelled: impacts.length,

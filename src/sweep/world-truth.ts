@@ -18,6 +18,7 @@
  */
 import { IMPACT_EXPLAINED_S } from '../sim/belief-timing.js';
 import type { EpisodeSummary } from '../sim/episode.js';
+import { markFalseHold, rocBins, rocCounts } from './roc-bins.js';
 
 export interface WorldTruthCounts {
   readonly knocks: number;
@@ -47,10 +48,7 @@ export function worldTruth(s: Pick<EpisodeSummary, 'duration_s' | 'world' | 'hol
     } else if (events.some((e) => e.start_s <= t0 && (e.end_s === null || e.end_s >= t0) && e.reasons.some((r) => r.check === 'impact' && r.t_s <= t0))) detected++;
   }
   const contactFrom = s.collisions.first_s === null ? Number.POSITIVE_INFINITY : s.collisions.first_s - 0.05;
-  const bins = Math.max(0, Math.floor(s.duration_s));
-  const negative = new Uint8Array(bins).fill(1);
-  for (const [, b, t0] of windows) for (let k = Math.max(0, Math.floor(t0)); k < Math.min(bins, Math.ceil(b)); k++) if (k + 1 > t0 && k < b) negative[k] = 0;
-  const falseIn = new Uint8Array(bins);
+  const roc = rocBins(s.duration_s, windows.map(([, b, t0]) => [t0, b] as const));
   const last = new Map<string, number>();
   let falseHolds = 0;
   for (const e of events) {
@@ -61,13 +59,7 @@ export function worldTruth(s: Pick<EpisodeSummary, 'duration_s' | 'world' | 'hol
     const partnerOnly = e.reasons.length > 0 && e.reasons.every((r) => PARTNER_ONLY.has(r.check));
     if (partnerOnly && other !== undefined && e.start_s - other <= partnerWindow_s) continue;
     falseHolds++;
-    const k = Math.floor(e.start_s);
-    if (k < bins && negative[k] === 1) falseIn[k] = 1;
+    markFalseHold(roc, e.start_s);
   }
-  let negativeBins = 0, falseBins = 0;
-  for (let k = 0; k < bins; k++) {
-    negativeBins += negative[k]!;
-    falseBins += falseIn[k]!;
-  }
-  return { knocks: windows.length, detected, delays_s: delays, holds: events.length, false_holds: falseHolds, negative_bins: negativeBins, false_bins: falseBins };
+  return { knocks: windows.length, detected, delays_s: delays, holds: events.length, false_holds: falseHolds, ...rocCounts(roc) };
 }
