@@ -10,6 +10,7 @@ import { loadCell } from '../params/config.js';
 import type { ArmConfig } from '../params/config.js';
 import type { ArmName, ResolvedValue } from '../params/spec.js';
 import { ArmNodes } from '../ros/arm-nodes.js';
+import { parsePathOf, type PathOf } from '../ros/path-msg.js';
 import { stateLabel, type RclModule } from '../ros/rcl.js';
 import { RecordingRcl, type DryRunGraph } from '../ros/recorder.js';
 import { InputError, type Problem } from '../util/errors.js';
@@ -74,11 +75,11 @@ function applyRemaps(rcl: RecordingRcl, rosArgs: readonly string[]): void {
 }
 
 /** Run the node's construction code against the recording stand-in and return what it created (after configure). */
-export function dryRun(arm: ArmName, paramsFile: string, rosArgs: readonly string[] = [], pathTopic?: string): DryRunGraph {
+export function dryRun(arm: ArmName, paramsFile: string, rosArgs: readonly string[] = [], pathTopic?: string, pathOf: PathOf = 'object'): DryRunGraph {
   const cell = loadCell(paramsFile);
   const rcl = new RecordingRcl();
   applyRemaps(rcl, rosArgs);
-  const nodes = new ArmNodes(rcl, { arm, config: cell[arm].config, values: cell[arm].values, ...(pathTopic !== undefined ? { pathTopic } : {}) });
+  const nodes = new ArmNodes(rcl, { arm, config: cell[arm].config, values: cell[arm].values, pathOf, ...(pathTopic !== undefined ? { pathTopic } : {}) });
   nodes.inference.configure();
   return rcl.graph();
 }
@@ -102,10 +103,10 @@ function graphText(g: DryRunGraph): string {
  * destroy the nodes before a final zero twist could be sent), then rcl is initialised with the
  * ROS arguments. `stop` sends the final zero twist, destroys the nodes and shuts rcl down.
  */
-export async function startNodes(rcl: RclModule, arm: ArmName, loaded: { config: ArmConfig; values: ReadonlyMap<string, ResolvedValue> }, rosArgs: readonly string[], opts: { autostart?: boolean; pathTopic?: string } = {}): Promise<{ nodes: ArmNodes; stop: (why: string) => Promise<void> }> {
+export async function startNodes(rcl: RclModule, arm: ArmName, loaded: { config: ArmConfig; values: ReadonlyMap<string, ResolvedValue> }, rosArgs: readonly string[], opts: { autostart?: boolean; pathTopic?: string; pathOf?: PathOf } = {}): Promise<{ nodes: ArmNodes; stop: (why: string) => Promise<void> }> {
   rcl.removeSignalHandlers();
   await rcl.init(undefined, ['node', 'antiphon', ...rosArgs]);
-  const nodes = new ArmNodes(rcl, { arm, config: loaded.config, values: loaded.values, ...(opts.pathTopic !== undefined ? { pathTopic: opts.pathTopic } : {}) });
+  const nodes = new ArmNodes(rcl, { arm, config: loaded.config, values: loaded.values, pathOf: opts.pathOf ?? 'object', ...(opts.pathTopic !== undefined ? { pathTopic: opts.pathTopic } : {}) });
   const log = logger('node');
   log.info({ arm, nodes: [nodes.roles.name(), nodes.inference.name()], namespace: nodes.roles.namespace() }, 'antiphon nodes up (lifecycle node unconfigured)');
   nodes.roles.spin();
@@ -149,24 +150,27 @@ export function register(program: Command): void {
     .option('--autostart', 'drive the lifecycle node to active by itself (configure, then activate once tared)', false)
     .option('--dry-run', 'print the ROS graph the node would create (nodes, topics with QoS, services, parameters) and exit', false)
     .option('--json', 'with --dry-run: print the graph as JSON', false)
-    .option('--path-topic <name>', 'also take the nominal path from this nav_msgs/msg/Path topic (object poses in the cell frame): taken while inactive, or at the next deactivate')
+    .option('--path-topic <name>', 'also take the nominal path from this nav_msgs/msg/Path topic (poses in the cell frame): taken while inactive, or at the next deactivate')
+    .option('--path-of <what>', 'what the --path-topic poses are: object (its centre), left-tool or right-tool (that arm\'s planned tool path; the grasp offset gives the object path)', 'object')
     .allowUnknownOption(true)
     .allowExcessArguments(true)
-    .action((opts: { arm: string; params?: string; autostart: boolean; dryRun: boolean; json: boolean; pathTopic?: string }, cmd: Command) =>
+    .action((opts: { arm: string; params?: string; autostart: boolean; dryRun: boolean; json: boolean; pathTopic?: string; pathOf?: string }, cmd: Command) =>
       runCommand(opts.json, async () => {
         checkNodeOptions(opts, process.env);
+        const pathOf = parsePathOf(opts.pathOf);
+        if (pathOf !== 'object' && opts.pathTopic === undefined) throw new InputError({ code: 'cli.path_of_without_topic', message: `--path-of ${pathOf} needs --path-topic`, where: { option: '--path-of' }, hint: 'name the nav_msgs/msg/Path topic with --path-topic, or leave out --path-of' });
         const arm = opts.arm as ArmName;
         // The ROS arguments as given (the program's raw argv), never as commander split them.
         const rosArgs = rosArgsOf((cmd.parent as unknown as { rawArgs?: string[] } | null)?.rawArgs ?? process.argv);
         if (opts.dryRun) {
-          const g = dryRun(arm, opts.params!, rosArgs, opts.pathTopic);
+          const g = dryRun(arm, opts.params!, rosArgs, opts.pathTopic, pathOf);
           if (opts.json) printJson(g);
           else printText(graphText(g));
           return 0;
         }
         const cell = loadCell(opts.params);
         const rcl = await loadRclnodejs();
-        const live = await startNodes(rcl, arm, cell[arm], rosArgs, { autostart: opts.autostart, ...(opts.pathTopic !== undefined ? { pathTopic: opts.pathTopic } : {}) });
+        const live = await startNodes(rcl, arm, cell[arm], rosArgs, { autostart: opts.autostart, pathOf, ...(opts.pathTopic !== undefined ? { pathTopic: opts.pathTopic } : {}) });
         // Stopped by a signal: final zero twist, nodes destroyed, exit 128 + n (130 SIGINT, 143 SIGTERM).
         const code = await new Promise<number>((resolve) => {
           const stop = (signal: string, exit: number) => void live.stop(signal).then(() => resolve(exit));

@@ -16,6 +16,7 @@ import { replayReportInput, summarize } from '../replay/summary.js';
 import { renderReport } from '../report/html.js';
 import { parseRemaps } from '../ros/topics.js';
 import { pathFromBag } from '../replay/path-topic.js';
+import { parsePathOf } from '../ros/path-msg.js';
 import { EXIT_CHECKS_FAILED, EXIT_OK, InputError } from '../util/errors.js';
 import { interruptExitCode, interrupted, interruptedFields, watchInterrupts } from '../util/interrupt.js';
 import { checkOutputDir, withOutputDir, writeFileAtomic } from '../util/outdir.js';
@@ -33,6 +34,7 @@ interface Opts {
   storage?: string;
   definitions?: string[];
   pathTopic?: string;
+  pathOf?: string;
   json?: boolean;
 }
 
@@ -59,13 +61,15 @@ export function register(program: Command): void {
     .option('--expect <file>', 'expectations file (YAML); exit 1 when any fails')
     .option('--storage <s>', 'storage of the output bag: mcap or sqlite3 (rosbag2 .db3, as Humble records by default)', 'mcap')
     .option('--definitions <bag|dir>', 'more message definitions (repeatable): another bag, a folder of ROS packages or an install prefix; searched after the bag`s own', (v: string, acc: string[] = []) => [...acc, v])
-    .option('--path-topic <name>', 'take the nominal path from this nav_msgs/msg/Path topic of the bag (its first message, object poses in the cell frame) instead of task.path in the parameters')
+    .option('--path-topic <name>', 'take the nominal path from this nav_msgs/msg/Path topic of the bag (its first message, poses in the cell frame) instead of task.path in the parameters')
+    .option('--path-of <what>', 'what the --path-topic poses are: object (its centre), left-tool or right-tool (that arm\'s planned tool path; the grasp offset gives the object path)', 'object')
     .option('--json', 'print the summary as JSON on stdout')
     .action((bagPath: string, opts: Opts) =>
       runCommand(!!opts.json, async () => {
         if (!['left', 'right', 'both'].includes(opts.arm)) {
           throw new InputError({ code: 'cli.bad_arm', message: `--arm must be left, right or both, got '${opts.arm}'`, where: { option: '--arm' } });
         }
+        if (parsePathOf(opts.pathOf) !== 'object' && opts.pathTopic === undefined) throw new InputError({ code: 'cli.path_of_without_topic', message: `--path-of ${opts.pathOf} needs --path-topic`, where: { option: '--path-of' }, hint: 'name the bag\'s nav_msgs/msg/Path topic with --path-topic, or leave out --path-of' });
         const arms: ArmName[] = opts.arm === 'both' ? ['left', 'right'] : [opts.arm as ArmName];
         const { map: remap, bad } = parseRemaps(opts.remap);
         if (bad.length) throw new InputError({ code: 'cli.bad_remap', message: `malformed --remap ${bad.join(', ')}`, where: { option: '--remap' }, hint: 'write from:=to, e.g. /left/wrench:=/ft_left/wrench' });
@@ -90,7 +94,7 @@ export function register(program: Command): void {
           let configs = { left: cell.left.config, right: cell.right.config };
           if (opts.pathTopic !== undefined) {
             const cellFrame = String(cell.left.values.get('ros.frames.cell')?.value ?? 'cell');
-            const bp = pathFromBag(bag, opts.pathTopic, configs, cellFrame);
+            const bp = pathFromBag(bag, opts.pathTopic, configs, cellFrame, parsePathOf(opts.pathOf));
             configs = { left: bp.configs.left!, right: bp.configs.right! };
             for (const w of bp.warnings) logger('replay').warn({ code: w.code, topic: opts.pathTopic }, w.message);
             logger('replay').info({ topic: opts.pathTopic, poses: bp.path.waypoints_m.length / 3 }, `replay: the nominal path from ${opts.pathTopic} (${bp.path.waypoints_m.length / 3} poses)`);

@@ -3,13 +3,14 @@
  * nav_msgs/msg/Path message on that topic replaces the parameters' path for the whole replay,
  * checked with the same rules as the parameters (src/ros/path-msg.ts). Later messages on the
  * topic that differ from it are not applied (replay cannot tell where the live node was
- * inactive); one warning counts them.
+ * inactive); one warning counts them. With `--path-of left-tool` or `right-tool` the poses are
+ * that arm's planned tool path, turned into the object path through the grasp offset.
  */
 import type { Bag } from '../bag/types.js';
 import { canonicalType } from '../bag/definitions.js';
 import type { ArmConfig } from '../params/config.js';
 import type { ArmName } from '../params/spec.js';
-import { configWithPath, decodePath, PATH_TYPE, topicPathProblems, type TopicPath } from '../ros/path-msg.js';
+import { configWithPath, decodePath, objectPathFromTool, PATH_TYPE, topicPathProblems, type PathOf, type TopicPath } from '../ros/path-msg.js';
 import { InputError, type Problem } from '../util/errors.js';
 
 export interface BagPath {
@@ -20,7 +21,7 @@ export interface BagPath {
 }
 
 /** The first path on `topic` of the bag, applied to each arm's configuration; InputError (exit 2) when absent or invalid. */
-export function pathFromBag(bag: Bag, topic: string, configs: { readonly [A in ArmName]?: ArmConfig }, cellFrame: string): BagPath {
+export function pathFromBag(bag: Bag, topic: string, configs: { readonly [A in ArmName]?: ArmConfig }, cellFrame: string, of: PathOf = 'object'): BagPath {
   const info = bag.topics().find((t) => t.name === topic);
   if (!info) {
     const paths = bag.topics().filter((t) => canonicalType(t.type) === PATH_TYPE).map((t) => t.name);
@@ -37,8 +38,11 @@ export function pathFromBag(bag: Bag, topic: string, configs: { readonly [A in A
   }
   if (!first) throw new InputError({ code: 'replay.path_topic_empty', message: `${topic} has no messages`, where: { file: bag.path, option: '--path-topic', topic }, hint: 'a bag with at least one path message on the topic' });
   const where = { file: bag.path, topic };
-  const d = decodePath(first.data, where);
-  if ('code' in d) throw new InputError({ ...d, message: `${topic} (message at ${first.ns} ns): ${d.message}` });
+  const raw = decodePath(first.data, where);
+  if ('code' in raw) throw new InputError({ ...raw, message: `${topic} (message at ${first.ns} ns): ${raw.message}` });
+  // A tool path gives the object path through the grasp offset (both arms run the same task).
+  const anyConfig = (configs.left ?? configs.right)!;
+  const d = objectPathFromTool(raw, of, anyConfig.task.object.grasp_offset_m);
   const out: { [A in ArmName]?: ArmConfig } = {};
   const problems: Problem[] = [];
   for (const arm of ['left', 'right'] as const) {

@@ -38,7 +38,7 @@ import { MarkerBuilder } from './markers.js';
 import { armQos, fromRmw, incompatibility, RMW, type ArmQos, type QosProfile } from './qos.js';
 import { CALLBACK, PARAMETER_TYPE, stateLabel, type RclLifecycleNode, type RclModule, type RclNode, type RclParameterValue, type RclPublisher, type RclSetParametersResult, type RclTriggerResponse } from './rcl.js';
 import { INPUT_TYPES } from './topics.js';
-import { configWithPath, decodePath, PATH_TYPE, topicPathProblems, type TopicPath } from './path-msg.js';
+import { configWithPath, decodePath, objectPathFromTool, PATH_TYPE, topicPathProblems, type PathOf, type TopicPath } from './path-msg.js';
 import { qos as qosProfile } from './qos.js';
 
 export const NODE_NAMES = { roles: 'antiphon_roles', inference: 'antiphon' } as const;
@@ -111,6 +111,8 @@ export interface ArmNodesOptions {
    * while active waits for the next deactivate (the documented safe point). Default: none.
    */
   readonly pathTopic?: string;
+  /** What the path topic's poses are (object centre, or one arm's planned tool path); default 'object'. */
+  readonly pathOf?: PathOf;
 }
 
 /** The path subscription: reliable, volatile (matches reliable publishers of either durability), the last one kept. */
@@ -138,6 +140,8 @@ export class ArmNodes {
   readonly counters: Counters = { bad_messages: 0, dropped_wrench_samples: 0, wrong_frame: 0, joint_messages_ignored: 0, resets_on_clock_jump: 0, paths_taken: 0, paths_refused: 0 };
   /** The path topic (ArmNodesOptions.pathTopic), or undefined. */
   readonly pathTopic: string | undefined;
+  /** What the path topic's poses are (ArmNodesOptions.pathOf). */
+  readonly pathOf: PathOf;
   /** The path taken from the topic (it replaces the parameters' path until cleanup). */
   private topicPath: TopicPath | undefined;
   /** A valid path that arrived while active: taken at the next deactivate. */
@@ -220,6 +224,7 @@ export class ArmNodes {
     this.values = new Map(opts.values);
     this.steadyS = opts.steadyS ?? (() => performance.now() / 1000);
     this.pathTopic = opts.pathTopic;
+    this.pathOf = opts.pathOf ?? 'object';
     const ns = `/${opts.arm}`;
     this.roles = new rcl.Node(NODE_NAMES.roles, ns);
     this.inference = new rcl.lifecycle.LifecycleNode(NODE_NAMES.inference, ns);
@@ -520,7 +525,8 @@ export class ArmNodes {
   onPath(m: Buffer): void {
     const topic = this.pathTopic!;
     const where = { topic };
-    const d = decodePath(m, where);
+    const raw = decodePath(m, where);
+    const d = 'code' in raw ? raw : objectPathFromTool(raw, this.pathOf, this.config.task.object.grasp_offset_m);
     const problems = 'code' in d ? [d] : topicPathProblems(this.config, d, this.cellFrame, where);
     if (problems.length) {
       this.counters.paths_refused++;

@@ -12,7 +12,7 @@
  */
 import type { ArmConfig, TaskParams } from '../params/config.js';
 import { pathProblems } from '../params/task-geometry.js';
-import type { Place, Problem } from '../util/errors.js';
+import { InputError, type Place, type Problem } from '../util/errors.js';
 
 export const PATH_TYPE = 'nav_msgs/msg/Path';
 
@@ -219,6 +219,45 @@ export function topicPathProblems(config: ArmConfig, p: TopicPath, cellFrame: st
     out.push({ ...q, message: q.message.replace(/task\.path\.waypoints_m/g, 'the poses').replace(/task\.path\.orientations_xyzw/g, 'the orientations'), where });
   }
   return out;
+}
+
+/**
+ * What the poses of a path topic are (`--path-of`): the object's centre (`object`, the default),
+ * or one arm's planned tool path (`left-tool`, `right-tool`: the grasp point of that arm, with
+ * the object's orientation, as a motion planner plans each arm's tool). Both arms' tool paths of
+ * one rigid carry give the same object path; a cell whose two planners disagree gives each arm a
+ * different task, so take both from one plan.
+ */
+export type PathOf = 'object' | 'left-tool' | 'right-tool';
+export const PATH_OF: readonly PathOf[] = ['object', 'left-tool', 'right-tool'];
+
+/**
+ * The object path from one arm's tool path: the grasp points are at +grasp_offset (left) and
+ * -grasp_offset (right) along the object's own y axis (task.object.grasp_offset_m), so the centre
+ * is p - s * offset * R(q) y, with R(q) y the second column of the rotation matrix of the unit
+ * quaternion q (common practice: the quaternion-to-matrix identity). Orientations are kept; a
+ * quaternion of norm 0 or not finite leaves its pose not finite, which the checks then refuse.
+ */
+export function objectPathFromTool(p: TopicPath, of: PathOf, graspOffsetM: number): TopicPath {
+  if (of === 'object') return p;
+  const s = of === 'left-tool' ? graspOffsetM : -graspOffsetM;
+  const W = p.waypoints_m, O = p.orientations_xyzw;
+  const out: number[] = new Array<number>(W.length);
+  for (let k = 0; 3 * k + 2 < W.length; k++) {
+    const n = Math.hypot(O[4 * k]!, O[4 * k + 1]!, O[4 * k + 2]!, O[4 * k + 3]!);
+    const x = O[4 * k]! / n, y = O[4 * k + 1]! / n, z = O[4 * k + 2]! / n, w = O[4 * k + 3]! / n;
+    out[3 * k] = W[3 * k]! - s * 2 * (x * y - z * w);
+    out[3 * k + 1] = W[3 * k + 1]! - s * (1 - 2 * (x * x + z * z));
+    out[3 * k + 2] = W[3 * k + 2]! - s * 2 * (y * z + x * w);
+  }
+  return { ...p, waypoints_m: out };
+}
+
+/** A `--path-of` value, or an InputError naming the option and what is allowed. */
+export function parsePathOf(v: string | undefined, option = '--path-of'): PathOf {
+  if (v === undefined) return 'object';
+  if ((PATH_OF as readonly string[]).includes(v)) return v as PathOf;
+  throw new InputError({ code: 'cli.bad_path_of', message: `${option} must be ${PATH_OF.join(', ')}; got '${v}'`, where: { option }, hint: 'object: the poses are the object centre; left-tool / right-tool: that arm\'s planned tool (grasp point) path' });
 }
 
 /** The arm's configuration with the topic's path (after `topicPathProblems` found none). */
