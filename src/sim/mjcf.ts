@@ -181,7 +181,8 @@ function obstacle3d(z: ZoneConfig, options: SimOptions): string {
 }
 
 /**
- * A tool-point arm for a task with waypoints: the x and y carriages as on the plane, a z
+ * A tool-point arm for a task with waypoints whose orientations turn about the vertical only
+ * (a tilting path: `arm3dTilt`): the x and y carriages as on the plane, a z
  * carriage under a velocity servo with the carried weight as a constant feed-forward (so the
  * tool is an admittance vertically too, and follows the path's heights), and a wrist yaw
  * joint under a velocity servo, so the gripper follows the path's orientation about the
