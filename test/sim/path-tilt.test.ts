@@ -208,6 +208,23 @@ describe('the scene of a tilting path', () => {
     }
   });
 
+  it('holds a beam that starts tilted where it is, each wrist carrying half its weight and its gripper (statics)', () => {
+    const tilted = withOrientation(withOrientation(left, 0, 0.3, 0.2, -0.25), 1, 0.3, 0.2, -0.25);
+    const r = runEpisodeWith(mj, { left: tilted, right: { ...right, task: tilted.task }, strategy: { name: 'centralized', k: null }, seed: 5, world: world(tilted, []), duration_s: 1.0, options: { sensor: quietSensors, settle_s: 10 } });
+    const rec = r.record!;
+    const i = rec.samples - 1;
+    const q0 = new Float64Array(4);
+    quatFromZxy(0.3, 0.2, -0.25, q0);
+    expect(quatAngle(rec.beamPose.subarray(7 * i + 3, 7 * i + 7), q0)).toBeLessThan(0.1 * deg);
+    const start = pathPoses(tilted.task).start;
+    expect(Math.hypot(rec.beamPose[7 * i]! - start[0], rec.beamPose[7 * i + 1]! - start[1], rec.beamPose[7 * i + 2]! - start[2])).toBeLessThan(1e-3);
+    // Two supports symmetric about the centre of mass share the weight equally whatever the tilt;
+    // standard gravity 9.80665 m/s^2 (CGPM 1901).
+    const half = (left.task.object.mass_kg / 2 + simOptions().tool_mass_kg) * 9.80665;
+    expect(rec.left.forceCell[3 * i + 2]!).toBeCloseTo(-half, 1);
+    expect(rec.right.forceCell[3 * i + 2]!).toBeCloseTo(-half, 1);
+  });
+
   it('pitches the beam at the commanded rate when each tool moves with v + w x r and the wrist with E^-1 w (rigid-body kinematics)', () => {
     const w = 0.1; // rad/s about the cell x axis, from t = 1 s
     const g = left.task.object.grasp_offset_m;
