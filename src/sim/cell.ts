@@ -14,7 +14,8 @@ import type { MainModule, MjData, MjModel } from 'mujoco-js';
 import type { TaskParams } from '../params/config.js';
 import { Rng } from '../util/rng.js';
 import { compileMjcf, objectId } from './mujoco.js';
-import { buildMjcf } from './mjcf.js';
+import { buildMjcf, pathPoses } from './mjcf.js';
+import { TILT_JOINT_NAMES } from './wrist.js';
 import { isPlanar } from '../params/task-geometry.js';
 import type { SimOptions } from './options.js';
 import type { ArmSide, SensorDraw, World } from './world.js';
@@ -83,6 +84,10 @@ export class SimCell {
   readonly jointNames: readonly string[];
   /** The task has waypoints: z and the wrist yaw are velocity-servoed too (`setCommand3d`). */
   readonly path: boolean;
+  /** The path's orientations tilt the object: the wrist has pitch and roll hinges after the yaw (`src/sim/wrist.ts`). */
+  readonly tilt: boolean;
+  /** A tilting path: the wrist chain's yaw, pitch, roll at zero joint positions (the path's start), rad. */
+  private readonly wrist0 = new Float64Array(3);
   private readonly arms: Record<ArmSide, ArmIds>;
   private readonly six: Record<ArmSide, SixJointController> | null;
   private readonly cmd = { left: new Float64Array(2), right: new Float64Array(2) };
@@ -106,8 +111,11 @@ export class SimCell {
     const m = model as unknown as { jnt_qposadr: Int32Array; jnt_dofadr: Int32Array; sensor_adr: Int32Array };
     const sixJoint = options.arm_model === 'six_joint';
     this.path = !isPlanar(task);
-    this.jointCount = sixJoint ? SIX_JOINTS : this.path ? PATH_JOINT_NAMES.length : ARM_JOINTS;
-    this.jointNames = sixJoint ? SIX_JOINT_NAMES : this.path ? PATH_JOINT_NAMES : JOINT_NAMES;
+    const poses = this.path ? pathPoses(task) : null;
+    this.tilt = poses !== null && poses.tilts;
+    if (poses && this.tilt) this.wrist0.set(poses.startZxy);
+    this.jointCount = sixJoint ? SIX_JOINTS : this.tilt ? TILT_JOINT_NAMES.length : this.path ? PATH_JOINT_NAMES.length : ARM_JOINTS;
+    this.jointNames = sixJoint ? SIX_JOINT_NAMES : this.tilt ? TILT_JOINT_NAMES : this.path ? PATH_JOINT_NAMES : JOINT_NAMES;
     const ids = (side: ArmSide): ArmIds => {
       const j0 = objectId(mj, model, 'joint', sixJoint ? `${side}_j1` : `${side}_x`);
       return {
@@ -209,6 +217,23 @@ export class SimCell {
     c[a + 1] = vy;
     c[a + 2] = vz;
     c[a + 3] = wz;
+  }
+
+  /** A tilting path: the wrist's pitch and roll joint rates (rad/s), after `setCommand3d` gave the yaw rate. */
+  setWristTiltRates(side: ArmSide, pitchRate: number, rollRate: number): void {
+    const c = this.views.ctrl;
+    const a = this.arms[side].ctrlAdr;
+    c[a + 4] = pitchRate;
+    c[a + 5] = rollRate;
+  }
+
+  /** A tilting path: the wrist chain's yaw, pitch, roll now (the start's plus the joint positions), rad. Writes out[0..2]. */
+  wristAngles(side: ArmSide, out: Float64Array): void {
+    const q = this.views.qpos;
+    const a = this.arms[side].qposAdr + 3;
+    out[0] = this.wrist0[0]! + q[a]!;
+    out[1] = this.wrist0[1]! + q[a + 1]!;
+    out[2] = this.wrist0[2]! + q[a + 2]!;
   }
 
   /** The tool's y axis in the cell frame (site orientation): along the beam, from its centre toward the grasp. */

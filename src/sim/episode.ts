@@ -22,7 +22,8 @@ import { applyStrategy, strategyLabel, type StrategySpec } from './strategies.js
 import { BeliefTiming, beliefTimingSummary, countFalseImpactHolds, type BeliefTimingSummary, type BeliefTimingSums } from './belief-timing.js';
 import { segmentHitsZone } from '../params/config.js';
 import { checkTaskForCell, sampleWorld, type ArmSide, type Knock, type World } from './world.js';
-import { isPlanar, zoneSolid } from '../params/task-geometry.js';
+import { isPlanar, taskPath, zoneSolid } from '../params/task-geometry.js';
+import { axisFromVertical, WRIST_SINGULARITY_MARGIN_RAD, zxyRates } from './wrist.js';
 import { capsuleClearance, type Solid } from '../geometry/solids.js';
 import { pathPoses } from './mjcf.js';
 
@@ -165,16 +166,18 @@ export function checkEpisodeSetup(left: ArmConfig, options: SimOptions): Problem
   if (!isPlanar(left.task)) {
     if (options.arm_model !== 'tool_point') {
       // The six-joint arm holds its tool's height and orientation with springs: it has no servo for a path's heights and turns yet.
-      out.push({ code: 'sim.path_needs_tool_point', message: `--arm-model ${options.arm_model} cannot follow a task with task.path.waypoints_m (heights and turns) yet`, where: { option: '--arm-model' }, hint: 'tool_point (the default) for a task with waypoints' });
+      out.push({ code: 'sim.path_needs_tool_point', message: `--arm-model ${options.arm_model} cannot follow a task with task.path.waypoints_m (heights and turns) yet: the six-joint arm runs planar tasks only (task.start_m to task.goal_m at one height, no turn)`, where: { option: '--arm-model' }, hint: 'tool_point (the default) for a task with waypoints, with any orientations; six_joint for a planar task' });
     }
-    // The tool point's wrist turns about the vertical only.
-    const O = left.task.path?.orientations_xyzw ?? [];
-    for (let k = 0; 4 * k + 3 < O.length; k++) {
-      const tilt = Math.hypot(O[4 * k]!, O[4 * k + 1]!) / Math.hypot(O[4 * k]!, O[4 * k + 1]!, O[4 * k + 2]!, O[4 * k + 3]!);
-      if (tilt > 1e-6) {
-        out.push({ code: 'sim.path_orientation_not_yaw', message: `task.path.orientations_xyzw: waypoint ${k} tilts the object (x, y parts ${O[4 * k]}, ${O[4 * k + 1]}); the simulated tool-point wrists turn about the vertical only`, where: { key: 'task.path.orientations_xyzw' }, hint: 'turns about the vertical only in the simulated cell: x = y = 0 in every quaternion (z = sin(yaw/2), w = cos(yaw/2))' });
-        break;
-      }
+    // The tool point's wrist (yaw, pitch, roll hinges) loses a direction where the object's long axis is vertical.
+    const near = closestToWristSingularity(left.task);
+    if (near.angle < WRIST_SINGULARITY_MARGIN_RAD) {
+      const deg = (r: number) => ((r * 180) / Math.PI).toFixed(1);
+      out.push({
+        code: 'sim.path_orientation_near_singularity',
+        message: `task.path.orientations_xyzw: the object's long axis comes within ${deg(near.angle)} degrees of the vertical at s = ${near.s.toFixed(3)} m (between waypoints ${near.waypoint} and ${near.waypoint + 1}); the simulated wrist's yaw, pitch and roll hinges lose a direction when the long axis is vertical`,
+        where: { key: 'task.path.orientations_xyzw' },
+        hint: `orientations that keep the long axis (the object's y axis) at least ${deg(WRIST_SINGULARITY_MARGIN_RAD)} degrees from the vertical: a pitch within +-${deg(Math.PI / 2 - WRIST_SINGULARITY_MARGIN_RAD)} degrees; any yaw and roll`,
+      });
     }
   }
   const rate = left.wrench_filter.sample_rate_hz;
@@ -183,6 +186,27 @@ export function checkEpisodeSetup(left: ArmConfig, options: SimOptions): Problem
     out.push({ code: 'sim.rate_not_multiple', message: `wrench_filter.sample_rate_hz = ${rate} Hz is not the physics rate ${1 / options.timestep_s} Hz divided by a whole number`, where: { key: 'wrench_filter.sample_rate_hz' }, hint: `${1 / options.timestep_s} Hz, or that divided by 2, 4, 5, ...` });
   }
   return out;
+}
+
+/**
+ * Where the path's interpolated orientation brings the object's long axis closest to the
+ * vertical: the angle (rad), the arc length and the waypoint before it. Set-up only: every
+ * waypoint and 64 points of each interval's slerp.
+ */
+export function closestToWristSingularity(task: TaskParams): { angle: number; s: number; waypoint: number } {
+  const path = taskPath(task);
+  let best = { angle: Math.PI / 2, s: 0, waypoint: 0 };
+  if (!(task.path?.orientations_xyzw?.length)) return best;
+  const ws = path.waypointS;
+  for (let k = 0; k + 1 < path.n; k++) {
+    for (let i = 0; i <= 64; i++) {
+      const s = ws[k]! + ((ws[k + 1]! - ws[k]!) * i) / 64;
+      path.orientationAt(s);
+      const a = axisFromVertical(path.q);
+      if (a < best.angle) best = { angle: a, s, waypoint: k };
+    }
+  }
+  return best;
 }
 
 function taskForWorld(task: TaskParams, world: World): TaskParams {
@@ -284,8 +308,10 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     const jv = new Float64Array(nj);
     const pose = { left: new Float64Array(7), right: new Float64Array(7) };
     const fCell = { left: new Float64Array(3), right: new Float64Array(3) };
-    // Commands: vx, vy (every task), vz and the wrist's yaw rate (a task with waypoints).
-    const cmd = { left: new Float64Array(4), right: new Float64Array(4) };
+    // Commands: vx, vy (every task), vz and the wrist's yaw rate (a task with waypoints), its pitch and roll rates (a tilting path).
+    const cmd = { left: new Float64Array(6), right: new Float64Array(6) };
+    const wrist = new Float64Array(3);
+    const rates = new Float64Array(3);
     const toolY = new Float64Array(3);
     const axis = new Float64Array(3);
     const beam = new Float64Array(7);
@@ -315,6 +341,7 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
     const [gx, gy] = world.goal_m;
     // A task with waypoints: the goal is the path's end in 3-D, the object a capsule, the zones solids.
     const path3d = cell.path;
+    const tilt = cell.tilt;
     const poses = path3d ? pathPoses(nominal) : null;
     const gz = poses ? poses.end[2] : 0;
     let anchorZ = poses ? poses.start[2] : 0;
@@ -451,6 +478,8 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
             c[1] = 0;
             c[2] = 0;
             c[3] = 0;
+            c[4] = 0;
+            c[5] = 0;
           } else if (!path3d) {
             c[0] = out.twist[0]!;
             c[1] = out.twist[1]!;
@@ -465,11 +494,20 @@ export function runEpisodeWith(mj: MainModule, input: EpisodeInput): EpisodeResu
             c[0] = tw[0]! + wy * rz - wz * ry;
             c[1] = tw[1]! + wz * rx - wx * rz;
             c[2] = tw[2]! + wx * ry - wy * rx;
-            c[3] = wz;
+            if (tilt) {
+              // The wrist's joint rates for w at its current angles (the chain's Euler-rate relation).
+              cell.wristAngles(s, wrist);
+              zxyRates(wrist[0]!, wrist[1]!, wx, wy, wz, rates);
+              c[3] = rates[0]!;
+              c[4] = rates[1]!;
+              c[5] = rates[2]!;
+            } else c[3] = wz;
           }
           if (input.commandOverride) input.commandOverride(t, s, c);
-          if (path3d) cell.setCommand3d(s, c[0]!, c[1]!, c[2]!, c[3]!);
-          else cell.setCommand(s, c[0]!, c[1]!);
+          if (path3d) {
+            cell.setCommand3d(s, c[0]!, c[1]!, c[2]!, c[3]!);
+            if (tilt) cell.setWristTiltRates(s, c[4]!, c[5]!);
+          } else cell.setCommand(s, c[0]!, c[1]!);
           // Holds: the operator presses reset when the watchdog would release.
           if (out.held) {
             if (openHold[s] < 0) {

@@ -29,6 +29,7 @@ import { isPlanar, taskPath } from '../params/task-geometry.js';
 import type { SimOptions } from './options.js';
 import type { World } from './world.js';
 import { sixJointActuators, sixJointBodies, sixJointWeld } from './six-joint.js';
+import { quatTilts, zxyFromQuat } from './wrist.js';
 
 /** Height of the ceiling the cable trays hang from, m. */
 export const CEILING_M = 2.2;
@@ -120,6 +121,13 @@ export interface PathPoses {
   readonly endYaw: number;
   readonly zMin: number;
   readonly zMax: number;
+  /** Some orientation of the path tilts the object: the wrists have pitch and roll hinges too (`src/sim/wrist.ts`). */
+  readonly tilts: boolean;
+  /** Orientation at the start (x, y, z, w, unit). */
+  readonly startQ: readonly [number, number, number, number];
+  /** Yaw, pitch, roll of the wrist chain (Rz Rx Ry) at the start and at the end, rad (a tilting path; the yaws equal startYaw, endYaw). */
+  readonly startZxy: readonly [number, number, number];
+  readonly endZxy: readonly [number, number, number];
 }
 
 /** Yaw about z of a quaternion (x, y, z, w) that turns about the vertical only. */
@@ -136,13 +144,23 @@ export function pathPoses(task: TaskParams): PathPoses {
     zMin = Math.min(zMin, W[k]!);
     zMax = Math.max(zMax, W[k]!);
   }
+  const O = task.path!.orientations_xyzw ?? [];
+  let tilts = false;
+  for (let k = 0; 4 * k + 3 < O.length; k++) if (quatTilts(O, 4 * k)) tilts = true;
+  const e = new Float64Array(3);
   path.locate(0);
   path.orientationAt(0);
   const start = [path.pos[0]!, path.pos[1]!, path.pos[2]!] as const;
-  const startYaw = yawOf(path.q);
+  const startQ = [path.q[0]!, path.q[1]!, path.q[2]!, path.q[3]!] as const;
+  zxyFromQuat(path.q, e);
+  const startZxy = [e[0]!, e[1]!, e[2]!] as const;
+  // A path that turns about the vertical only keeps its yaw as it always was (byte-identical scenes).
+  const startYaw = tilts ? e[0]! : yawOf(path.q);
   path.locate(path.length);
   path.orientationAt(path.length);
-  return { start, end: [path.pos[0]!, path.pos[1]!, path.pos[2]!], startYaw, endYaw: yawOf(path.q), zMin, zMax };
+  zxyFromQuat(path.q, e);
+  const endYaw = tilts ? e[0]! : yawOf(path.q);
+  return { start, end: [path.pos[0]!, path.pos[1]!, path.pos[2]!], startYaw, endYaw, zMin, zMax, tilts, startQ, startZxy, endZxy: [e[0]!, e[1]!, e[2]!] };
 }
 
 /** MJCF quaternion (w x y z) of a yaw about z. */
@@ -163,7 +181,8 @@ function obstacle3d(z: ZoneConfig, options: SimOptions): string {
 }
 
 /**
- * A tool-point arm for a task with waypoints: the x and y carriages as on the plane, a z
+ * A tool-point arm for a task with waypoints whose orientations turn about the vertical only
+ * (a tilting path: `arm3dTilt`): the x and y carriages as on the plane, a z
  * carriage under a velocity servo with the carried weight as a constant feed-forward (so the
  * tool is an admittance vertically too, and follows the path's heights), and a wrist yaw
  * joint under a velocity servo, so the gripper follows the path's orientation about the
@@ -207,6 +226,74 @@ function arm3d(side: 'left' | 'right', task: TaskParams, world: World, o: SimOpt
     </body>`;
 }
 
+/** Mass of each of the wrist's three links on a tilting path (visual geoms; the z servo carries them), kg. */
+export const WRIST_LINK_MASS_KG = 0.05;
+
+/** MJCF quaternion (w x y z) of a quaternion (x, y, z, w). */
+const mjQuat = (q: readonly [number, number, number, number]): string => `${f(q[3])} ${f(q[0])} ${f(q[1])} ${f(q[2])}`;
+
+/**
+ * A tool-point arm for a path whose orientations tilt the object: the carriages of `arm3d`, then
+ * the wrist as three hinges in series (yaw about the vertical, pitch about the yawed x, roll
+ * about the object's long axis; `src/sim/wrist.ts`), each under a velocity servo, all three
+ * axes through the grasp point. The links' frames start at the path's start orientation (the
+ * joints at zero there), so the chain's angles are the start's plus the joint positions. The
+ * tool body after the roll link is fixed (turned half a turn about z on the right arm, which
+ * faces the left one), so both chains share the object's angles.
+ */
+function arm3dTilt(side: 'left' | 'right', task: TaskParams, world: World, o: SimOptions, poses: PathPoses): string {
+  const g = task.object.grasp_offset_m;
+  const [sx, sy] = world.start_m;
+  const sz = poses.start[2];
+  const [yaw, pitch, roll] = poses.startZxy;
+  // The grasp point: the centre plus or minus the grasp offset along the long axis, R ey.
+  const sgn = side === 'left' ? 1 : -1;
+  const x = sx - sgn * g * Math.sin(yaw) * Math.cos(pitch);
+  const y = sy + sgn * g * Math.cos(yaw) * Math.cos(pitch);
+  const z = sz + sgn * g * Math.sin(pitch);
+  const m = o.carriage_mass_kg;
+  const M = PATH_TRAVEL_MARGIN_M;
+  const [x0, x1] = [o.cell_x_m[0] - M, o.cell_x_m[1] + M];
+  const [y0, y1] = [o.cell_y_m[0] - M, o.cell_y_m[1] + M];
+  const vis = 'contype="0" conaffinity="0"';
+  const jd = f(o.joint_damping_n_s_m);
+  // A grasp point rises and falls by up to the grasp offset as the object pitches.
+  const zlo = poses.zMin - Z_TRAVEL_BELOW_M - g - z;
+  const zhi = poses.zMax + Z_TRAVEL_ABOVE_M + g - z;
+  const hinge = (name: string, axis: string) =>
+    `<joint name="${side}_${name}" type="hinge" axis="${axis}" limited="false" damping="${f(WRIST_YAW_FRICTION_NMS_RAD)}" armature="${f(WRIST_YAW_ARMATURE_KG_M2)}"/>`;
+  const link = `<geom type="sphere" size="0.02" mass="${f(WRIST_LINK_MASS_KG)}" ${vis} rgba="0.45 0.45 0.5 1"/>`;
+  return `
+    <body name="${side}_cx" pos="${v3(x, y, z)}">
+      <joint name="${side}_x" type="slide" axis="1 0 0" limited="true" range="${f(x0 - x)} ${f(x1 - x)}" damping="${jd}"/>
+      <geom type="box" size="0.03 0.03 0.03" mass="${f(m)}" ${vis} rgba="0.3 0.3 0.35 1"/>
+      <body name="${side}_cy">
+        <joint name="${side}_y" type="slide" axis="0 1 0" limited="true" range="${f(y0 - y)} ${f(y1 - y)}" damping="${jd}"/>
+        <geom type="box" size="0.025 0.025 0.025" mass="${f(m)}" ${vis} rgba="0.35 0.35 0.4 1"/>
+        <body name="${side}_cz">
+          <joint name="${side}_z" type="slide" axis="0 0 1" limited="true" range="${f(zlo)} ${f(zhi)}" damping="${jd}"/>
+          <geom type="cylinder" size="0.025 0.02" pos="0 0 0.04" mass="${f(m)}" ${vis} rgba="0.4 0.4 0.45 1"/>
+          <body name="${side}_wyaw" quat="${yawQuat(yaw)}">
+            ${hinge('yaw', '0 0 1')}
+            ${link}
+            <body name="${side}_wpitch" quat="${f(Math.cos(pitch / 2))} ${f(Math.sin(pitch / 2))} 0 0">
+              ${hinge('pitch', '1 0 0')}
+              ${link}
+              <body name="${side}_wroll" quat="${f(Math.cos(roll / 2))} 0 ${f(Math.sin(roll / 2))} 0">
+                ${hinge('roll', '0 1 0')}
+                ${link}
+                <body name="${side}_tool" quat="${side === 'left' ? '1 0 0 0' : '0 0 0 1'}">
+                  <site name="${side}_ft" size="0.01"/>
+                  <geom type="box" size="0.03 0.015 0.03" mass="${f(o.tool_mass_kg)}" ${vis} rgba="0.2 0.5 0.8 1"/>
+                </body>
+              </body>
+            </body>
+          </body>
+        </body>
+      </body>
+    </body>`;
+}
+
 /** The carriages' velocity servos (the admittance gain, speed and force limits), as MJCF text; shared by the planar and the 3-D scene. */
 function carriageServos(o: SimOptions): { kv: string; vmax: string; fmax: string; servo: (side: string, axis: string) => string } {
   const kv = f(o.admittance_damping_n_s_m);
@@ -233,14 +320,18 @@ function buildMjcf3d(task: TaskParams, world: World, o: SimOptions): { xml: stri
   });
   const vis = 'contype="0" conaffinity="0"';
   const { kv, vmax, fmax, servo } = carriageServos(o);
-  const carried = (o.carriage_mass_kg + o.tool_mass_kg + task.object.mass_kg / 2) * STANDARD_GRAVITY;
+  const tilt = poses.tilts;
+  const carried = (o.carriage_mass_kg + o.tool_mass_kg + (tilt ? 3 * WRIST_LINK_MASS_KG : 0) + task.object.mass_kg / 2) * STANDARD_GRAVITY;
   // z: D (u - qdot) + the carried weight (MuJoCo's general actuator, affine bias).
   const zservo = (side: string) =>
     `    <general name="${side}_vz" joint="${side}_z" gainprm="${kv}" biastype="affine" biasprm="${f(carried)} 0 -${kv}" ctrllimited="true" ctrlrange="-${vmax} ${vmax}" forcelimited="true" forcerange="-${fmax} ${fmax}"/>`;
   const wmax = f(o.wrist_yaw_speed_limit_rad_s);
   const tmax = f(o.wrist_yaw_torque_limit_nm);
-  const yservo = (side: string) =>
-    `    <velocity name="${side}_vyaw" joint="${side}_yaw" kv="${f(o.wrist_yaw_damping_nms_rad)}" ctrllimited="true" ctrlrange="-${wmax} ${wmax}" forcelimited="true" forcerange="-${tmax} ${tmax}"/>`;
+  const wservo = (side: string, joint: string) =>
+    `    <velocity name="${side}_v${joint}" joint="${side}_${joint}" kv="${f(o.wrist_yaw_damping_nms_rad)}" ctrllimited="true" ctrlrange="-${wmax} ${wmax}" forcelimited="true" forcerange="-${tmax} ${tmax}"/>`;
+  // A tilting path: the pitch and roll hinges get the yaw's servo.
+  const yservo = (side: string) => (tilt ? `${wservo(side, 'yaw')}\n${wservo(side, 'pitch')}\n${wservo(side, 'roll')}` : wservo(side, 'yaw'));
+  const arm = tilt ? arm3dTilt : arm3d;
   const weld = (side: 'left' | 'right') =>
     `    <weld name="${side}_grasp" body1="${side}_tool" body2="beam" anchor="0 ${f(side === 'left' ? task.object.grasp_offset_m : -task.object.grasp_offset_m)} 0" solref="${f(o.grasp_timeconst_s)} 1"/>`;
   const standTop = (z: number) => Math.max(0.05, z - r - 0.01);
@@ -256,10 +347,10 @@ function buildMjcf3d(task: TaskParams, world: World, o: SimOptions): { xml: stri
     <geom name="pick_stand" type="box" pos="${v3(poses.start[0], poses.start[1], st / 2)}" quat="${yawQuat(poses.startYaw)}" size="${v3(0.1, L / 2 - 0.05, st / 2)}" ${vis} rgba="0.5 0.5 0.3 1"/>
     <geom name="fixture" type="box" pos="${v3(gx, gy, ft / 2)}" quat="${yawQuat(poses.endYaw)}" size="${v3(0.1, L / 2 - 0.05, ft / 2)}" ${vis} rgba="0.3 0.5 0.3 1"/>
 ${obstacles.join('\n')}
-    <body name="beam" pos="${v3(sx, sy, sz)}" quat="${yawQuat(poses.startYaw)}">
+    <body name="beam" pos="${v3(sx, sy, sz)}" quat="${tilt ? mjQuat(poses.startQ) : yawQuat(poses.startYaw)}">
       <freejoint name="beam_free"/>
       <geom name="beam" type="capsule" fromto="0 ${f(-L / 2)} 0 0 ${f(L / 2)} 0" size="${f(r)}" mass="${f(task.object.mass_kg)}" contype="1" conaffinity="1" condim="3" rgba="0.75 0.75 0.8 1"/>
-    </body>${arm3d('left', task, world, o, poses)}${arm3d('right', task, world, o, poses)}
+    </body>${arm('left', task, world, o, poses)}${arm('right', task, world, o, poses)}
   </worldbody>
   <equality>
 ${weld('left')}
