@@ -181,6 +181,34 @@ function obstacle3d(z: ZoneConfig, options: SimOptions): string {
 }
 
 /**
+ * The x, y and z carriages of a 3-D tool-point arm at (x, y, z), each a slide joint within the
+ * cell's travel (z from zlo to zhi about the start), with `wrist` (MJCF text) inside the z
+ * carriage; shared by `arm3d` and `arm3dTilt`.
+ */
+function carriages3d(side: 'left' | 'right', o: SimOptions, x: number, y: number, z: number, zlo: number, zhi: number, wrist: string): string {
+  const m = o.carriage_mass_kg;
+  const M = PATH_TRAVEL_MARGIN_M;
+  const [x0, x1] = [o.cell_x_m[0] - M, o.cell_x_m[1] + M];
+  const [y0, y1] = [o.cell_y_m[0] - M, o.cell_y_m[1] + M];
+  const vis = 'contype="0" conaffinity="0"';
+  const jd = f(o.joint_damping_n_s_m);
+  return `
+    <body name="${side}_cx" pos="${v3(x, y, z)}">
+      <joint name="${side}_x" type="slide" axis="1 0 0" limited="true" range="${f(x0 - x)} ${f(x1 - x)}" damping="${jd}"/>
+      <geom type="box" size="0.03 0.03 0.03" mass="${f(m)}" ${vis} rgba="0.3 0.3 0.35 1"/>
+      <body name="${side}_cy">
+        <joint name="${side}_y" type="slide" axis="0 1 0" limited="true" range="${f(y0 - y)} ${f(y1 - y)}" damping="${jd}"/>
+        <geom type="box" size="0.025 0.025 0.025" mass="${f(m)}" ${vis} rgba="0.35 0.35 0.4 1"/>
+        <body name="${side}_cz">
+          <joint name="${side}_z" type="slide" axis="0 0 1" limited="true" range="${f(zlo)} ${f(zhi)}" damping="${jd}"/>
+          <geom type="cylinder" size="0.025 0.02" pos="0 0 0.04" mass="${f(m)}" ${vis} rgba="0.4 0.4 0.45 1"/>
+${wrist}
+        </body>
+      </body>
+    </body>`;
+}
+
+/**
  * A tool-point arm for a task with waypoints whose orientations turn about the vertical only
  * (a tilting path: `arm3dTilt`): the x and y carriages as on the plane, a z
  * carriage under a velocity servo with the carried weight as a constant feed-forward (so the
@@ -198,32 +226,14 @@ function arm3d(side: 'left' | 'right', task: TaskParams, world: World, o: SimOpt
   const x = sx - sgn * g * Math.sin(yaw);
   const y = sy + sgn * g * Math.cos(yaw);
   const quat = yawQuat(side === 'left' ? yaw : yaw + Math.PI);
-  const m = o.carriage_mass_kg;
-  const M = PATH_TRAVEL_MARGIN_M;
-  const [x0, x1] = [o.cell_x_m[0] - M, o.cell_x_m[1] + M];
-  const [y0, y1] = [o.cell_y_m[0] - M, o.cell_y_m[1] + M];
   const vis = 'contype="0" conaffinity="0"';
-  const jd = f(o.joint_damping_n_s_m);
   const zlo = poses.zMin - Z_TRAVEL_BELOW_M - sz;
   const zhi = poses.zMax + Z_TRAVEL_ABOVE_M - sz;
-  return `
-    <body name="${side}_cx" pos="${v3(x, y, sz)}">
-      <joint name="${side}_x" type="slide" axis="1 0 0" limited="true" range="${f(x0 - x)} ${f(x1 - x)}" damping="${jd}"/>
-      <geom type="box" size="0.03 0.03 0.03" mass="${f(m)}" ${vis} rgba="0.3 0.3 0.35 1"/>
-      <body name="${side}_cy">
-        <joint name="${side}_y" type="slide" axis="0 1 0" limited="true" range="${f(y0 - y)} ${f(y1 - y)}" damping="${jd}"/>
-        <geom type="box" size="0.025 0.025 0.025" mass="${f(m)}" ${vis} rgba="0.35 0.35 0.4 1"/>
-        <body name="${side}_cz">
-          <joint name="${side}_z" type="slide" axis="0 0 1" limited="true" range="${f(zlo)} ${f(zhi)}" damping="${jd}"/>
-          <geom type="cylinder" size="0.025 0.02" pos="0 0 0.04" mass="${f(m)}" ${vis} rgba="0.4 0.4 0.45 1"/>
-          <body name="${side}_tool" quat="${quat}">
+  return carriages3d(side, o, x, y, sz, zlo, zhi, `          <body name="${side}_tool" quat="${quat}">
             <joint name="${side}_yaw" type="hinge" axis="0 0 1" limited="false" damping="${f(WRIST_YAW_FRICTION_NMS_RAD)}" armature="${f(WRIST_YAW_ARMATURE_KG_M2)}"/>
             <site name="${side}_ft" size="0.01"/>
             <geom type="box" size="0.03 0.015 0.03" mass="${f(o.tool_mass_kg)}" ${vis} rgba="0.2 0.5 0.8 1"/>
-          </body>
-        </body>
-      </body>
-    </body>`;
+          </body>`);
 }
 
 /** Mass of each of the wrist's three links on a tilting path (visual geoms; the z servo carries them), kg. */
@@ -251,29 +261,14 @@ function arm3dTilt(side: 'left' | 'right', task: TaskParams, world: World, o: Si
   const x = sx - sgn * g * Math.sin(yaw) * Math.cos(pitch);
   const y = sy + sgn * g * Math.cos(yaw) * Math.cos(pitch);
   const z = sz + sgn * g * Math.sin(pitch);
-  const m = o.carriage_mass_kg;
-  const M = PATH_TRAVEL_MARGIN_M;
-  const [x0, x1] = [o.cell_x_m[0] - M, o.cell_x_m[1] + M];
-  const [y0, y1] = [o.cell_y_m[0] - M, o.cell_y_m[1] + M];
   const vis = 'contype="0" conaffinity="0"';
-  const jd = f(o.joint_damping_n_s_m);
   // A grasp point rises and falls by up to the grasp offset as the object pitches.
   const zlo = poses.zMin - Z_TRAVEL_BELOW_M - g - z;
   const zhi = poses.zMax + Z_TRAVEL_ABOVE_M + g - z;
   const hinge = (name: string, axis: string) =>
     `<joint name="${side}_${name}" type="hinge" axis="${axis}" limited="false" damping="${f(WRIST_YAW_FRICTION_NMS_RAD)}" armature="${f(WRIST_YAW_ARMATURE_KG_M2)}"/>`;
   const link = `<geom type="sphere" size="0.02" mass="${f(WRIST_LINK_MASS_KG)}" ${vis} rgba="0.45 0.45 0.5 1"/>`;
-  return `
-    <body name="${side}_cx" pos="${v3(x, y, z)}">
-      <joint name="${side}_x" type="slide" axis="1 0 0" limited="true" range="${f(x0 - x)} ${f(x1 - x)}" damping="${jd}"/>
-      <geom type="box" size="0.03 0.03 0.03" mass="${f(m)}" ${vis} rgba="0.3 0.3 0.35 1"/>
-      <body name="${side}_cy">
-        <joint name="${side}_y" type="slide" axis="0 1 0" limited="true" range="${f(y0 - y)} ${f(y1 - y)}" damping="${jd}"/>
-        <geom type="box" size="0.025 0.025 0.025" mass="${f(m)}" ${vis} rgba="0.35 0.35 0.4 1"/>
-        <body name="${side}_cz">
-          <joint name="${side}_z" type="slide" axis="0 0 1" limited="true" range="${f(zlo)} ${f(zhi)}" damping="${jd}"/>
-          <geom type="cylinder" size="0.025 0.02" pos="0 0 0.04" mass="${f(m)}" ${vis} rgba="0.4 0.4 0.45 1"/>
-          <body name="${side}_wyaw" quat="${yawQuat(yaw)}">
+  return carriages3d(side, o, x, y, z, zlo, zhi, `          <body name="${side}_wyaw" quat="${yawQuat(yaw)}">
             ${hinge('yaw', '0 0 1')}
             ${link}
             <body name="${side}_wpitch" quat="${f(Math.cos(pitch / 2))} ${f(Math.sin(pitch / 2))} 0 0">
@@ -288,10 +283,7 @@ function arm3dTilt(side: 'left' | 'right', task: TaskParams, world: World, o: Si
                 </body>
               </body>
             </body>
-          </body>
-        </body>
-      </body>
-    </body>`;
+          </body>`);
 }
 
 /** The carriages' velocity servos (the admittance gain, speed and force limits), as MJCF text; shared by the planar and the 3-D scene. */
