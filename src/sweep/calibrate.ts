@@ -36,11 +36,12 @@
  *   jackknife errors, the estimate is 0 with an interval up to the residual's whole standard
  *   deviation at its upper limit (a disturbance cannot carry more than the whole residual), and
  *   no time is estimated (calibrate --out then leaves disturbance_time_s as it was: at 0 N it
- *   has no effect). The residual uses the fitted c; its own uncertainty is left out of the
- *   disturbance's interval (f − c Δv changes by δc Δv, small beside a disturbance worth
- *   declaring). A disturbance that the arms answer also pulls the fitted c (the commands then
- *   correlate with it): on the kinematic demo cell at 1.5 N, c scatters by ±30 % around its
- *   truth with a correspondingly wide interval.
+ *   has no effect). The residual takes each arm's c from the parameters file, not the fitted
+ *   c: the file's c is the one the belief scored the recording with, and a disturbance the arms
+ *   answer pulls the fit (the commands then correlate with it; errors in variables): on our
+ *   simulated demo bags at 1.5 N the fit scatters by ±30 % around its truth (kinematic cell)
+ *   and falls to 3.3 N*s/m against 40 (MuJoCo cell). So calibrate c on a recording without a
+ *   disturbance, adopt it, and estimate the disturbance on a recording made with it.
  */
 import { butterworthSos, noiseCorrelationSamples, SosCascade } from '../core/filter/butterworth.js';
 import type { ArmConfig } from '../params/config.js';
@@ -252,7 +253,7 @@ export function calibrateBag(bag: DecodedBag, left: ArmConfig, right: ArmConfig)
         unit: 'N*s/m',
         from: `partner corrections: least squares through the origin of the cell-frame correction force on the low-passed command difference, both arms' x and y, ${whole.points} points (skipping untared, held and impact samples), RMS command difference ${whole.dv_rms_m_s.toPrecision(3)} m/s, residual SD ${whole.residual_sd_n.toPrecision(3)} N; interval: jackknife over ${B} blocks`,
       };
-      disturbanceEstimates(rec, whole.c_n_s_m, left, out);
+      disturbanceEstimates(rec, left, right, whole.c_n_s_m, out);
     }
   }
   if (Object.keys(out).length === 0) throw new InputError({ code: 'calibrate.nothing', message: 'the bag has no still period and no partner corrections to calibrate from', where: { file: bag.path }, hint: 'record a still start (both arms holding the object) and a transfer' });
@@ -438,14 +439,16 @@ export function disturbanceLags(sos: Float64Array, rateHz: number): number[] {
 }
 
 /** The correction band's slow disturbance from the coupling fit's residual (both arms' x and y; the usable samples of fitCoupling). */
-function disturbanceEstimates(rec: EpisodeRecord, c: number, config: ArmConfig, out: Record<string, Estimate>): void {
+function disturbanceEstimates(rec: EpisodeRecord, left: ArmConfig, right: ArmConfig, fitted: number, out: Record<string, Estimate>): void {
+  const config = left;
   const n = rec.samples;
   const A = rec.left, Bm = rec.right;
   const usable = new Uint8Array(n);
   const ok = (a: EpisodeRecord['left'], i: number) => a.tared[i] === 1 && a.held[i] === 0 && a.impactFlag[i] === 0;
   for (let i = 0; i < n; i++) usable[i] = ok(A, i) && ok(Bm, i) ? 1 : 0;
   const series: Float64Array[] = [];
-  for (const [own, other] of [[A, Bm], [Bm, A]] as const) {
+  // Each arm's residual with the c its own belief scores with (the parameters file's).
+  for (const [own, other, c] of [[A, Bm, left.coupling.damping_n_s_m], [Bm, A, right.coupling.damping_n_s_m]] as const) {
     for (let a = 0; a < 2; a++) {
       const r = new Float64Array(n);
       let sum = 0, m = 0;
@@ -467,7 +470,8 @@ function disturbanceEstimates(rec: EpisodeRecord, c: number, config: ArmConfig, 
   const d = estimateDisturbance(series, usable, fs, lags, CALIBRATION_BLOCKS, T_975_19, true);
   if (d.points === 0) return;
   const lagText = `${d.lags_s[0]!.toFixed(3)}-${d.lags_s[d.lags_s.length - 1]!.toFixed(3)} s`;
-  const basis = `coupling residual f - c dv (c = ${c.toPrecision(4)} N*s/m), both arms' x and y, ${d.points} points: autocovariance at ${d.lags_s.length} lags ${lagText} (past the band's noise memory) fitted by s e^(-lag/time)`;
+  const cs = left.coupling.damping_n_s_m === right.coupling.damping_n_s_m ? `${left.coupling.damping_n_s_m}` : `${left.coupling.damping_n_s_m} left, ${right.coupling.damping_n_s_m} right`;
+  const basis = `coupling residual f - c dv with the parameters' c = ${cs} N*s/m (fitted: ${fitted.toPrecision(4)}), both arms' x and y, ${d.points} points: autocovariance at ${d.lags_s.length} lags ${lagText} (past the band's noise memory) fitted by s e^(-lag/time)`;
   if (d.significant) {
     out['belief.disturbance_force_n'] = { value: d.sd_n, ci95: d.sd_ci95, unit: 'N', from: `${basis}; sd = sqrt(s); interval: jackknife over ${CALIBRATION_BLOCKS} blocks` };
     out['belief.disturbance_time_s'] = { value: d.time_s, ci95: d.time_ci95, unit: 's', from: `${basis}; interval: jackknife over ${CALIBRATION_BLOCKS} blocks on log time` };
