@@ -40,8 +40,7 @@
  *   c: the file's c is the one the belief scored the recording with, and a disturbance the arms
  *   answer pulls the fit (the commands then correlate with it; errors in variables): on our
  *   simulated demo bags at 1.5 N the fit scatters by ±30 % around its truth (kinematic cell)
- *   and falls to 3.3 N*s/m against 40 (MuJoCo cell). So calibrate c on a recording without a
- *   disturbance, adopt it, and estimate the disturbance on a recording made with it.
+ *   and on one of four MuJoCo bags fell to 3.3 N*s/m against 40.
  */
 import { butterworthSos, noiseCorrelationSamples, SosCascade } from '../core/filter/butterworth.js';
 import type { ArmConfig } from '../params/config.js';
