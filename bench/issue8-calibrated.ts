@@ -2,7 +2,7 @@
  * Issue 8, the loop closed: the correction-band disturbance that `calibrate` estimates from a
  * recording, declared, and what it does (seeded sets; every seed is named in the JSON).
  *
- *   1. Recordings of the demo cell, four seeds each: the kinematic cell (src/sim/demo-bag.ts,
+ *   1. Recordings of the demo cell, four seeds (MuJoCo five) each: the kinematic cell (src/sim/demo-bag.ts,
  *      BAG_DURATION_S) and the MuJoCo cell (`antiphon simulate --out`, to the goal: about 13 s),
  *      each at a disturbance of 1.5 N and without one; calibrate (src/sweep/calibrate.ts) on each.
  *   2. Commitment agreement at the role switches at 1.5 N with what calibrate estimated from
@@ -38,8 +38,8 @@ import { SEEDS as ISSUE8_SEEDS } from './issue8-measure.js';
 export const SEEDS = {
   /** Kinematic recordings: runKinematicCell seeds, first zone occupied. */
   kinematic_bags: [101, 102, 103, 104],
-  /** MuJoCo recordings: `simulate --seed` (an episode ends at the goal: about 13 s). */
-  mujoco_bags: [3, 4, 5, 6],
+  /** MuJoCo recordings: `simulate --seed` (an episode ends at the goal: about 13 s); 7 is the README's example recording. */
+  mujoco_bags: [3, 4, 5, 6, 7],
   ...ISSUE8_SEEDS,
 } as const;
 const BAG_DURATION_S = 40;

@@ -470,7 +470,7 @@ function disturbanceEstimates(rec: EpisodeRecord, left: ArmConfig, right: ArmCon
   if (d.points === 0) return;
   const lagText = `${d.lags_s[0]!.toFixed(3)}-${d.lags_s[d.lags_s.length - 1]!.toFixed(3)} s`;
   const cs = left.coupling.damping_n_s_m === right.coupling.damping_n_s_m ? `${left.coupling.damping_n_s_m}` : `${left.coupling.damping_n_s_m} left, ${right.coupling.damping_n_s_m} right`;
-  const basis = `coupling residual f - c dv with the parameters' c = ${cs} N*s/m (fitted: ${fitted.toPrecision(4)}), both arms' x and y, ${d.points} points: autocovariance at ${d.lags_s.length} lags ${lagText} (past the band's noise memory) fitted by s e^(-lag/time)`;
+  const basis = `autocovariance of the coupling residual at ${d.lags_s.length} lags ${lagText}: f - c dv with the parameters' c = ${cs} N*s/m (fitted ${fitted.toPrecision(4)}), both arms' x and y, ${d.points} points, each series about its mean; lags past the band's noise memory, fitted by s (e^(-lag/time) - bias of the mean)`;
   if (d.significant) {
     out['belief.disturbance_force_n'] = { value: d.sd_n, ci95: d.sd_ci95, unit: 'N', from: `${basis}; sd = sqrt(s); interval: jackknife over ${CALIBRATION_BLOCKS} blocks` };
     out['belief.disturbance_time_s'] = { value: d.time_s, ci95: d.time_ci95, unit: 's', from: `${basis}; interval: jackknife over ${CALIBRATION_BLOCKS} blocks on log time` };
