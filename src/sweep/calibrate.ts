@@ -46,6 +46,7 @@ import { butterworthSos, noiseCorrelationSamples, SosCascade } from '../core/fil
 import type { ArmConfig } from '../params/config.js';
 import { fitCoupling } from '../sim/calibrate.js';
 import type { EpisodeRecord } from '../sim/record.js';
+import { SPEC_BY_KEY } from '../params/schema.js';
 import { InputError } from '../util/errors.js';
 import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedBag } from './decoded.js';
 import { ArmStep } from '../core/arm-step.js';
@@ -274,8 +275,10 @@ function sliceRecord(rec: EpisodeRecord, a: number, b: number): EpisodeRecord {
 /** The disturbance fit's lags: from the band's noise correlation length, DISTURBANCE_LAG_COUNT lags DISTURBANCE_LAG_STEP_S apart. */
 export const DISTURBANCE_LAG_COUNT = 11;
 export const DISTURBANCE_LAG_STEP_S = 0.05;
-const TIME_MIN_S = 0.001;
-const TIME_MAX_S = 60;
+/** The schema's limits of belief.disturbance_time_s and belief.disturbance_force_n: the fit and the intervals stay inside them. */
+const TIME_MIN_S = SPEC_BY_KEY.get('belief.disturbance_time_s')!.min!;
+const TIME_MAX_S = SPEC_BY_KEY.get('belief.disturbance_time_s')!.max!;
+const FORCE_MAX_N = SPEC_BY_KEY.get('belief.disturbance_force_n')!.max!;
 
 export interface DisturbanceFit {
   /** Standard deviation of the slow disturbance per axis, N (0 when not significant). */
@@ -408,7 +411,7 @@ export function estimateDisturbance(series: readonly Float64Array[], usable: Uin
   const fit = fitExponentialAutocov(lagsS, autocov, meanOf);
   const significant = gm - t975 * seMean > 0 && fit.variance > 0;
   if (!significant) {
-    return { sd_n: 0, sd_ci95: [0, Math.sqrt(Math.max(0, var0 + t975 * seVar0))], time_s: Number.NaN, time_ci95: [Number.NaN, Number.NaN], significant: false, variance_n2: var0, lags_s: lagsS, autocov_n2: autocov, points };
+    return { sd_n: 0, sd_ci95: [0, Math.min(FORCE_MAX_N, Math.sqrt(Math.max(0, var0 + t975 * seVar0)))], time_s: Number.NaN, time_ci95: [Number.NaN, Number.NaN], significant: false, variance_n2: var0, lags_s: lagsS, autocov_n2: autocov, points };
   }
   const sd = Math.sqrt(fit.variance);
   const repFits = reps.map((g) => fitExponentialAutocov(lagsS, g.subarray(1), meanOf));
@@ -417,9 +420,10 @@ export function estimateDisturbance(series: readonly Float64Array[], usable: Uin
   const logT = Math.log(fit.time_s);
   const seLogT = jack(repFits.map((f) => (f.variance > 0 ? Math.log(f.time_s) : logT)));
   const clampT = (t: number) => Math.min(TIME_MAX_S, Math.max(TIME_MIN_S, t));
+  const clampF = (f: number) => Math.min(FORCE_MAX_N, Math.max(0, f));
   return {
-    sd_n: sd,
-    sd_ci95: [Math.max(0, sd - t975 * seSd), sd + t975 * seSd],
+    sd_n: clampF(sd),
+    sd_ci95: [clampF(sd - t975 * seSd), clampF(sd + t975 * seSd)],
     time_s: clampT(fit.time_s),
     time_ci95: [clampT(Math.exp(logT - t975 * seLogT)), clampT(Math.exp(logT + t975 * seLogT))],
     significant: true,
