@@ -357,7 +357,8 @@ export function fitExponentialAutocov(lagsS: ArrayLike<number>, gamma: ArrayLike
  * degrees of freedom (`t975`). The disturbance counts as present when the mean autocovariance
  * over the lags exceeds t975 of its jackknife errors; else the estimate is 0 and its interval
  * runs up to the square root of the lag-0 variance's upper limit (the disturbance cannot
- * carry more variance than the whole residual).
+ * carry more variance than the whole residual). `aboutMean`: the caller has centred each series
+ * on its own mean over the usable samples, and the fit allows for the low bias that gives.
  */
 export function estimateDisturbance(series: readonly Float64Array[], usable: Uint8Array, rateHz: number, lagsSamples: readonly number[], blocks: number, t975: number, aboutMean = false): DisturbanceFit {
   const n = usable.length;
