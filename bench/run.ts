@@ -59,7 +59,7 @@ async function single(names: string[]): Promise<void> {
     'arm-step-floor': () => benchArmStep(1_000_000, configNoZones()) as unknown as Record<string, unknown>,
     'arm-step-dense': () => benchArmStep(1_000_000, configDense()) as unknown as Record<string, unknown>,
   };
-  for (const [name, file, fn] of [['replay', './replay.js', 'benchReplay'], ['sim', './sim.js', 'benchSim'], ['families', './sim.js', 'benchFamilies'], ['issue8', './issue8-measure.js', 'benchIssue8'], ['adapter', './adapter.js', 'benchAdapter'], ['soak', './soak.js', 'benchSoak'], ['sweep', './sweep.js', 'benchSweep']] as const) {
+  for (const [name, file, fn] of [['replay', './replay.js', 'benchReplay'], ['sim', './sim.js', 'benchSim'], ['families', './sim.js', 'benchFamilies'], ['issue8', './issue8-measure.js', 'benchIssue8'], ['issue8-calibrated', './issue8-calibrated.js', 'benchIssue8Calibrated'], ['adapter', './adapter.js', 'benchAdapter'], ['soak', './soak.js', 'benchSoak'], ['sweep', './sweep.js', 'benchSweep']] as const) {
     const f = await optionalFn(file, fn);
     if (f) B[name] = () => (f as () => Promise<Record<string, unknown>>)();
   }

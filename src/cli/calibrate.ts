@@ -1,4 +1,4 @@
-/** `antiphon calibrate <bag> --params <file>`: sensor noise and bias from still periods, the coupling damping from the partner's corrections, each with a 95 % interval. */
+/** `antiphon calibrate <bag> --params <file>`: sensor noise and bias from still periods, the coupling damping from the partner's corrections and the correction band's slow disturbance from the coupling's residual, each with a 95 % interval. */
 import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
 import { cellFromFile } from '../params/config.js';
@@ -12,15 +12,21 @@ import { realPathOf, writeFileAtomic } from '../util/outdir.js';
 import { INPUT_LIMITS, readInputText } from '../util/read-input.js';
 import { printJson, printText, runCommand } from './common.js';
 
-/** Estimates that are parameters (written by --out); the rest are reported only. */
-const PARAMETER_KEYS = ['coupling.damping_n_s_m'];
+/**
+ * Estimates that are parameters (written by --out); the rest are reported only. The belief's
+ * disturbance keys must be equal on both arms (the belief's common knowledge needs the same
+ * likelihood scale): one estimate from one bag, written to every section that sets the key
+ * (else to `/**`), so they are. With no disturbance found, only disturbance_force_n (0) is written and
+ * disturbance_time_s stays as the file had it (it has no effect at 0 N).
+ */
+const PARAMETER_KEYS = ['coupling.damping_n_s_m', 'belief.disturbance_force_n', 'belief.disturbance_time_s'];
 
 const g = (v: number) => v.toPrecision(4);
 
 export function register(program: Command): void {
   program
     .command('calibrate')
-    .description('Estimate the wrist sensors\' noise and bias (still periods) and the coupling damping (partner corrections) from a recording, with 95 % intervals.')
+    .description('Estimate the wrist sensors\' noise and bias (still periods), the coupling damping (partner corrections) and the correction band\'s slow disturbance (the coupling\'s residual) from a recording, with 95 % intervals.')
     .argument('<bag>', 'a recording of the cell: both arms\' inputs')
     .requiredOption('--params <file>', 'the parameters file the cell ran with (replayed to the commands it ran)')
     .option('--out <file>', 'write the parameters file with only the estimated parameters changed, each with a comment')

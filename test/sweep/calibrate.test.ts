@@ -4,7 +4,8 @@
  * force axis and 0.02 N*m per torque axis, no sensor bias but the beam's weight share on z
  * (−m g / 2 with m = 2.4 kg, g = 9.80665 m/s², the standard gravity of ISO 80000-3), and tool-
  * point admittances of damping D, which give the coupling c = D / 2. The cell here runs with
- * D = 120 N*s/m (c = 60) while the parameters say 40, so the estimate cannot come from them.
+ * D = 120 N*s/m (c = 60) while the parameters say 40, so the estimate cannot come from them; and
+ * a correction-band disturbance of 0.5 N (Ornstein–Uhlenbeck, 0.2 s) on each wrist's x and y.
  */
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -92,13 +93,21 @@ describe('calibrate on a simulated bag with known values', () => {
     expect(est['coupling.damping_n_s_m']!.ci95[1] - est['coupling.damping_n_s_m']!.ci95[0]).toBeLessThan(D / 4);
   });
 
-  it('--out changes only coupling.damping_n_s_m, with a comment, and loads with check-config', async () => {
+  it('recovers the 0.5 N correction-band disturbance within its interval', () => {
+    inside('belief.disturbance_force_n', 0.5);
+    expect(est['belief.disturbance_time_s']!.value).toBeGreaterThan(0.1);
+  });
+
+  it('--out changes only coupling.damping_n_s_m and the two belief.disturbance keys, with comments, and loads with check-config', async () => {
     const base = readFileSync('config/demo_cell.yaml', 'utf8').split('\n');
     const out = readFileSync(join(dir, 'calibrated.yaml'), 'utf8').split('\n');
     expect(out.length).toBe(base.length);
     const changed = out.filter((l, k) => l !== base[k]);
-    expect(changed).toHaveLength(1);
-    expect(changed[0]).toMatch(/^\s+damping_n_s_m: [0-9.]+ {2}# calibrated from .*95 % interval/);
+    expect(changed).toHaveLength(3);
+    // In the file's order: belief before coupling.
+    expect(changed[0]).toMatch(/^\s+disturbance_force_n: [0-9.]+ {2}# calibrated from .*95 % interval/);
+    expect(changed[1]).toMatch(/^\s+disturbance_time_s: [0-9.]+ {2}# calibrated from .*95 % interval/);
+    expect(changed[2]).toMatch(/^\s+damping_n_s_m: [0-9.]+ {2}# calibrated from .*95 % interval/);
     resetLogging();
     expect((await runRegistered(checkConfig, 'check-config', [join(dir, 'calibrated.yaml')])).code).toBe(0);
   });
