@@ -24,7 +24,7 @@ import type { ArmConfig } from '../params/config.js';
 import { fitCoupling } from '../sim/calibrate.js';
 import type { EpisodeRecord } from '../sim/record.js';
 import { InputError } from '../util/errors.js';
-import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedBag } from './decoded.js';
+import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedBag } from './columns.js';
 import { ArmStep } from '../core/arm-step.js';
 
 export const STILL_WINDOW_S = 0.25;
