@@ -80,5 +80,7 @@ export function sharedBag(bag: DecodedBag): DecodedBag {
   });
   const order = put(bag.order);
   const index = put(bag.index);
-  return { path: bag.path, duration_s: bag.duration_s, t0s: bag.t0s, zoneCount: bag.zoneCount, count: bag.count, order, index, arms: { left: arm(bag.arms.left), right: arm(bag.arms.right) } };
+  // The same property order as decodeBag's (one object shape for the evaluators).
+  const arms = { left: arm(bag.arms.left), right: arm(bag.arms.right) };
+  return { path: bag.path, duration_s: bag.duration_s, t0s: bag.t0s, zoneCount: bag.zoneCount, arms, count: bag.count, order, index };
 }

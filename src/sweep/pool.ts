@@ -25,6 +25,8 @@ export interface BagWorkerInit {
   readonly share?: boolean;
   /** true: the decoded bags arrive in the setup message (BagSetup); false or absent: the worker decodes `bags` itself. */
   readonly sent?: boolean;
+  /** A candidate to warm the worker's JIT with (warmup.ts) while it waits for the bags. */
+  readonly warmup?: { readonly left: ArmConfig; readonly right: ArmConfig };
 }
 
 export interface BagJob {
@@ -136,6 +138,7 @@ export interface BagPoolOptions {
 export function startPool(n: number, init: BagWorkerInit, chunks: readonly BagChunk[], onResult: (id: number, m: CandidateMetrics) => void, options: BagPoolOptions = {}): PoolHandle {
   const { decode, inline = false } = options;
   if (inline && !decode) throw new Error('startPool: inline needs decode (this thread runs on the decoded bags)');
+  if (!chunks.every((c, k) => c.id === k)) throw new Error('startPool: chunk ids must be their positions 0 .. n-1 (as bagChunks numbers them)');
   const share = init.share ?? true;
   const claims = new Int32Array(new SharedArrayBuffer(4 * Math.max(1, chunks.length)));
   const workers: Worker[] = [];
@@ -163,26 +166,40 @@ export function startPool(n: number, init: BagWorkerInit, chunks: readonly BagCh
       resolve();
       return;
     }
-    const got = (r: ChunkResult): void => {
+    // Chunks with their results in (a chunk may be run twice: see `here`; the first result counts, both are the same).
+    const finishedChunk = new Uint8Array(chunks.length);
+    const got = (k: number, r: ChunkResult): void => {
+      if (finishedChunk[k]) return;
+      finishedChunk[k] = 1;
       for (const x of r.results) onResult(x.id, x.metrics);
       if (++finished === chunks.length) stopAll();
     };
     const spawn = inline ? Math.min(n - 1, chunks.length - 1) : Math.max(1, Math.min(n, chunks.length));
     const script = sweepWorkerScript();
     for (let i = 0; i < spawn; i++) {
-      const w = new Worker(script, { workerData: { ...init, sent: decode !== undefined } satisfies BagWorkerInit });
+      const w = new Worker(script, { workerData: { ...init, sent: decode !== undefined, ...(decode && chunks[0] ? { warmup: { left: chunks[0].jobs[0]!.left, right: chunks[0].jobs[0]!.right } } : {}) } satisfies BagWorkerInit });
       workers.push(w);
       w.on('message', (m: FromBagWorker) => {
         if (failed || stopped) return;
-        if (m.type === 'result') got(m.metrics);
+        if (m.type === 'result') got(m.id, m.metrics);
         else fail(new Error(`chunk ${m.id} failed in a worker: ${m.message}`));
       });
       w.on('error', fail);
     }
+    // This thread: claims chunks like a worker; once none is left, it runs the chunks still in a
+    // worker's hands too (a cold worker may hold the last one long), and the first result counts.
     const here = async (bags: readonly DecodedBag[]): Promise<void> => {
       const ev = new SharedEvaluator(bags, init.labels, init.tolerance_s, share);
       const seen = new Set<number>();
-      for (let k = claimChunk(claims, chunks, seen); k >= 0 && !stopped; k = claimChunk(claims, chunks, seen)) {
+      const ranHere = new Uint8Array(chunks.length);
+      const nextHere = (): number => {
+        const k = claimChunk(claims, chunks, seen);
+        if (k >= 0) return k;
+        for (let j = 0; j < chunks.length; j++) if (!finishedChunk[j] && !ranHere[j]) return j;
+        return -1;
+      };
+      for (let k = nextHere(); k >= 0 && !stopped; k = nextHere()) {
+        ranHere[k] = 1;
         let r: ChunkResult;
         try {
           r = { results: chunks[k]!.jobs.map((j) => ({ id: j.id, metrics: ev.metrics(j.left, j.right) })) };
@@ -191,7 +208,7 @@ export function startPool(n: number, init: BagWorkerInit, chunks: readonly BagCh
           return;
         }
         if (stopped) return;
-        got(r);
+        got(k, r);
         // Let the workers' results (and a SIGINT handler) in between chunks.
         await new Promise<void>((ok) => setImmediate(ok));
       }

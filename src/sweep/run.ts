@@ -169,7 +169,7 @@ export interface Threads {
  * a result.
  */
 export const FULL_RUN_NS_PER_MESSAGE = 340;
-export const POOL_OVERHEAD_S = 0.1;
+export const POOL_OVERHEAD_S = 0.3;
 
 /**
  * Threads for a sweep over bags: this thread and k - 1 workers (pool.ts `inline`), or this
