@@ -2,7 +2,7 @@
  * The worker pool of a sweep over bags (src/sweep/pool.ts): a worker handed the decoded bags
  * by the main thread (columns in SharedArrayBuffers) gives exactly the metrics of a worker that
  * decodes the bags itself, and both those of the evaluator run in this thread (the reference:
- * every candidate in full); a decoding failure fails the pool with the same error; the chunks
+ * every candidate in full), also after warming up on the made-up bag; a decoding failure fails the pool with the same error; the chunks
  * keep share groups together and the claims keep a group on one thread; the plan runs
  * small work in this thread. Needs the built workers (`npm run build`). Our own synthetic data:
  * demo bags of the kinematic cell with one knock each (test/sweep/helpers.ts).
@@ -21,6 +21,7 @@ import { bagChunks, claimChunk, startPool, type BagJob } from '../../src/sweep/p
 import { bagPlan } from '../../src/sweep/run.js';
 import { restKey, SharedEvaluator } from '../../src/sweep/share.js';
 import { candidateConfigs, loadSpace } from '../../src/sweep/space.js';
+import { warmupBag } from '../../src/sweep/warmup.js';
 import { InputError } from '../../src/util/errors.js';
 import { makeKnockBags } from './helpers.js';
 
@@ -51,10 +52,14 @@ beforeAll(async () => {
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 /** Every candidate's metrics from a pool of two threads, as text by index: two workers that decode, two handed the bags, or this thread and one worker handed them. */
-async function poolRun(share: boolean, mode: 'decode' | 'sent' | 'inline'): Promise<string[]> {
+async function poolRun(share: boolean, mode: 'decode' | 'sent' | 'inline' | 'late'): Promise<string[]> {
   const out: string[] = [];
   const chunks = bagChunks(jobs, 2, (j) => restKey(j.left, j.right), share);
-  const decode = async () => decoded.map(sharedBag);
+  // 'late': the bags arrive after 400 ms, so the workers warm up (warmup.ts) on the made-up bag first.
+  const decode = async () => {
+    if (mode === 'late') await new Promise((r) => setTimeout(r, 400));
+    return decoded.map(sharedBag);
+  };
   const options = mode === 'decode' ? {} : { decode, inline: mode === 'inline' };
   const pool = startPool(2, { bags, zoneNames, labels: perBag, tolerance_s: tolerance, share }, chunks, (i, m: CandidateMetrics) => (out[i] = JSON.stringify(m)), options);
   await pool.done;
@@ -71,8 +76,28 @@ describe('sweep worker pool', () => {
       expect(await poolRun(share, 'sent')).toEqual(ref);
       expect(await poolRun(share, 'decode')).toEqual(ref);
       expect(await poolRun(share, 'inline')).toEqual(ref);
+      expect(await poolRun(share, 'late')).toEqual(ref);
     }
   }, 300_000);
+
+  it('the warm-up bag is well formed: every row in order and in range, at the demo rates', () => {
+    const b = warmupBag(cell.left.config, 0.5);
+    const lens = (a: DecodedBag['arms']['left']) => [a.wrenchRel.length, a.jointRel.length, a.poseRel.length, a.zoneRel.length];
+    expect(lens(b.arms.left)).toEqual([500, 250, 50, 5]);
+    expect(lens(b.arms.right)).toEqual([500, 250, 50, 5]);
+    expect(b.count).toBe(2 * (500 + 250 + 50 + 5));
+    let last = -1;
+    for (let e = 0; e < b.count; e++) {
+      const a = b.order[e]! < 4 ? b.arms.left : b.arms.right;
+      const rel = [a.wrenchRel, a.jointRel, a.poseRel, a.zoneRel][b.order[e]! & 3]!;
+      expect(b.index[e]!).toBeLessThan(rel.length);
+      const t = rel[b.index[e]!]!;
+      expect(t).toBeGreaterThanOrEqual(last);
+      last = t;
+    }
+    expect(b.arms.left.zones.length).toBe(5 * b.zoneCount);
+    expect(b.arms.left.jointOffset[249]! + b.arms.left.jointCount[249]!).toBe(b.arms.left.jointVel.length);
+  });
 
   it('shared columns hold the same values in one SharedArrayBuffer', () => {
     const b = decoded[0]!;
