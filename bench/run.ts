@@ -162,6 +162,7 @@ async function all(quick: boolean, soakS: number): Promise<void> {
     fig('sweep.speedup_jobs_2', s['speedup_jobs_2'], 'x (jobs 1 time / jobs 2 time)', '20 candidates, shared');
     fig('sweep.speedup_jobs_2_unshared', s['speedup_jobs_2_unshared'], 'x (jobs 1 time / jobs 2 time)', '20 candidates, every one in full');
     fig('sweep.speedup_jobs_2_large', s['speedup_jobs_2_large'], 'x (jobs 1 time / jobs 2 time)', '40 candidates over two bags, shared');
+    fig('sweep.speedup_jobs_2_cli_cold_large', s['speedup_jobs_2_cli_cold_large'], 'x (jobs 1 time / jobs 2 time)', 'the same, a fresh antiphon sweep process per run');
   } else {
     fig('sweep.candidate_seconds_per_s', null, 's / simulated s', 'bench/sweep.ts does not exist on this branch (written with the sweep command)');
   }
