@@ -116,6 +116,24 @@ describe('sweep worker pool', () => {
     expect({ ...s, arms: null, order: null, index: null }).toEqual({ ...b, arms: null, order: null, index: null });
   });
 
+  it('stop ends the pool: done resolves and no result comes after it', async () => {
+    const chunks = bagChunks(jobs, 2, (j) => restKey(j.left, j.right), false);
+    let n = 0;
+    let after = 0;
+    let stopped = false;
+    const pool = startPool(2, { bags, zoneNames, labels: perBag, tolerance_s: tolerance, share: false }, chunks, () => {
+      if (stopped) after++;
+      if (++n === 1) {
+        stopped = true;
+        pool.stop();
+      }
+    }, { decode: async () => decoded.map(sharedBag), inline: true });
+    await pool.done;
+    await new Promise((r) => setTimeout(r, 300));
+    expect(n).toBeLessThan(jobs.length);
+    expect(after).toBe(0);
+  }, 60_000);
+
   it('a failed decode fails the pool with its own error', async () => {
     const err = new InputError({ code: 'test.decode', message: 'a bad message', where: { file: 'x' } });
     const chunks = bagChunks(jobs, 2, (j) => restKey(j.left, j.right));
