@@ -190,8 +190,8 @@ export function bagPlan(jobs: number, chunks: readonly BagChunk[], bags: readonl
   const est = `at least ${runs} full run${runs === 1 ? '' : 's'} over each bag (${messages} messages in all), about ${work.toFixed(2)} s on one core`;
   const pool = (why: string): Threads => ({ threads: k, workers: k - 1, reason: `${est}; ${why}` });
   if (force) return pool(`${k} threads (forced)`);
-  if (saved <= POOL_OVERHEAD_S * (k - 1)) return alone(`${est}: ${k} threads would save ${saved.toFixed(2)} s, no more than ${k - 1} worker start-up${k > 2 ? 's' : ''} (${POOL_OVERHEAD_S} s each)`);
-  return pool(`${k} threads save about ${saved.toFixed(2)} s`);
+  if (saved <= POOL_OVERHEAD_S * (k - 1)) return alone(`${est}: ${k} threads could save up to ${saved.toFixed(2)} s, no more than ${k - 1} worker start-up${k > 2 ? 's' : ''} (${POOL_OVERHEAD_S} s each)`);
+  return pool(`${k} threads could save up to ${saved.toFixed(2)} s`);
 }
 
 /** Validate everything, then run the shard's candidates. */
