@@ -158,6 +158,11 @@ async function all(quick: boolean, soakS: number): Promise<void> {
     const s = await (sweepFn as (q: boolean) => Promise<Record<string, unknown>>)(quick);
     raw['sweep'] = s;
     fig('sweep.candidate_seconds_per_s', s['candidate_seconds_per_s'], 's / simulated s');
+    fig('sweep.jobs_2.candidate_seconds_per_s', at(s, 'jobs_2.candidate_seconds_per_s'), 's / simulated s', '20 candidates, shared, --jobs 2 as the CLI runs it (this thread alone when the work is too small: bagPlan)');
+    fig('sweep.speedup_jobs_2', s['speedup_jobs_2'], 'x (jobs 1 time / jobs 2 time)', '20 candidates, shared');
+    fig('sweep.speedup_jobs_2_unshared', s['speedup_jobs_2_unshared'], 'x (jobs 1 time / jobs 2 time)', '20 candidates, every one in full');
+    fig('sweep.speedup_jobs_2_large', s['speedup_jobs_2_large'], 'x (jobs 1 time / jobs 2 time)', '40 candidates over two bags, shared');
+    fig('sweep.speedup_jobs_2_cli_cold_large', s['speedup_jobs_2_cli_cold_large'], 'x (jobs 1 time / jobs 2 time)', 'the same, a fresh antiphon sweep process per run');
   } else {
     fig('sweep.candidate_seconds_per_s', null, 's / simulated s', 'bench/sweep.ts does not exist on this branch (written with the sweep command)');
   }

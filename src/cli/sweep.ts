@@ -164,9 +164,10 @@ export function register(program: Command): void {
         }
         const chosen = doc.candidates.find((c) => c.index === doc.chosen);
         if (opts.json) {
-          printJson({ sweep_id: doc.sweep_id, shard: doc.shard, candidates: doc.candidates.length, resumed: run.resumed, chosen: doc.chosen, chosen_values: chosen?.values ?? null, chosen_metrics: chosen?.metrics ?? null, pareto: doc.pareto, roc_auc: doc.roc?.auc ?? null, wall_s: wall, out: opts.out ?? null, files });
+          printJson({ sweep_id: doc.sweep_id, shard: doc.shard, candidates: doc.candidates.length, resumed: run.resumed, chosen: doc.chosen, chosen_values: chosen?.values ?? null, chosen_metrics: chosen?.metrics ?? null, pareto: doc.pareto, roc_auc: doc.roc?.auc ?? null, wall_s: wall, threads: run.threads, out: opts.out ?? null, files });
         } else {
           const lines = [`sweep ${doc.sweep_id}: ${doc.candidates.length} candidates${doc.shard ? ` (shard ${doc.shard.index}/${doc.shard.count} of ${doc.candidates_total})` : ''}${run.resumed ? `, ${run.resumed} from the journal` : ''} in ${wall.toFixed(1)} s`];
+          if (jobs > 1) lines.push(`--jobs ${jobs}: ${run.threads.workers ? `${run.threads.threads} threads (${run.threads.workers} worker${run.threads.workers > 1 ? 's' : ''})` : 'in this thread'}: ${run.threads.reason}`);
           if (doc.shard) lines.push('a shard: join the shards with antiphon merge <dirs...> --out <dir> for the choice, tuned.yaml and the report');
           else if (chosen) lines.push(`chosen (${objective.name}): candidate ${chosen.index}: ${Object.entries(chosen.values).map(([k, v]) => `${k} = ${JSON.stringify(v)}`).join(', ')}`, `  ${metricsText(chosen.metrics)}`, `Pareto front: ${doc.pareto?.length ?? 0} candidates${doc.roc ? `; ROC area of ${doc.roc.key}: ${doc.roc.auc.toFixed(4)}` : ''}`);
           else lines.push(`no candidate is admissible under '${objective.name}' (each misses a labelled impact): nothing chosen`);

@@ -48,7 +48,7 @@ import { fitCoupling } from '../sim/calibrate.js';
 import type { EpisodeRecord } from '../sim/record.js';
 import { SPEC_BY_KEY } from '../params/schema.js';
 import { InputError } from '../util/errors.js';
-import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedBag } from './decoded.js';
+import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedBag } from './columns.js';
 import { ArmStep } from '../core/arm-step.js';
 
 export const STILL_WINDOW_S = 0.25;

@@ -16,44 +16,11 @@ import type { ArmName } from '../params/spec.js';
 import { Column } from '../replay/series.js';
 import { INPUT_KINDS, INPUT_TYPES, inputTopic, type InputKind } from '../ros/topics.js';
 import { InputError, type Problem } from '../util/errors.js';
+import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedArm, type DecodedBag } from './columns.js';
 
-/** Stream codes in `order`: arm (0 left, 1 right) * 4 + input kind (INPUT_KINDS order). */
-export const KIND_WRENCH = 0;
-export const KIND_JOINTS = 1;
-export const KIND_POSE = 2;
-export const KIND_ZONES = 3;
+export { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedArm, type DecodedBag } from './columns.js';
+
 const MAX_JOINTS = 64;
-
-export interface DecodedArm {
-  readonly arm: ArmName;
-  readonly present: { readonly [K in InputKind]: boolean };
-  readonly wrenchRel: Float64Array;
-  /** 6 per sample: fx fy fz tx ty tz (sensor frame). */
-  readonly wrench: Float64Array;
-  readonly poseRel: Float64Array;
-  /** 7 per pose: x y z qx qy qz qw. */
-  readonly pose: Float64Array;
-  readonly jointRel: Float64Array;
-  /** Per joint message: joints with a velocity (0: none measured) and where its velocities start in `jointVel`. */
-  readonly jointCount: Uint8Array;
-  readonly jointOffset: Uint32Array;
-  readonly jointVel: Float64Array;
-  readonly zoneRel: Float64Array;
-  /** Per zone view: one state per task zone (task order), ZONE_UNKNOWN for zones it does not name. */
-  readonly zones: Uint8Array;
-}
-
-export interface DecodedBag {
-  readonly path: string;
-  readonly duration_s: number;
-  /** Bag start, s since the epoch (as replay computes it). */
-  readonly t0s: number;
-  readonly zoneCount: number;
-  readonly arms: { readonly left: DecodedArm; readonly right: DecodedArm };
-  readonly count: number;
-  readonly order: Uint8Array;
-  readonly index: Uint32Array;
-}
 
 export interface BagInfo {
   readonly path: string;

@@ -21,9 +21,9 @@ import { ArmStep } from '../core/arm-step.js';
 import { CHECK } from '../core/watchdog.js';
 import type { ArmConfig } from '../params/config.js';
 import { percentile } from '../sim/measures.js';
-import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedArm, type DecodedBag } from './decoded.js';
-import { EARLY_S, type Label } from './labels.js';
-import { markFalseHold, rocBins, rocCounts } from './roc-bins.js';
+import { KIND_JOINTS, KIND_POSE, KIND_WRENCH, KIND_ZONES, type DecodedArm, type DecodedBag } from './columns.js';
+import type { Label } from './labels.js';
+import { EARLY_S, markFalseHold, rocBins, rocCounts } from './roc-bins.js';
 
 export interface BagCounts {
   readonly duration_s: number;

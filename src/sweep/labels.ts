@@ -30,8 +30,7 @@ import { parseYamlInput } from '../util/yaml.js';
 export const LABEL_KINDS = ['impact', 'push'] as const;
 export type LabelKind = (typeof LABEL_KINDS)[number];
 export const DEFAULT_TOLERANCE_S = 0.3;
-/** An impact flagged this long before the labelled time still counts (label clocks are coarse). */
-export const EARLY_S = 0.02;
+export { EARLY_S } from './roc-bins.js';
 
 export interface Label {
   /** Bag name as given (matched against each bag's last path component); null: the only bag. */

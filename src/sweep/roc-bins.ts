@@ -3,6 +3,10 @@
  * (evaluate.ts) and over simulated worlds (world-truth.ts): a bin is negative when no labelled
  * impact window overlaps it, and it counts as a false alarm when a false hold starts in it.
  */
+
+/** An impact flagged this long before the labelled time still counts (label clocks are coarse). */
+export const EARLY_S = 0.02;
+
 export interface RocBins {
   readonly bins: number;
   /** 1 where no impact window overlaps the bin. */

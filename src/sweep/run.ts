@@ -1,5 +1,5 @@
 /**
- * A sweep: the candidates of a space, run over bags (decoded once per worker) or over
+ * A sweep: the candidates of a space, run over bags (decoded once, by the main thread) or over
  * simulated worlds, each candidate's metrics stored by its index. Then the choice, the Pareto
  * front and the ROC (objective.ts), and the outputs (output.ts).
  *
@@ -21,12 +21,13 @@ import type { Family } from '../sim/family.js';
 import type { SimOptionsOverrides } from '../sim/options.js';
 import { worldSeed } from '../sim/world.js';
 import { InputError } from '../util/errors.js';
+import { sharedBag } from './columns.js';
 import { decodeBag, type BagInfo, type DecodedBag } from './decoded.js';
 import type { CandidateMetrics } from './evaluate.js';
 import { restKey, SharedEvaluator } from './share.js';
 import { bagName, type Label, type Labels } from './labels.js';
 import { choose, paretoFront, rocCurve, type CandidateResult, type Objective, type Roc } from './objective.js';
-import { bagChunks, startPool, startWorkerPool, sweepScript, type BagJob } from './pool.js';
+import { bagChunks, groupCount, startPool, startWorkerPool, sweepScript, type BagChunk, type BagJob } from './pool.js';
 import { metricsFromWorlds, runWorldJob, strategyOf, type WorldJob, type WorldRun, type WorldWorkerInit } from './worlds.js';
 import { candidateAt, candidateConfigs, type Space } from './space.js';
 
@@ -54,6 +55,8 @@ export interface SweepInput {
   readonly resume?: boolean;
   /** Over bags: share work across candidates where no result changes (share.ts; default true). false runs every candidate in full. */
   readonly share?: boolean;
+  /** Over bags with jobs > 1: use the worker pool even when the work looks too small to pay its start-up (bagPlan; tests and benchmarks). */
+  readonly forcePool?: boolean;
   readonly onProgress?: (done: number, total: number) => void;
   /** Set by the caller (SIGINT): stop after the candidates in flight. */
   readonly stopRequested?: () => boolean;
@@ -146,6 +149,49 @@ export interface SweepRun {
   readonly done: number;
   readonly total: number;
   readonly resumed: number;
+  /** How the candidates ran: on how many threads, how many of them workers (0: all in this thread), and why. Never changes a result. */
+  readonly threads: Threads;
+}
+
+export interface Threads {
+  /** Threads running candidates (this one included when it runs some). */
+  readonly threads: number;
+  /** Worker threads started. */
+  readonly workers: number;
+  readonly reason: string;
+}
+
+/**
+ * Estimated cost of a full run of one candidate, per message of a bag, on one core; and what
+ * a worker costs beyond the work it takes over (its start, its import and its cold JIT, not
+ * hidden behind this thread's decode). Measured with bench/sweep.ts on the development machine
+ * (DEVELOPERS.md); only the choice between threads and this thread alone hangs on them, never
+ * a result.
+ */
+export const FULL_RUN_NS_PER_MESSAGE = 340;
+export const POOL_OVERHEAD_S = 0.3;
+
+/**
+ * Threads for a sweep over bags: this thread and k - 1 workers (pool.ts `inline`), or this
+ * thread alone. The work they can split is at least one full run per share group and bag
+ * (every candidate when not shared); k threads save about (1 - 1 / k) of it, and workers are
+ * started only when that is more than their overhead.
+ */
+export function bagPlan(jobs: number, chunks: readonly BagChunk[], bags: readonly BagInfo[], share: boolean, force = false): Threads {
+  const alone = (reason: string): Threads => ({ threads: 1, workers: 0, reason });
+  if (jobs <= 1) return alone('jobs 1');
+  if (chunks.length === 0) return alone('nothing to run');
+  if (chunks.length === 1) return alone('one chunk of candidates');
+  const k = Math.min(jobs, chunks.length);
+  const runs = share ? groupCount(chunks) : chunks.reduce((s, c) => s + c.jobs.length, 0);
+  const messages = bags.reduce((s, b) => s + b.messages, 0);
+  const work = (runs * messages * FULL_RUN_NS_PER_MESSAGE) / 1e9;
+  const saved = work * (1 - 1 / k);
+  const est = `at least ${runs} full run${runs === 1 ? '' : 's'} over each bag (${messages} messages in all), about ${work.toFixed(2)} s on one core`;
+  const pool = (why: string): Threads => ({ threads: k, workers: k - 1, reason: `${est}; ${why}` });
+  if (force) return pool(`${k} threads (forced)`);
+  if (saved <= POOL_OVERHEAD_S * (k - 1)) return alone(`${est}: ${k} threads could save up to ${saved.toFixed(2)} s, no more than ${k - 1} worker start-up${k > 2 ? 's' : ''} (${POOL_OVERHEAD_S} s each)`);
+  return pool(`${k} threads could save up to ${saved.toFixed(2)} s`);
 }
 
 /** Validate everything, then run the shard's candidates. */
@@ -172,13 +218,25 @@ export async function runSweep(input: SweepInput): Promise<SweepRun> {
   };
   const stopRequested = input.stopRequested ?? (() => false);
   const data = input.data;
+  let threads: Threads = { threads: 1, workers: 0, reason: 'nothing to run' };
   if (data.kind === 'bags') {
     const zoneNames = configs.get(0)!.left.task.zones.map((z) => z.name);
-    if (input.jobs <= 1 || todo.length <= 1) {
+    const share = input.share ?? true;
+    const jobs: BagJob[] = todo.map((i) => ({ id: i, left: configs.get(i)!.left, right: configs.get(i)!.right }));
+    const chunks = bagChunks(jobs, input.jobs, (j) => restKey(j.left, j.right), share);
+    const plan = bagPlan(input.jobs, chunks, data.bags, share, input.forcePool ?? false);
+    threads = plan;
+    const decodeAll = async (shared: boolean): Promise<DecodedBag[]> => {
+      const out: DecodedBag[] = [];
+      for (const b of data.bags) {
+        const d = await decodeBag(b.path, zoneNames);
+        out.push(shared ? sharedBag(d) : d);
+      }
+      return out;
+    };
+    if (plan.threads === 1) {
       input.onStart?.(() => {});
-      const decoded: DecodedBag[] = [];
-      for (const b of data.bags) decoded.push(await decodeBag(b.path, zoneNames));
-      const ev = new SharedEvaluator(decoded, data.perBag, data.labels.tolerance_s, input.share ?? true);
+      const ev = new SharedEvaluator(await decodeAll(false), data.perBag, data.labels.tolerance_s, share);
       for (const i of todo) {
         if (stopRequested()) break;
         const c = configs.get(i)!;
@@ -187,9 +245,8 @@ export async function runSweep(input: SweepInput): Promise<SweepRun> {
         await new Promise<void>((r) => setImmediate(r));
       }
     } else {
-      const jobs: BagJob[] = todo.map((i) => ({ id: i, left: configs.get(i)!.left, right: configs.get(i)!.right }));
-      const chunks = bagChunks(jobs, input.jobs, (j) => restKey(j.left, j.right));
-      const pool = startPool(input.jobs, { bags: data.bags.map((b) => b.path), zoneNames, labels: data.perBag, tolerance_s: data.labels.tolerance_s, share: input.share ?? true }, chunks, (i, m) => record(i, m));
+      // The workers start (and import) while this thread decodes; they get the columns shared.
+      const pool = startPool(plan.threads, { bags: data.bags.map((b) => b.path), zoneNames, labels: data.perBag, tolerance_s: data.labels.tolerance_s, share }, chunks, (i, m) => record(i, m), { decode: () => decodeAll(true), inline: true });
       input.onStart?.(() => pool.stop());
       await pool.done;
     }
@@ -216,7 +273,9 @@ export async function runSweep(input: SweepInput): Promise<SweepRun> {
         record(j.candidate, metricsFromWorlds(runs.slice(first, first + W) as WorldRun[]));
       }
     };
-    if (input.jobs <= 1 || jobs.length <= 1) {
+    const w = Math.min(input.jobs, jobs.length);
+    threads = input.jobs <= 1 || jobs.length <= 1 ? { threads: 1, workers: 0, reason: input.jobs <= 1 ? 'jobs 1' : 'one episode' } : { threads: w, workers: w, reason: `jobs ${input.jobs}` };
+    if (threads.workers === 0) {
       input.onStart?.(() => {});
       const mj = await loadMujoco();
       for (const j of jobs) {
@@ -234,7 +293,7 @@ export async function runSweep(input: SweepInput): Promise<SweepRun> {
   const candidates: CandidateResult[] = indices.filter((i) => results.has(i)).map((i) => ({ index: i, values: candidateAt(space, i).values, metrics: results.get(i)! }));
   const interrupted = candidates.length < indices.length;
   const document = buildDocument({ id, shard: input.shard, space, baseText: input.baseText, basePath: input.base.path, data: dataDescription(data), objective: input.objective, candidates });
-  return { document, interrupted, done: candidates.length, total: indices.length, resumed };
+  return { document, interrupted, done: candidates.length, total: indices.length, resumed, threads };
 }
 
 export function buildDocument(a: { id: string; shard: Shard | null; space: Space; baseText: string; basePath: string; data: Record<string, unknown>; objective: Objective; candidates: readonly CandidateResult[] }): SweepDocument {

@@ -23,7 +23,7 @@
 import { WRENCH_ABS_MAX } from '../core/arm-step.js';
 import { WrenchFilter, type WrenchFilterConfig } from '../core/filter/index.js';
 import type { ArmConfig } from '../params/config.js';
-import { KIND_POSE, KIND_WRENCH, type DecodedArm, type DecodedBag } from './decoded.js';
+import { KIND_POSE, KIND_WRENCH, type DecodedArm, type DecodedBag } from './columns.js';
 import { evaluateBag, metricsFromBags, type BagCounts, type CandidateMetrics } from './evaluate.js';
 import type { Label } from './labels.js';
 

@@ -37,10 +37,11 @@ beforeAll(async () => {
 }, 120_000);
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-async function sweepJson(jobs: number, share: boolean): Promise<string> {
+async function sweepJson(jobs: number, share: boolean, forcePool = false): Promise<string> {
   const info = await inspectBags(bags);
   const lab = loadLabels(labels);
-  const r = await runSweep({ base: loadParamsFile('config/demo_cell.yaml'), baseText: readFileSync('config/demo_cell.yaml', 'utf8'), space: loadSpace(join(dir, 'space.yaml')), data: { kind: 'bags', bags: info, labels: lab, perBag: labelsPerBag(lab, info) }, objective: objectiveByName('safe'), jobs, shard: null, share });
+  const r = await runSweep({ base: loadParamsFile('config/demo_cell.yaml'), baseText: readFileSync('config/demo_cell.yaml', 'utf8'), space: loadSpace(join(dir, 'space.yaml')), data: { kind: 'bags', bags: info, labels: lab, perBag: labelsPerBag(lab, info) }, objective: objectiveByName('safe'), jobs, shard: null, share, forcePool });
+  if (forcePool) expect(r.threads).toMatchObject({ threads: 2, workers: 1 });
   return JSON.stringify(r.document);
 }
 
@@ -49,6 +50,9 @@ describe('work shared across candidates', () => {
     const full = await sweepJson(1, false);
     expect(await sweepJson(1, true)).toBe(full);
     expect(await sweepJson(2, true)).toBe(full);
+    // The worker pool itself (these short bags alone would run in this thread: bagPlan), shared and in full.
+    expect(await sweepJson(2, true, true)).toBe(full);
+    expect(await sweepJson(2, false, true)).toBe(full);
     // The comparison means something: some thresholds detect the knocks, some do not.
     const doc = JSON.parse(full);
     const missed = new Set(doc.candidates.map((c: any) => c.metrics.missed_impacts));

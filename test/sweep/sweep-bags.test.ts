@@ -100,6 +100,8 @@ describe('sweep over bags with knocks at known times', () => {
   it('sweep.json is the same with --jobs 2', async () => {
     const r = await sweep('--out', join(dir, 'out2'), '--jobs', '2');
     expect(r.code).toBe(0);
+    // It says how the candidates ran (threads or this thread, and why).
+    expect(r.stdout).toMatch(/--jobs 2: (2 threads \(1 worker\)|in this thread): at least \d+ full runs? over each bag \(\d+ messages in all\)/);
     expect(readFileSync(join(dir, 'out2', 'sweep.json'), 'utf8')).toBe(text1);
     expect(readFileSync(join(dir, 'out2', 'tuned.yaml'), 'utf8')).toBe(readFileSync(join(dir, 'out1', 'tuned.yaml'), 'utf8'));
   }, 300_000);
