@@ -64,6 +64,8 @@ const SUITES: Record<string, string[]> = {
   // The table is built when the module loads: every mutant there is static and reruns the suite.
   schema: ['test/params/schema-table.test.ts'],
   params: ['test/params/*.test.ts', 'test/hardening/param-ceilings.test.ts', 'test/review/params-*.test.ts'],
+  // The task's geometry and the velocity field: their unit tests and the path checks at load.
+  geometry: ['test/core/task-model*.test.ts', 'test/params/path.test.ts', 'test/params/task-geometry.test.ts'],
   core: ['test/core/roles*.test.ts', 'test/core/task-model*.test.ts', 'test/review/{legibility-mean,params-cross-arm,adaptive-common-knowledge}.test.ts'],
 };
 
