@@ -57,13 +57,15 @@ const SUITES: Record<string, string[]> = {
   policy: ['test/core/policy.test.ts', 'test/review/legibility-mean.test.ts'],
   // The arm step's inputs and tare gating: the quick review tests that drive an ArmStep (each
   // well under a second; the bit-identical restore run and the tare property are left out).
-  arm: ['test/review/{input-times,quaternion,joint-speed-unavailable,nan-time-spurious-trip,watchdog-time,wrench-gap,zone-view-input,zone-state-values,hold-link-deadlock,tare-pending-through-motion,pre-tare-gravity,startup-tare-hides-squeeze}.test.ts', 'test/core/arm-step-inputs.test.ts'],
+  arm: ['test/review/{input-times,quaternion,joint-speed-unavailable,nan-time-spurious-trip,watchdog-time,wrench-gap,zone-view-input,zone-state-values,hold-link-deadlock,tare-pending-through-motion,pre-tare-gravity,startup-tare-hides-squeeze}.test.ts', 'test/core/arm-step-inputs.test.ts', 'test/core/arm-step-input-faults.test.ts'],
   // test/core/belief.test.ts is left out: its long-run underflow test takes over a minute instrumented.
   belief: ['test/core/belief-api.test.ts', 'test/hardening/belief-forgetting.test.ts'],
   expect: ['test/replay/expect*.test.ts', 'test/hardening/expect-kinds.test.ts', 'test/review/expect-aliases.test.ts'],
   // The table is built when the module loads: every mutant there is static and reruns the suite.
   schema: ['test/params/schema-table.test.ts'],
   params: ['test/params/*.test.ts', 'test/hardening/param-ceilings.test.ts', 'test/review/params-*.test.ts'],
+  // The task's geometry and the velocity field: their unit tests and the path checks at load.
+  geometry: ['test/core/task-model*.test.ts', 'test/params/path.test.ts', 'test/params/task-geometry.test.ts'],
   core: ['test/core/roles*.test.ts', 'test/core/task-model*.test.ts', 'test/review/{legibility-mean,params-cross-arm,adaptive-common-knowledge}.test.ts'],
 };
 
